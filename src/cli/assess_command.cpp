@@ -1,0 +1,102 @@
+// lampwright assess: datasheet figures of measured or computed spectra.
+#include "cli_common.hpp"
+
+#include "lampwright/assessment.hpp"
+#include "lampwright/assessment_report.hpp"
+#include "lampwright/error.hpp"
+#include "lampwright/interpolation.hpp"
+#include "lampwright/spectrum_io.hpp"
+
+#include <boost/program_options.hpp>
+#include <fmt/format.h>
+
+#include <iostream>
+
+namespace po = boost::program_options;
+
+namespace lampwright::cli {
+
+namespace {
+
+const char* kAssessHelp = R"(Usage: lampwright assess [options] FILE...
+
+Computes, for every spectrum: CIE x, y and u', v'; CCT and Duv; CIE 13.3 colour rendering
+(Ra, R1-R14); luminous efficacy of radiation; peak, centroid, FWHM, dominant wavelength.
+
+FILE is a text table: wavelength in nm in the first column, one spectrum per further column
+(named by the header row, if any), separated by commas, semicolons, tabs or spaces; '#' starts a
+comment. It must cover at least 380-780 nm. '-' reads standard input.
+
+Exit status: 0 all inputs fine, 1 some input bad (the rest still reported), 2 usage error.
+
+Options)";
+
+}  // namespace
+
+int run_assess(int argc, char** argv) {
+    po::options_description opts(kAssessHelp);
+    std::string format = "text", observer = "2", cct_method = "ohno";
+    opts.add_options()("help,h", "show this help")
+        ("format,f", po::value(&format), "text | csv | json (default text)")
+        ("observer", po::value(&observer), "2 | 10: observer for x, y, u', v' (CCT and Ra always use 2°)")
+        ("cct-method", po::value(&cct_method), "ohno (Ohno 2014, default) | robertson (Robertson 1968)");
+    po::options_description hidden;
+    std::vector<std::string> files;
+    hidden.add_options()("file", po::value(&files));
+    po::options_description all;
+    all.add(opts).add(hidden);
+    po::positional_options_description pos;
+    pos.add("file", -1);
+    po::variables_map vm;
+    try {
+        po::store(po::command_line_parser(argc, argv).options(all).positional(pos).run(), vm);
+        po::notify(vm);
+    } catch (const po::error& e) {
+        throw UsageError{std::string("assess: ") + e.what()};
+    }
+    if (vm.count("help")) {
+        std::cout << opts << '\n';
+        return kExitOk;
+    }
+    const Format fmt_out = parse_format(format);
+    AssessOptions options;
+    if (observer == "2") options.observer = Observer::cie1931_2deg;
+    else if (observer == "10") options.observer = Observer::cie1964_10deg;
+    else throw UsageError{"--observer must be 2 or 10, not '" + observer + "'"};
+    if (cct_method == "ohno") options.cct_method = CctMethod::ohno2014;
+    else if (cct_method == "robertson") options.cct_method = CctMethod::robertson1968;
+    else throw UsageError{"--cct-method must be ohno or robertson, not '" + cct_method + "'"};
+    if (files.empty()) throw UsageError{"assess: no input file (use '-' for standard input); see lampwright assess --help"};
+
+    int status = kExitOk;
+    nlohmann::ordered_json json_out = nlohmann::ordered_json::array();
+    if (fmt_out == Format::csv) std::cout << csv_line(assessment_columns()) << '\n';
+    bool first = true;
+    for (const auto& file : files) {
+        SpectrumFile parsed;
+        try {
+            parsed = file == "-" ? parse_spectrum_text(std::cin, "stdin", "stdin") : read_spectrum_file(file);
+        } catch (const InputError& e) {
+            print_error(e.what());
+            status = kExitBadInput;
+            continue;
+        }
+        for (const auto& w : parsed.warnings) print_warning(w);
+        for (const auto& sampled : parsed.spectra) {
+            const Assessment a = assess(resample_to_1nm(sampled), options);
+            for (const auto& w : a.warnings) print_warning(fmt::format("{}: {}", a.name, w));
+            switch (fmt_out) {
+                case Format::text:
+                    std::cout << (first ? "" : "\n") << assessment_text(a);
+                    break;
+                case Format::csv: std::cout << csv_line(assessment_values(a)) << '\n'; break;
+                case Format::json: json_out.push_back(assessment_json(a)); break;
+            }
+            first = false;
+        }
+    }
+    if (fmt_out == Format::json) std::cout << json_out.dump(2) << '\n';
+    return status;
+}
+
+}  // namespace lampwright::cli

@@ -1,0 +1,54 @@
+// lampwright: the command-line front end. It parses, calls the library, and prints.
+#include "cli_common.hpp"
+
+#include "lampwright/error.hpp"
+
+#include <cstring>
+#include <exception>
+#include <iostream>
+#include <string>
+
+namespace {
+
+const char* kUsage = R"(lampwright - design and check phosphor-converted light sources
+
+Usage: lampwright COMMAND [options] ...
+
+Commands:
+  assess     colorimetry, CCT/Duv, CIE 13.3 colour rendering and efficacy of spectra
+
+Run 'lampwright COMMAND --help' for the options of a command.
+
+Safety: fluorescent lamps contain mercury; phosphor powders are a dust hazard; UV sources used
+to excite samples can injure eyes and skin. Follow local codes and licensed practice.
+)";
+
+}  // namespace
+
+int main(int argc, char** argv) {
+    using namespace lampwright::cli;
+    if (argc < 2) {
+        std::cerr << kUsage;
+        return kExitUsage;
+    }
+    const std::string command = argv[1];
+    if (command == "--help" || command == "-h" || command == "help") {
+        std::cout << kUsage;
+        return kExitOk;
+    }
+    try {
+        if (command == "assess") return run_assess(argc - 1, argv + 1);
+        print_error("unknown command '" + command + "'");
+        std::cerr << kUsage;
+        return kExitUsage;
+    } catch (const UsageError& e) {
+        print_error(e.message);
+        return kExitUsage;
+    } catch (const lampwright::InputError& e) {
+        print_error(e.what());
+        return kExitBadInput;
+    } catch (const std::exception& e) {
+        print_error(e.what());
+        return kExitBadInput;
+    }
+}

@@ -1,0 +1,41 @@
+#pragma once
+// Every figure a datasheet carries for one spectrum: colorimetry (CIE 15:2004), CCT and Duv
+// (Ohno 2014 or Robertson 1968), colour rendering (CIE 13.3-1995), luminous efficacy of
+// radiation and spectral shape figures.
+#include "lampwright/colorimetry.hpp"
+#include "lampwright/colour_rendering.hpp"
+#include "lampwright/spectral_features.hpp"
+#include "lampwright/spectrum.hpp"
+#include "lampwright/temperature.hpp"
+
+#include <optional>
+#include <string>
+#include <vector>
+
+namespace lampwright {
+
+struct AssessOptions {
+    // Observer for X, Y, Z, x, y, u', v'. CCT, Duv and colour rendering always use the CIE 1931
+    // 2-degree observer, as CIE 15:2004 and CIE 13.3 define them.
+    Observer observer = Observer::cie1931_2deg;
+    CctMethod cct_method = CctMethod::ohno2014;
+    bool spectral_features = true;
+};
+
+struct Assessment {
+    std::string name;
+    Observer observer = Observer::cie1931_2deg;
+    XYZ xyz;               // relative (k = 1), chosen observer
+    Chromaticity xy;       // chosen observer
+    UV uv_prime;           // CIE 1976 u', v', chosen observer
+    UV uv1960;             // CIE 1960 u, v, 2-degree observer
+    CctResult cct;         // 2-degree observer
+    std::optional<ColourRendering> rendering;  // present when the CCT is
+    double ler_lm_per_W = 0;
+    SpectralFeatures features;
+    std::vector<std::string> warnings;  // e.g. CIE 13.3 validity, no CCT
+};
+
+Assessment assess(const Spectrum& s, const AssessOptions& options = {});
+
+}  // namespace lampwright
