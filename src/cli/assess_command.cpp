@@ -40,24 +40,9 @@ int run_assess(int argc, char** argv) {
         ("format,f", po::value(&format), "text | csv | json (default text)")
         ("observer", po::value(&observer), "2 | 10: observer for x, y, u', v' (CCT and Ra always use 2°)")
         ("cct-method", po::value(&cct_method), "ohno (Ohno 2014, default) | robertson (Robertson 1968)");
-    po::options_description hidden;
     std::vector<std::string> files;
-    hidden.add_options()("file", po::value(&files));
-    po::options_description all;
-    all.add(opts).add(hidden);
-    po::positional_options_description pos;
-    pos.add("file", -1);
     po::variables_map vm;
-    try {
-        po::store(po::command_line_parser(argc, argv).options(all).positional(pos).run(), vm);
-        po::notify(vm);
-    } catch (const po::error& e) {
-        throw UsageError{std::string("assess: ") + e.what()};
-    }
-    if (vm.count("help")) {
-        std::cout << opts << '\n';
-        return kExitOk;
-    }
+    if (!parse_command_line(argc, argv, opts, "file", &files, vm, "assess")) return kExitOk;
     const Format fmt_out = parse_format(format);
     AssessOptions options;
     if (observer == "2") options.observer = Observer::cie1931_2deg;

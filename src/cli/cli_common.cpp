@@ -11,6 +11,38 @@ Format parse_format(const std::string& s) {
     throw UsageError{"--format must be text, csv or json, not '" + s + "'"};
 }
 
+const char* const kSafetyNotice =
+    "Safety: fluorescent lamps contain mercury (handle breakage and disposal as local rules require);\n"
+    "phosphor powders are a dust hazard (avoid inhaling; use extraction and a suitable mask);\n"
+    "UV sources used to excite samples injure eyes and skin (shield them, wear UV-rated eyewear);\n"
+    "lamp circuits carry mains voltage. Follow local codes and licensed practice.\n";
+
+bool parse_command_line(int argc, char** argv, const boost::program_options::options_description& visible,
+                        const std::string& positional, std::vector<std::string>* bare,
+                        boost::program_options::variables_map& vm, const std::string& command) {
+    namespace po = boost::program_options;
+    po::options_description all;
+    all.add(visible);
+    po::positional_options_description pos;
+    if (!positional.empty()) {
+        po::options_description hidden;
+        hidden.add_options()(positional.c_str(), po::value(bare));
+        all.add(hidden);
+        pos.add(positional.c_str(), -1);
+    }
+    try {
+        po::store(po::command_line_parser(argc, argv).options(all).positional(pos).run(), vm);
+        po::notify(vm);
+    } catch (const po::error& e) {
+        throw UsageError{command + ": " + e.what() + " (see lampwright " + command + " --help)"};
+    }
+    if (vm.count("help")) {
+        std::cout << visible << '\n';
+        return false;
+    }
+    return true;
+}
+
 void print_error(const std::string& message) { std::cerr << "lampwright: error: " << message << '\n'; }
 void print_warning(const std::string& message) { std::cerr << "lampwright: warning: " << message << '\n'; }
 

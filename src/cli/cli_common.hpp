@@ -1,7 +1,10 @@
 #pragma once
 // Shared pieces of the command-line front end: exit codes, output formats, messages.
+#include <boost/program_options.hpp>
+
 #include <iosfwd>
 #include <string>
+#include <vector>
 
 namespace lampwright::cli {
 
@@ -20,6 +23,17 @@ struct UsageError {
 void print_error(const std::string& message);
 void print_warning(const std::string& message);
 
+// Parses a sub-command's options; `positional` (may be empty) collects the bare arguments.
+// Returns false when --help was given (the help has been printed).
+bool parse_command_line(int argc, char** argv, const boost::program_options::options_description& visible,
+                        const std::string& positional, std::vector<std::string>* bare,
+                        boost::program_options::variables_map& vm, const std::string& command);
+
+// The usual cautions of the trade, printed by --help and beside results where they apply.
+extern const char* const kSafetyNotice;
+
 int run_assess(int argc, char** argv);
+int run_phosphors(int argc, char** argv);
+int run_blend(int argc, char** argv);
 
 }  // namespace lampwright::cli

@@ -16,11 +16,11 @@ Usage: lampwright COMMAND [options] ...
 
 Commands:
   assess     colorimetry, CCT/Duv, CIE 13.3 colour rendering and efficacy of spectra
+  phosphors  list the phosphor library
+  blend      predict the spectrum and figures of a phosphor blend recipe
 
 Run 'lampwright COMMAND --help' for the options of a command.
 
-Safety: fluorescent lamps contain mercury; phosphor powders are a dust hazard; UV sources used
-to excite samples can injure eyes and skin. Follow local codes and licensed practice.
 )";
 
 }  // namespace
@@ -33,11 +33,13 @@ int main(int argc, char** argv) {
     }
     const std::string command = argv[1];
     if (command == "--help" || command == "-h" || command == "help") {
-        std::cout << kUsage;
+        std::cout << kUsage << '\n' << kSafetyNotice;
         return kExitOk;
     }
     try {
         if (command == "assess") return run_assess(argc - 1, argv + 1);
+        if (command == "phosphors") return run_phosphors(argc - 1, argv + 1);
+        if (command == "blend") return run_blend(argc - 1, argv + 1);
         print_error("unknown command '" + command + "'");
         std::cerr << kUsage;
         return kExitUsage;

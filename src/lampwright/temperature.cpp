@@ -110,7 +110,8 @@ CctResult ohno(const UV& p) {
 }
 
 struct IsotemperatureLine {
-    double mired, u, v, slope;
+    double mired, u, v;
+    double tu, tv;  // unit tangent of the locus towards higher mired (the line's normal)
 };
 
 const std::vector<IsotemperatureLine>& robertson_lines() {
@@ -123,8 +124,11 @@ const std::vector<IsotemperatureLine>& robertson_lines() {
             const UV p = planck_uv_mired(m);
             const double h = 0.01;
             const UV a = planck_uv_mired(m > 0 ? m - h : m), b = planck_uv_mired(m + h);
-            // Isotemperature lines are normal to the locus in CIE 1960 uv: slope = -du/dv.
-            out.push_back({m, p.u, p.v, -(b.u - a.u) / (b.v - a.v)});
+            // Isotemperature lines are normal to the locus in CIE 1960 uv. Robertson's slope -du/dv
+            // becomes infinite where v peaks (about 617 mired) and its sign convention flips there,
+            // so the line is kept as the locus tangent, oriented towards higher mired.
+            const double len = std::hypot(b.u - a.u, b.v - a.v);
+            out.push_back({m, p.u, p.v, (b.u - a.u) / len, (b.v - a.v) / len});
         }
         return out;
     }();
@@ -136,7 +140,8 @@ CctResult robertson(const UV& p) {
     double d_prev = 0;
     for (std::size_t i = 0; i < lines.size(); ++i) {
         const auto& L = lines[i];
-        const double d = ((p.v - L.v) - L.slope * (p.u - L.u)) / std::sqrt(1 + L.slope * L.slope);
+        // Signed distance from the isotemperature line (Robertson's d_i, with one orientation throughout).
+        const double d = (p.u - L.u) * L.tu + (p.v - L.v) * L.tv;
         if (i > 0 && (d == 0 || d / d_prev < 0)) {
             const auto& P = lines[i - 1];
             const double mired = P.mired + (L.mired - P.mired) * d_prev / (d_prev - d);

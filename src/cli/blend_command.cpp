@@ -1,0 +1,61 @@
+// lampwright blend: the spectrum and figures of a phosphor blend recipe.
+#include "cli_common.hpp"
+
+#include "lampwright/assessment_report.hpp"
+#include "lampwright/blend_report.hpp"
+#include "lampwright/recipe.hpp"
+#include "lampwright/spectrum_io.hpp"
+
+#include <fmt/format.h>
+
+#include <fstream>
+#include <iostream>
+
+namespace po = boost::program_options;
+
+namespace lampwright::cli {
+
+int run_blend(int argc, char** argv) {
+    po::options_description opts(std::string(R"(Usage: lampwright blend [options] RECIPE.toml
+
+Predicts the light of a phosphor blend: mass fractions -> shares of the absorbed excitation ->
+emitted spectrum, then every figure of 'assess' plus per-phosphor shares, quantum yield, Stokes
+efficiency, radiant efficiency and efficacy per W of absorbed excitation. See README, "Blend physics".
+
+)") + kSafetyNotice + "\nOptions");
+    std::string format = "text", spectrum_out;
+    std::vector<std::string> folders, recipes;
+    opts.add_options()("help,h", "show this help")("format,f", po::value(&format), "text | csv | json (default text)")
+        ("spectrum-out", po::value(&spectrum_out), "write the blend spectrum (W/nm per W absorbed) as wavelength_nm,value CSV")
+        ("phosphors", po::value(&folders), "a folder of your own phosphor files (*.toml); repeatable");
+    po::variables_map vm;
+    if (!parse_command_line(argc, argv, opts, "recipe", &recipes, vm, "blend")) return kExitOk;
+    const Format f = parse_format(format);
+    if (recipes.size() != 1) throw UsageError{"blend: give exactly one recipe file (see lampwright blend --help)"};
+
+    const Recipe recipe = load_recipe(recipes.front(), folders);
+    BlendResult result;
+    try {
+        result = evaluate_blend(recipe.blend);
+    } catch (const InputError&) {
+        throw;
+    } catch (const Error& e) {
+        throw InputError(recipe.path, 0, e.what());
+    }
+    for (const auto& w : result.assessment.warnings) print_warning(fmt::format("{}: {}", result.name, w));
+    if (!spectrum_out.empty()) {
+        std::ofstream out(spectrum_out);
+        if (!out) throw InputError(spectrum_out, 0, "cannot be written");
+        write_spectrum_csv(out, result.spectrum, "value");
+    }
+    switch (f) {
+        case Format::text: std::cout << blend_text(result, recipe.blend); break;
+        case Format::csv:
+            std::cout << csv_line(blend_columns(result)) << '\n' << csv_line(blend_values(result)) << '\n';
+            break;
+        case Format::json: std::cout << blend_json(result, recipe.blend).dump(2) << '\n'; break;
+    }
+    return kExitOk;
+}
+
+}  // namespace lampwright::cli
