@@ -35,5 +35,6 @@ extern const char* const kSafetyNotice;
 int run_assess(int argc, char** argv);
 int run_phosphors(int argc, char** argv);
 int run_blend(int argc, char** argv);
+int run_fit(int argc, char** argv);
 
 }  // namespace lampwright::cli

@@ -18,6 +18,7 @@ Commands:
   assess     colorimetry, CCT/Duv, CIE 13.3 colour rendering and efficacy of spectra
   phosphors  list the phosphor library
   blend      predict the spectrum and figures of a phosphor blend recipe
+  fit        solve a recipe's mass fractions for a target white
 
 Run 'lampwright COMMAND --help' for the options of a command.
 
@@ -40,6 +41,7 @@ int main(int argc, char** argv) {
         if (command == "assess") return run_assess(argc - 1, argv + 1);
         if (command == "phosphors") return run_phosphors(argc - 1, argv + 1);
         if (command == "blend") return run_blend(argc - 1, argv + 1);
+        if (command == "fit") return run_fit(argc - 1, argv + 1);
         print_error("unknown command '" + command + "'");
         std::cerr << kUsage;
         return kExitUsage;
