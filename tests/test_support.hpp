@@ -111,15 +111,17 @@ inline lampwright::UV off_locus(double temperature_K, double duv) {
     return {p.u + duv * nu, p.v + duv * nv};
 }
 
-// CCT by brute force: minimise the CIE 1960 uv distance to planck_uv(T) over T, first on a dense
-// grid in ln T, then by golden-section search. Independent of the library's Ohno and Robertson code.
+// CCT by brute force: minimise the CIE 1960 uv distance to planck_uv(T) over T, first on a grid of
+// 6 % steps in T, then by golden-section search inside the bracket of the best grid point (the
+// distance is unimodal along the locus within |Duv| <= 0.05). Independent of the library's Ohno
+// and Robertson code; relies only on planck_uv().
 inline double brute_force_cct(const lampwright::UV& p, double t_min = 900.0, double t_max = 120000.0) {
     auto d2 = [&](double ln_t) {
         const lampwright::UV q = lampwright::planck_uv(std::exp(ln_t));
         return (q.u - p.u) * (q.u - p.u) + (q.v - p.v) * (q.v - p.v);
     };
     const double a = std::log(t_min), b = std::log(t_max);
-    constexpr int kGrid = 400;
+    constexpr int kGrid = 80;
     double best = a, best_d = d2(a);
     for (int i = 1; i <= kGrid; ++i) {
         const double t = a + (b - a) * i / kGrid;
@@ -134,7 +136,7 @@ inline double brute_force_cct(const lampwright::UV& p, double t_min = 900.0, dou
     const double g = (std::sqrt(5.0) - 1) / 2;
     double c = hi - g * (hi - lo), d = lo + g * (hi - lo);
     double fc = d2(c), fd = d2(d);
-    for (int i = 0; i < 60; ++i) {
+    for (int i = 0; i < 45; ++i) {
         if (fc < fd) {
             hi = d;
             d = c;

@@ -68,7 +68,14 @@ int run_assess(int argc, char** argv) {
         }
         for (const auto& w : parsed.warnings) print_warning(w);
         for (const auto& sampled : parsed.spectra) {
-            const Assessment a = assess(resample_to_1nm(sampled), options);
+            Assessment a;
+            try {
+                a = assess(resample_to_1nm(sampled), options);
+            } catch (const Error& e) {
+                print_error(fmt::format("{}: spectrum '{}': {}", file == "-" ? "stdin" : file, sampled.name, e.what()));
+                status = kExitBadInput;
+                continue;
+            }
             for (const auto& w : a.warnings) print_warning(fmt::format("{}: {}", a.name, w));
             switch (fmt_out) {
                 case Format::text:

@@ -36,5 +36,7 @@ int run_assess(int argc, char** argv);
 int run_phosphors(int argc, char** argv);
 int run_blend(int argc, char** argv);
 int run_fit(int argc, char** argv);
+int run_layer(int argc, char** argv);
+int run_compare(int argc, char** argv);
 
 }  // namespace lampwright::cli

@@ -19,6 +19,8 @@ Commands:
   phosphors  list the phosphor library
   blend      predict the spectrum and figures of a phosphor blend recipe
   fit        solve a recipe's mass fractions for a target white
+  layer      model a phosphor conversion layer on a UV/violet LED
+  compare    layer designs, recipes and spectra side by side
 
 Run 'lampwright COMMAND --help' for the options of a command.
 
@@ -42,6 +44,8 @@ int main(int argc, char** argv) {
         if (command == "phosphors") return run_phosphors(argc - 1, argv + 1);
         if (command == "blend") return run_blend(argc - 1, argv + 1);
         if (command == "fit") return run_fit(argc - 1, argv + 1);
+        if (command == "layer") return run_layer(argc - 1, argv + 1);
+        if (command == "compare") return run_compare(argc - 1, argv + 1);
         print_error("unknown command '" + command + "'");
         std::cerr << kUsage;
         return kExitUsage;

@@ -1,27 +1,24 @@
 #include "lampwright/assessment.hpp"
 
+#include "lampwright/error.hpp"
+
 #include <fmt/format.h>
 
 #include <array>
 
 namespace lampwright {
 
-Assessment assess(const Spectrum& s, const AssessOptions& options) {
+Assessment assess_from_tristimuli(const SampleTristimuli& tri, double radiant, CctMethod method) {
     Assessment a;
-    a.name = s.name;
-    a.observer = options.observer;
-    std::array<double, kColourSize> values;
-    colour_range_values(s, values.data());
-
-    const SampleTristimuli tri = cie133_tristimuli(values.data());
     const XYZ xyz2{tri[0], tri[1], tri[2]};
-    a.xyz = options.observer == Observer::cie1931_2deg ? xyz2 : tristimulus_colour_range(values.data(), options.observer);
+    if (!(xyz2.X + xyz2.Y + xyz2.Z > 0) || !(xyz2.Y > 0))
+        throw Error("the spectrum has no visible power in 360-830 nm: no chromaticity can be computed");
+    a.xyz = xyz2;
     a.xy = chromaticity(a.xyz);
     a.uv_prime = uv_1976(a.xyz);
     a.uv1960 = uv_1960(xyz2);
-    a.ler_lm_per_W = kKm * xyz2.Y / radiant_integral(s);
-
-    a.cct = correlated_colour_temperature(a.uv1960, options.cct_method);
+    a.ler_lm_per_W = kKm * xyz2.Y / radiant;
+    a.cct = correlated_colour_temperature(a.uv1960, method);
     if (a.cct.valid) {
         a.rendering = colour_rendering_from_tristimuli(tri, a.cct.cct_K);
         if (!a.rendering->within_validity())
@@ -31,7 +28,22 @@ Assessment assess(const Spectrum& s, const AssessOptions& options) {
     } else {
         a.warnings.push_back(a.cct.problem + "; colour rendering not computed");
     }
-    if (options.spectral_features) a.features = spectral_features(s, chromaticity(xyz2));
+    return a;
+}
+
+Assessment assess(const Spectrum& s, const AssessOptions& options) {
+    std::array<double, kColourSize> values;
+    colour_range_values(s, values.data());
+    const SampleTristimuli tri = cie133_tristimuli(values.data());
+    Assessment a = assess_from_tristimuli(tri, radiant_integral(s), options.cct_method);
+    a.name = s.name;
+    a.observer = options.observer;
+    if (options.observer != Observer::cie1931_2deg) {
+        a.xyz = tristimulus_colour_range(values.data(), options.observer);
+        a.xy = chromaticity(a.xyz);
+        a.uv_prime = uv_1976(a.xyz);
+    }
+    if (options.spectral_features) a.features = spectral_features(s, chromaticity(XYZ{tri[0], tri[1], tri[2]}));
     return a;
 }
 

@@ -36,6 +36,12 @@ struct Assessment {
     std::vector<std::string> warnings;  // e.g. CIE 13.3 validity, no CCT
 };
 
+// Throws lampwright::Error when the spectrum has no visible power (no chromaticity exists).
 Assessment assess(const Spectrum& s, const AssessOptions& options = {});
+
+// The figures that follow from the CIE 13.3 sample tristimuli (cie133_tristimuli) and the radiant
+// integral alone: colorimetry with the 2-degree observer, CCT, Duv, colour rendering and LER; no
+// spectral features. assess() uses it; so does the blend optimiser, whose blends are linear in both.
+Assessment assess_from_tristimuli(const SampleTristimuli& tri, double radiant_integral, CctMethod method = CctMethod::ohno2014);
 
 }  // namespace lampwright

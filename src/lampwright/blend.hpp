@@ -23,6 +23,9 @@ struct BlendComponent {
     double mass_fraction = 0;              // any positive scale; normalised by the model
     std::optional<double> absorption;      // overrides the phosphor's data at the excitation
     std::optional<double> quantum_efficiency;
+    // Limits on the normalised mass fraction for the blend optimiser (recipe keys min_fraction,
+    // max_fraction); evaluate_blend ignores them.
+    std::optional<double> min_fraction, max_fraction;
 };
 
 struct BlendInput {
@@ -65,6 +68,23 @@ struct BlendResult {
     double pump_leak_W_per_W = 0;           // LED: leaked pump power per W absorbed
     Assessment assessment;                  // of `spectrum`
 };
+
+// The blend's light is linear in the photon shares s (README "Blend physics"): spectrum =
+// sum_i s_i light_i. The basis holds each component's part per unit share, computed once, so
+// that a fit can vary the fractions without re-deriving the emission.
+struct BlendBasis {
+    std::vector<double> absorption;          // a_i, relative, at the excitation
+    std::vector<double> quantum_efficiency;  // QE_i
+    std::vector<double> stokes_efficiency;   // mean emitted photon energy / exciting photon energy
+    std::vector<Spectrum> phosphor_light;    // W/nm per W absorbed when s_i = 1
+    std::vector<Spectrum> light;             // the same plus its share of the mercury lines / leaked pump
+    double mercury_line_fraction = 0;        // as applied
+    double pump_leak_W_per_W = 0;
+};
+// Throws Error for an impossible blend (as evaluate_blend; the fractions are not looked at).
+BlendBasis blend_basis(const BlendInput& input);
+// s_i = w_i a_i / sum_j w_j a_j for normalised mass fractions w; throws Error when nothing absorbs.
+std::vector<double> photon_shares(const BlendBasis& basis, const std::vector<double>& mass_fractions);
 
 // Evaluates the blend. Throws Error for an impossible blend (no components, non-positive
 // fractions, Stokes rule broken, excitation outside a phosphor's data).

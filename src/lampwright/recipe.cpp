@@ -12,11 +12,6 @@ namespace lampwright {
 
 namespace {
 
-std::string relative_to(const std::string& base_file, const std::string& path) {
-    const std::filesystem::path p(path);
-    if (p.is_absolute()) return path;
-    return (std::filesystem::path(base_file).parent_path() / p).string();
-}
 
 Excitation parse_excitation(const TomlDoc& doc) {
     const auto& r = doc.root();
@@ -45,15 +40,6 @@ Excitation parse_excitation(const TomlDoc& doc) {
     return Excitation::led(peak, fwhm);
 }
 
-// A TOML basic string with the characters escaped that must be.
-std::string toml_quote(const std::string& s) {
-    std::string o = "\"";
-    for (char ch : s) {
-        if (ch == '"' || ch == '\\') o += '\\';
-        o += ch;
-    }
-    return o + "\"";
-}
 
 }  // namespace
 
@@ -78,7 +64,7 @@ Recipe recipe_from_toml(const TomlDoc& doc, const std::vector<std::string>& extr
         if (!(*f > 0 && *f <= 1)) doc.fail(r.get("absorbed_fraction"), "absorbed_fraction", fmt::format("must lie in (0, 1], not {:g}", *f));
         rec.blend.absorbed_fraction = *f;
     }
-    for (const auto& folder : doc.strings(r, "phosphor_folders", "")) rec.phosphor_folders.push_back(relative_to(doc.source(), folder));
+    for (const auto& folder : doc.strings(r, "phosphor_folders", "")) rec.phosphor_folders.push_back(path_relative_to(doc.source(), folder));
     rec.phosphor_folders.insert(rec.phosphor_folders.end(), extra_folders.begin(), extra_folders.end());
     const PhosphorLibrary library = rec.phosphor_folders.empty() ? PhosphorLibrary::builtin() : PhosphorLibrary::with_folders(rec.phosphor_folders);
 
@@ -105,7 +91,7 @@ Recipe recipe_from_toml(const TomlDoc& doc, const std::vector<std::string>& extr
             }
             bc.label = bc.phosphor.id;
         } else {
-            const std::string path = relative_to(doc.source(), *spectrum);
+            const std::string path = path_relative_to(doc.source(), *spectrum);
             SpectrumReadOptions opt;
             opt.check_range = false;
             SpectrumFile f;
@@ -134,6 +120,16 @@ Recipe recipe_from_toml(const TomlDoc& doc, const std::vector<std::string>& extr
             bc.quantum_efficiency = *q;
         }
         if (auto label = doc.string(*c, "label", where)) bc.label = *label;
+        for (const char* key : {"min_fraction", "max_fraction"}) {
+            if (const auto v = doc.number(*c, key, where)) {
+                if (*v < 0 || *v > 1)
+                    doc.fail(c->get(key), key_path(where, key), fmt::format("must be a fraction in [0, 1], not {:g} (percent?)", *v));
+                (std::string(key) == "min_fraction" ? bc.min_fraction : bc.max_fraction) = *v;
+            }
+        }
+        if (bc.min_fraction && bc.max_fraction && *bc.min_fraction > *bc.max_fraction)
+            doc.fail(c->get("min_fraction"), key_path(where, "min_fraction"),
+                     fmt::format("{:g} is above max_fraction {:g}", *bc.min_fraction, *bc.max_fraction));
         // Check the excitation against this phosphor's data now, so the error names the line.
         try {
             if (!bc.absorption) (void)absorption_for(bc.phosphor, rec.blend.excitation);
@@ -166,15 +162,19 @@ std::string recipe_to_toml(const BlendInput& b, const std::vector<std::string>& 
         o += fmt::format("\n[pump]\npeak_nm = {:g}\nfwhm_nm = {:g}\n", b.excitation.peak_nm, b.excitation.fwhm_nm);
     for (const auto& c : b.components) {
         o += "\n[[component]]\n";
-        if (c.phosphor.emission_model == "measured") {
-            o += fmt::format("spectrum = {}\n", toml_quote(c.phosphor.origin));
+        // An inline 'spectrum' component (no QE data of its own; a phosphor file always has some).
+        // Its path is written absolute so the recipe loads from any folder.
+        if (c.phosphor.emission_model == "measured" && !c.phosphor.qe_254nm && !c.phosphor.qe_365_405nm) {
+            o += fmt::format("spectrum = {}\n", toml_quote(std::filesystem::absolute(c.phosphor.origin).lexically_normal().string()));
         } else {
             o += fmt::format("phosphor = {}\n", toml_quote(c.phosphor.id));
         }
         if (c.label != c.phosphor.id) o += fmt::format("label = {}\n", toml_quote(c.label));
-        o += fmt::format("mass_fraction = {:.6f}\n", c.mass_fraction);
+        o += fmt::format("mass_fraction = {}\n", c.mass_fraction);  // shortest form that reads back exactly
         if (c.absorption) o += fmt::format("absorption = {:g}\n", *c.absorption);
         if (c.quantum_efficiency) o += fmt::format("quantum_efficiency = {:g}\n", *c.quantum_efficiency);
+        if (c.min_fraction) o += fmt::format("min_fraction = {:g}\n", *c.min_fraction);
+        if (c.max_fraction) o += fmt::format("max_fraction = {:g}\n", *c.max_fraction);
     }
     return o;
 }

@@ -60,7 +60,9 @@ CctResult finish(double t, double duv) {
         r.problem = fmt::format("the chromaticity is {:.4f} from the Planckian locus (more than {:.2f} in uv): no CCT", duv, kCctMaxDuv);
         return r;
     }
-    if (t < kCctMinK * (1 - 1e-9) || t > kCctMaxK * (1 + 1e-9)) {
+    // Tolerance 1e-5: the methods' own error (about 1e-6 relative for the 0.1 % Ohno table) must not
+    // push a chromaticity at exactly 1000 K or 100000 K out of the range.
+    if (t < kCctMinK * (1 - 1e-5) || t > kCctMaxK * (1 + 1e-5)) {
         r.problem = fmt::format("the CCT would be {:.0f} K, outside {:.0f}-{:.0f} K", t, kCctMinK, kCctMaxK);
         return r;
     }

@@ -10,6 +10,25 @@
 
 namespace lampwright {
 
+std::string toml_quote(const std::string& s) {
+    std::string o = "\"";
+    for (char ch : s) {
+        const auto u = static_cast<unsigned char>(ch);
+        if (ch == '"' || ch == '\\') o += '\\';
+        if (ch == '\n') o += "\\n";
+        else if (ch == '\r') o += "\\r";
+        else if (ch == '\t') o += "\\t";
+        else if (u < 0x20 || u == 0x7f) o += fmt::format("\\u{:04X}", static_cast<unsigned>(u));
+        else o += ch;
+    }
+    return o + "\"";
+}
+
+std::string path_relative_to(const std::string& base_file, const std::string& path) {
+    const std::filesystem::path p(path);
+    return p.is_absolute() ? path : (std::filesystem::path(base_file).parent_path() / p).string();
+}
+
 std::string key_path(const std::string& where, const std::string& key) { return where.empty() ? key : where + "." + key; }
 
 TomlDoc::TomlDoc(const std::string& text, std::string source) : source_(std::move(source)) {

@@ -45,6 +45,12 @@ private:
 // The whole content of a file; InputError when it cannot be read.
 std::string read_text_file(const std::string& path);
 
+// A TOML basic string, quoted, with quote, backslash and control characters escaped.
+std::string toml_quote(const std::string& s);
+
+// A path written in a file, resolved against that file's folder (absolute paths unchanged).
+std::string path_relative_to(const std::string& base_file, const std::string& path);
+
 std::string key_path(const std::string& where, const std::string& key);
 
 }  // namespace lampwright

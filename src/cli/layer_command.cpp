@@ -1,0 +1,66 @@
+// lampwright layer: the light of a phosphor conversion layer on a UV/violet LED.
+#include "cli_common.hpp"
+
+#include "lampwright/assessment_report.hpp"
+#include "lampwright/layer_design.hpp"
+#include "lampwright/layer_report.hpp"
+#include "lampwright/spectrum_io.hpp"
+
+#include <fmt/format.h>
+
+#include <fstream>
+#include <iostream>
+
+namespace po = boost::program_options;
+
+namespace lampwright::cli {
+
+int run_layer(int argc, char** argv) {
+    po::options_description opts(std::string(R"(Usage: lampwright layer [options] DESIGN.toml
+
+Models a phosphor conversion layer on a UV/violet LED: Beer-Lambert pump absorption, re-absorption
+between phosphors (solved as one linear system), thermal quenching and peak shift. Prints the
+output at 25 degC and at the operating temperature, the colour shift between them in MacAdam
+steps, pump leakage, conversion efficiency, the energy and photon balance, and every 'assess'
+figure. See README, "LED layer physics".
+
+UV and violet leakage is a photobiological hazard: assess products to IEC 62471 and follow
+local codes and licensed practice.
+
+)") + "Options");
+    std::string format = "text", spectrum_out;
+    std::vector<std::string> folders, designs;
+    opts.add_options()("help,h", "show this help")("format,f", po::value(&format), "text | csv | json (default text)")
+        ("spectrum-out", po::value(&spectrum_out), "write the output spectrum (W/nm at the operating temperature) as CSV")
+        ("phosphors", po::value(&folders), "a folder of your own phosphor files (*.toml); repeatable");
+    po::variables_map vm;
+    if (!parse_command_line(argc, argv, opts, "design", &designs, vm, "layer")) return kExitOk;
+    const Format f = parse_format(format);
+    if (designs.size() != 1) throw UsageError{"layer: give exactly one design file (see lampwright layer --help)"};
+
+    const LayerDesign design = load_layer_design(designs.front(), folders);
+    LayerReport rep;
+    try {
+        rep = layer_report(design);
+    } catch (const InputError&) {
+        throw;
+    } catch (const Error& e) {
+        throw InputError(designs.front(), 0, e.what());
+    }
+    for (const auto& w : rep.operating.assessment.warnings) print_warning(fmt::format("{}: {}", design.name, w));
+    const std::string caution = layer_caution(rep);
+    if (!caution.empty() && f != Format::text) std::cerr << "lampwright: CAUTION: " << caution << '\n';
+    if (!spectrum_out.empty()) {
+        std::ofstream out(spectrum_out);
+        if (!out) throw InputError(spectrum_out, 0, "cannot be written");
+        write_spectrum_csv(out, rep.operating.spectrum, "value");
+    }
+    switch (f) {
+        case Format::text: std::cout << layer_text(rep); break;
+        case Format::csv: std::cout << csv_line(layer_columns()) << '\n' << csv_line(layer_values(rep)) << '\n'; break;
+        case Format::json: std::cout << layer_json(rep).dump(2) << '\n'; break;
+    }
+    return kExitOk;
+}
+
+}  // namespace lampwright::cli

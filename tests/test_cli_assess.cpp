@@ -1,0 +1,286 @@
+// The `lampwright assess` command line: exit status, messages on stderr, CSV/JSON output, and a
+// corpus of malformed files (tests/data/bad) next to valid ones (tests/data/good).
+#include <doctest/doctest.h>
+#include <nlohmann/json.hpp>
+
+#include <sys/wait.h>
+#include <unistd.h>
+
+#include <cmath>
+#include <filesystem>
+#include <fstream>
+#include <sstream>
+#include <string>
+#include <vector>
+
+namespace fs = std::filesystem;
+
+namespace {
+
+const std::string kCli = LAMPWRIGHT_CLI;
+const std::string kData = std::string(LAMPWRIGHT_SOURCE_DIR) + "/tests/data";
+
+std::string quote(const std::string& s) {
+    std::string q = "'";
+    for (char c : s) {
+        if (c == '\'') q += "'\\''";
+        else q += c;
+    }
+    return q + "'";
+}
+
+std::string slurp(const fs::path& p) {
+    std::ifstream in(p);
+    std::stringstream ss;
+    ss << in.rdbuf();
+    return ss.str();
+}
+
+struct Run {
+    int exit_code = -1;  // -1 when the process did not exit normally
+    bool crashed = false;  // killed by a signal
+    std::string out, err;
+};
+
+fs::path temp_dir() {
+    const auto dir = fs::temp_directory_path() / ("lampwright_cli_tests_" + std::to_string(::getpid()));
+    fs::create_directories(dir);
+    return dir;
+}
+
+// Runs `lampwright <args>` with stdout and stderr captured to files.
+Run run_cli(const std::string& args, const std::string& stdin_path = "") {
+    const auto dir = temp_dir();
+    const auto out = dir / "stdout.txt", err = dir / "stderr.txt";
+    std::string cmd = quote(kCli) + " " + args + " >" + quote(out.string()) + " 2>" + quote(err.string());
+    if (!stdin_path.empty()) cmd += " <" + quote(stdin_path);
+    const int status = std::system(cmd.c_str());
+    Run r;
+    if (status != -1 && WIFEXITED(status)) {
+        r.exit_code = WEXITSTATUS(status);
+        // The shell reports a child killed by signal N as exit status 128 + N.
+        r.crashed = r.exit_code > 128;
+    } else {
+        r.crashed = true;
+    }
+    r.out = slurp(out);
+    r.err = slurp(err);
+    return r;
+}
+
+std::vector<std::string> lines(const std::string& text) {
+    std::vector<std::string> v;
+    std::istringstream in(text);
+    for (std::string l; std::getline(in, l);) v.push_back(l);
+    return v;
+}
+
+std::vector<std::string> cells(const std::string& line) {
+    std::vector<std::string> v;
+    std::string c;
+    std::istringstream in(line);
+    while (std::getline(in, c, ',')) v.push_back(c);
+    if (!line.empty() && line.back() == ',') v.push_back("");
+    return v;
+}
+
+std::string bad(const std::string& name) { return kData + "/bad/" + name; }
+std::string good(const std::string& name) { return kData + "/good/" + name; }
+
+// The value of column `name` in a CSV row, given the header.
+std::string column(const std::string& header, const std::string& row, const std::string& name) {
+    const auto h = cells(header), r = cells(row);
+    for (std::size_t i = 0; i < h.size(); ++i)
+        if (h[i] == name) return i < r.size() ? r[i] : "";
+    FAIL("no column " << name);
+    return "";
+}
+
+}  // namespace
+
+TEST_CASE("cli: every malformed file gives exit status 1 and an error with the file, the line and the reason") {
+    struct Case {
+        const char* file;
+        int line;  // 0 = the problem has no single line
+        const char* reason;
+    };
+    // Lines as written in the fixtures (their first line is a '#' comment, then a header).
+    const Case cases[] = {
+        {"non_numeric.csv", 6, "not a number"},
+        {"nan_value.csv", 8, "not a finite number"},
+        {"inf_value.csv", 10, "not a finite number"},
+        {"non_increasing.csv", 11, "does not increase"},
+        {"short_range.csv", 0, "covers 400-700 nm"},
+        {"ragged_row.csv", 14, "row has 3 columns"},
+        {"empty.csv", 0, "no spectral data"},
+        {"all_zero.csv", 0, "no positive value"},
+        {"large_negative.csv", 17, "negative beyond noise"},
+        {"micrometres.csv", 3, "must be the wavelength in nm"},
+    };
+    for (const auto& c : cases) {
+        const std::string file = c.file;
+        CAPTURE(file);
+        const Run r = run_cli("assess --format csv " + quote(bad(c.file)));
+        CHECK_FALSE(r.crashed);  // never killed by a signal; common practice, no source
+        CHECK(r.exit_code == 1);  // assess --help: 1 = some input bad
+        const std::string where = c.line > 0 ? std::string(c.file) + ":" + std::to_string(c.line) + ":" : std::string(c.file) + ":";
+        bool found = false;
+        for (const auto& l : lines(r.err))
+            if (l.find(where) != std::string::npos && l.find(c.reason) != std::string::npos) found = true;
+        CAPTURE(r.err);
+        CHECK(found);  // error line names file:line and the reason; common practice, no source
+        // Only the CSV header on stdout.
+        CHECK(lines(r.out).size() == 1);  // only the CSV header; common practice, no source
+    }
+}
+
+TEST_CASE("cli: a missing file and a folder are bad input (exit status 1) named on stderr") {
+    const Run missing = run_cli("assess " + quote(kData + "/good/no_such_lamp.csv"));
+    CHECK_FALSE(missing.crashed);  // never killed by a signal; common practice, no source
+    CHECK(missing.exit_code == 1);  // exit status as assess --help states; common practice, no source
+    CHECK(missing.err.find("no_such_lamp.csv") != std::string::npos);  // the error names the file; common practice, no source
+    const Run folder = run_cli("assess " + quote(kData + "/good"));
+    CHECK_FALSE(folder.crashed);  // never killed by a signal; common practice, no source
+    CHECK(folder.exit_code == 1);  // exit status as assess --help states; common practice, no source
+    CHECK(folder.err.find("folder") != std::string::npos);  // reader message for a folder; common practice, no source
+}
+
+TEST_CASE("cli: --format csv header and the rows of two good files") {
+    const Run r = run_cli("assess --format csv " + quote(good("planck_3000K.csv")) + " " + quote(good("planck_4000K.txt")));
+    CHECK_FALSE(r.crashed);  // never killed by a signal; common practice, no source
+    CHECK(r.exit_code == 0);  // exit status as assess --help states; common practice, no source
+    const auto out = lines(r.out);
+    REQUIRE(out.size() == 3);  // precondition; common practice, no source
+    const std::string& header = out[0];
+    // assessment_report.hpp: stable column order.
+    CHECK(header.rfind("name,x,y,u_prime,v_prime,cct_K,duv,Ra,R1,", 0) == 0);  // project CSV column contract (assessment_report.hpp); common practice, no source
+    CHECK(header.find(",R13,R14,ler_lm_per_W") != std::string::npos);  // project CSV column contract; common practice, no source
+    const auto h = cells(header);
+    REQUIRE(h.size() >= 23);  // precondition; common practice, no source
+    for (int i = 1; i <= 14; ++i) CHECK(h[7 + i] == "R" + std::to_string(i));  // project CSV column contract; common practice, no source
+    CHECK(h[22] == "ler_lm_per_W");  // project CSV column contract; common practice, no source
+
+    CHECK(cells(out[1]).at(0) == "planck_3000K");  // single-column file named by its stem; common practice, no source
+    CHECK(cells(out[2]).at(0) == "planck_4000K");  // single-column file named by its stem; common practice, no source
+    // The fixtures are Planckian radiators (Planck's law, CIE 15:2004 c2 = 1.4388e-2 m K) at 5 nm:
+    // CCT within 0.5 K of nominal, Duv ~ 0, Ra = 100 up to the 5 nm sampling (CIE 13.3-1995).
+    const double nominal[] = {3000, 4000};
+    for (int k = 0; k < 2; ++k) {
+        CAPTURE(k);
+        const std::string& row = out[1 + k];
+        CHECK(std::abs(std::stod(column(header, row, "cct_K")) - nominal[k]) <= 0.5);  // Planck's law, CIE 15:2004
+        CHECK(std::abs(std::stod(column(header, row, "duv"))) <= 1e-4);  // Planckian fixture lies on the locus (CIE 15:2004 9.5)
+        CHECK(std::abs(std::stod(column(header, row, "Ra")) - 100) <= 0.05);  // CIE 13.3-1995 (exact case)
+        CHECK(column(header, row, "reference") == "planckian");                 // CIE 13.3-1995, below 5000 K
+        CHECK(std::stod(column(header, row, "ler_lm_per_W")) > 0);  // LER > 0; common practice, no source
+    }
+    CHECK(r.err.empty());  // no warnings for clean input; common practice, no source
+}
+
+TEST_CASE("cli: a good file and a bad file together: the good row is printed and the exit status is 1") {
+    const Run r = run_cli("assess --format csv " + quote(bad("nan_value.csv")) + " " + quote(good("planck_3000K.csv")) +
+                          " " + quote(bad("ragged_row.csv")));
+    CHECK_FALSE(r.crashed);  // never killed by a signal; common practice, no source
+    CHECK(r.exit_code == 1);  // assess --help: 1 = some input bad, the rest still reported
+    const auto out = lines(r.out);
+    REQUIRE(out.size() == 2);  // precondition; common practice, no source
+    CHECK(out[1].rfind("planck_3000K,", 0) == 0);  // good file still reported; common practice, no source
+    CHECK(r.err.find("nan_value.csv:8:") != std::string::npos);  // file:line of the NaN fixture
+    CHECK(r.err.find("ragged_row.csv:14:") != std::string::npos);  // file:line of the ragged fixture
+}
+
+TEST_CASE("cli: usage errors give exit status 2") {
+    // assess --help: 2 = usage error.
+    const std::string f = quote(good("planck_3000K.csv"));
+    const char* const bad_usages[] = {
+        "assess --bogus-option ",  "assess --format xml ", "assess --observer 5 ", "assess --cct-method guess ",
+        "frobnicate ",
+    };
+    for (const char* u : bad_usages) {
+        const std::string usage = u;
+        CAPTURE(usage);
+        const Run r = run_cli(std::string(u) + f);
+        CHECK_FALSE(r.crashed);  // never killed by a signal; common practice, no source
+        CHECK(r.exit_code == 2);  // exit status as assess --help states; common practice, no source
+        CHECK(r.err.find("error") != std::string::npos);  // message on stderr; common practice, no source
+        CHECK(r.out.empty());  // nothing on stdout; common practice, no source
+    }
+    const Run no_files = run_cli("assess");
+    CHECK(no_files.exit_code == 2);  // exit status as assess --help states; common practice, no source
+    const Run nothing = run_cli("");
+    CHECK(nothing.exit_code == 2);  // exit status as assess --help states; common practice, no source
+    const Run help = run_cli("assess --help");
+    CHECK(help.exit_code == 0);  // exit status as assess --help states; common practice, no source
+    CHECK(help.out.find("Exit status") != std::string::npos);  // help text documents the exit status
+}
+
+TEST_CASE("cli: '-' reads standard input") {
+    const Run r = run_cli("assess --format csv -", good("planck_3000K.csv"));
+    CHECK_FALSE(r.crashed);  // never killed by a signal; common practice, no source
+    CHECK(r.exit_code == 0);  // exit status as assess --help states; common practice, no source
+    const auto out = lines(r.out);
+    REQUIRE(out.size() == 2);  // precondition; common practice, no source
+    CHECK(out[1].rfind("stdin,", 0) == 0);  // '-' is named stdin; common practice, no source
+}
+
+TEST_CASE("cli: --format json gives one object per spectrum with the CSV keys") {
+    const Run r = run_cli("assess --format json " + quote(good("planck_3000K.csv")) + " " + quote(good("planck_4000K.txt")));
+    CHECK(r.exit_code == 0);  // exit status as assess --help states; common practice, no source
+    const auto j = nlohmann::json::parse(r.out);
+    REQUIRE(j.is_array());  // precondition; common practice, no source
+    REQUIRE(j.size() == 2);  // precondition; common practice, no source
+    CHECK(j[0]["name"] == "planck_3000K");  // JSON keys equal the CSV columns; common practice, no source
+    CHECK(std::abs(j[0]["cct_K"].get<double>() - 3000) <= 0.5);  // Planck's law, CIE 15:2004
+    CHECK(j[1]["R14"].is_number());  // JSON keys equal the CSV columns; common practice, no source
+    CHECK(j[1]["warnings"].is_array());  // common practice, no source
+}
+
+TEST_CASE("cli: --observer 10 changes x, y but not CCT or Ra, and --cct-method robertson works") {
+    const std::string f = quote(good("planck_4000K.txt"));
+    const Run two = run_cli("assess --format csv " + f), ten = run_cli("assess --format csv --observer 10 " + f),
+              rob = run_cli("assess --format csv --cct-method robertson " + f);
+    for (const Run* r : {&two, &ten, &rob}) {
+        CHECK(r->exit_code == 0);  // exit status as assess --help states; common practice, no source
+        REQUIRE(lines(r->out).size() == 2);  // precondition; common practice, no source
+    }
+    const auto h = lines(two.out)[0];
+    const auto a = lines(two.out)[1], b = lines(ten.out)[1], c = lines(rob.out)[1];
+    CHECK(column(h, a, "x") != column(h, b, "x"));               // CIE 1931 vs CIE 1964 observer
+    CHECK(column(h, a, "cct_K") == column(h, b, "cct_K"));       // CCT always uses the 2-degree observer (CIE 15:2004)
+    CHECK(column(h, a, "Ra") == column(h, b, "Ra"));             // CIE 13.3 uses the 2-degree observer
+    CHECK(column(h, b, "observer") == "10");  // observer column; common practice, no source
+    CHECK(std::abs(std::stod(column(h, c, "cct_K")) - 4000) <= 4000 * 0.0015);  // Robertson 1968 (bound as in test_temperature)
+}
+
+TEST_CASE("cli: odd but valid spectra never crash the program") {
+    // A single green line and a UV line have a chromaticity but no CCT: warnings, exit status 0.
+    // Power only beyond 830 nm has no chromaticity at all: an error naming the file, exit status 1.
+    const auto dir = temp_dir();
+    auto write = [&](const std::string& name, int from, int to, int line_nm) {
+        std::ofstream out(dir / name);
+        out << "wavelength_nm,value\n";
+        for (int nm = from; nm <= to; nm += 5) out << nm << ',' << (nm == line_nm ? 1 : 0) << '\n';
+        return (dir / name).string();
+    };
+    const std::string files[] = {write("ir_only.csv", 380, 900, 900), write("green_line.csv", 380, 780, 550),
+                                 write("uv_line.csv", 380, 780, 380), write("far_ir.csv", 380, 1200, 1200)};
+    for (const auto& f : files) {
+        CAPTURE(f);
+        for (const char* format : {"csv", "json", "text"}) {
+            const std::string format_name = format;
+            CAPTURE(format_name);
+            const Run r = run_cli(std::string("assess --format ") + format + " " + quote(f));
+            CHECK_FALSE(r.crashed);  // never killed by a signal; common practice, no source
+            const bool no_visible_power = f.find("ir") != std::string::npos;
+            if (no_visible_power) {
+                CHECK(r.exit_code == 1);  // bad input, as assess --help states; common practice, no source
+                CHECK(r.err.find(f) != std::string::npos);
+                CHECK(r.err.find("no visible power") != std::string::npos);
+            } else {
+                CHECK(r.exit_code == 0);  // exit status as assess --help states; common practice, no source
+                CHECK(r.err.find("warning") != std::string::npos);  // problems reported as warnings; common practice, no source
+            }
+        }
+    }
+    fs::remove_all(dir);
+}

@@ -1,0 +1,234 @@
+// LED conversion layer: limits, re-absorption cascade, balances, temperature.
+#include "lampwright/blend.hpp"
+#include "lampwright/layer.hpp"
+#include "lampwright/layer_design.hpp"
+#include "lampwright/layer_report.hpp"
+
+#include <doctest/doctest.h>
+
+#include <cmath>
+#include <cstdio>
+#include <fstream>
+#include <string>
+
+using namespace lampwright;
+
+namespace {
+
+// A test phosphor: one emission band, absorption flat (relative 1) from 300 nm to `absorbs_to`.
+Phosphor test_phosphor(const std::string& id, double peak_nm, double fwhm_nm, double absorbs_to, double qe = 0.9) {
+    Phosphor p;
+    p.id = id;
+    p.emission_model = "bands";
+    p.bands = {{peak_nm, fwhm_nm, 1.0}};
+    p.absorption_nm = {250, absorbs_to, absorbs_to + 0.5};
+    p.absorption_rel = {1.0, 1.0, 0.0};
+    p.qe_365_405nm = qe;
+    p.density_g_per_cm3 = 4.0;
+    return p;
+}
+
+LayerDesign single(double thickness_um, double loading, const Phosphor& p) {
+    LayerDesign d;
+    d.name = "test layer";
+    d.pump = Excitation::led(395, 2);
+    d.thickness_um = thickness_um;
+    d.components.push_back({p.id, p, loading, std::nullopt});
+    return d;
+}
+
+double layer_density(double loading, double rho_p, double rho_b) { return 1.0 / (loading / rho_p + (1 - loading) / rho_b); }
+
+}  // namespace
+
+TEST_CASE("layer: zero thickness passes the bare pump") {
+    // Beer-Lambert with zero path: transmission 1 (common practice, no source).
+    const auto r = evaluate_layer(single(0, 0.1, test_phosphor("G", 530, 60, 480)));
+    CHECK(r.pump_photons_leaked == doctest::Approx(1.0).epsilon(1e-12));
+    CHECK(r.converted_W == doctest::Approx(0.0));
+    CHECK(r.conversion_efficiency == doctest::Approx(1.0).epsilon(1e-12));
+    CHECK(r.pump_leak_fraction == doctest::Approx(1.0).epsilon(1e-12));
+}
+
+TEST_CASE("layer: a very thick layer leaks no pump") {
+    const auto r = evaluate_layer(single(5000, 0.2, test_phosphor("G", 530, 60, 480)));
+    CHECK(r.pump_photons_leaked < 1e-9);  // exp(-kappa a c d) with kappa c d ~ 1e3: common practice, no source
+}
+
+TEST_CASE("layer: leakage falls monotonically with thickness and with loading") {
+    const auto p = test_phosphor("G", 530, 60, 480);
+    double previous = 2;
+    for (double t : {0.0, 5.0, 10.0, 20.0, 40.0, 80.0, 160.0}) {
+        const double leak = evaluate_layer(single(t, 0.05, p)).pump_photons_leaked;
+        CHECK(leak < previous);
+        previous = leak;
+    }
+    previous = 2;
+    for (double w : {0.01, 0.02, 0.05, 0.1, 0.2}) {
+        const double leak = evaluate_layer(single(30, w, p)).pump_photons_leaked;
+        CHECK(leak < previous);
+        previous = leak;
+    }
+}
+
+TEST_CASE("layer: a single non-re-absorbing phosphor matches the analytic Beer-Lambert result") {
+    // Absorption flat across the pump, none at its own emission (600 nm band, absorbs to 480 nm):
+    // leaked = exp(-kappa a c d), emitted = QE (1 - leaked), all of it escapes (Beer-Lambert law).
+    const auto p = test_phosphor("R", 600, 40, 480, 0.85);
+    const double loading = 0.07, t_um = 25;
+    const auto r = evaluate_layer(single(t_um, loading, p));
+    const double c = loading * layer_density(loading, 4.0, kSiliconeDensity_g_per_cm3);
+    const double leak = std::exp(-kReferenceMassAbsorption_cm2_per_g * c * t_um * 1e-4);
+    CHECK(r.pump_photons_leaked == doctest::Approx(leak).epsilon(1e-9));
+    CHECK(r.components[0].photons_emitted == doctest::Approx(0.85 * (1 - leak)).epsilon(1e-9));
+    CHECK(r.photons_escaping == doctest::Approx(0.85 * (1 - leak)).epsilon(1e-9));
+}
+
+TEST_CASE("layer: a red absorber lowers the green output by what its absorption predicts") {
+    // Green 530 nm band (absorbs only below 480 nm); red absorber absorbs to 560 nm, emits at 650 nm.
+    const auto green = test_phosphor("G", 530, 40, 480, 0.9);
+    const auto red = test_phosphor("R", 650, 60, 560, 0.8);
+    LayerDesign d = single(30, 0.05, green);
+    d.components.push_back({"R", red, 0.03, std::nullopt});
+    const auto r = evaluate_layer(d);
+    // Expected: green photons emitted x sum over its emission of exp(-alpha_red(l) L), where
+    // alpha_red = kappa a c_red and a = 1 below 560 nm (Beer-Lambert; geometry factor 1).
+    const double rho = 1.0 / (0.05 / 4.0 + 0.03 / 4.0 + 0.92 / kSiliconeDensity_g_per_cm3);
+    const double alpha_red = kReferenceMassAbsorption_cm2_per_g * 0.03 * rho;
+    const double alpha_green = kReferenceMassAbsorption_cm2_per_g * 0.05 * rho;  // its own short tail, below 480 nm
+    const Spectrum n = emission_for_excitation(green, d.pump);
+    const double alpha_green_alone = kReferenceMassAbsorption_cm2_per_g * 0.05 * layer_density(0.05, 4.0, kSiliconeDensity_g_per_cm3);
+    double escape = 0, escape_alone = 0;
+    for (std::size_t k = 0; k < n.values.size(); ++k) {
+        const double nm = n.first_nm + static_cast<double>(k);
+        const double a_g = nm <= 480 ? alpha_green : 0.0, a_r = nm <= 560 ? alpha_red : 0.0;
+        escape += n.values[k] * std::exp(-(a_g + a_r) * 30e-4);
+        escape_alone += n.values[k] * std::exp(-(nm <= 480 ? alpha_green_alone : 0.0) * 30e-4);
+    }
+    CHECK(r.components[0].photons_escaping == doctest::Approx(r.components[0].photons_emitted * escape).epsilon(1e-9));
+    const auto alone = evaluate_layer(single(30, 0.05, green));
+    CHECK(alone.components[0].photons_escaping == doctest::Approx(alone.components[0].photons_emitted * escape_alone).epsilon(1e-9));
+    CHECK(escape < 0.95 * escape_alone);
+    // The red phosphor absorbed more than the pump gave it: the re-absorbed green.
+    CHECK(r.components[1].photons_absorbed > r.components[1].pump_photons_absorbed * 1.05);
+}
+
+TEST_CASE("layer: the cascade solution equals the generation-by-generation sum") {
+    // Neumann series of (I - M^T Q)^-1 converges since every row of M^T Q sums below 1 (common practice, no source).
+    LayerDesign d;
+    d.name = "cascade";
+    d.pump = Excitation::led(395, 12);
+    d.thickness_um = 150;
+    for (const auto& [id, w] : {std::pair{"BaMgAl10O17:Eu2+", 0.12}, {"beta-SiAlON:Eu2+", 0.07}, {"CaAlSiN3:Eu2+", 0.045}})
+        d.components.push_back({id, PhosphorLibrary::builtin().find(id), w, std::nullopt});
+    const auto exact = evaluate_layer(d);
+    const auto summed = evaluate_layer(d, std::nullopt, {}, 60);
+    const auto first = evaluate_layer(d, std::nullopt, {}, 1);
+    for (std::size_t i = 0; i < 3; ++i) {
+        CHECK(summed.components[i].photons_absorbed == doctest::Approx(exact.components[i].photons_absorbed).epsilon(1e-10));
+        CHECK(first.components[i].photons_absorbed <= exact.components[i].photons_absorbed + 1e-15);
+    }
+    CHECK(exact.components[2].photons_absorbed > first.components[2].photons_absorbed * 1.05);  // the red nitride eats green
+}
+
+TEST_CASE("layer: photon and energy balance close, and efficiency is bounded by QE x lambda_pump / lambda_emission") {
+    LayerDesign d;
+    d.name = "balance";
+    d.pump = Excitation::led(405, 15);
+    d.pump_power_W = 0.35;
+    d.thickness_um = 90;
+    d.temperature_C = 120;
+    for (const auto& [id, w] : {std::pair{"BaMgAl10O17:Eu2+", 0.10}, {"(Ba,Sr)2SiO4:Eu2+", 0.06}, {"(Sr,Ca)AlSiN3:Eu2+", 0.04}, {"K2SiF6:Mn4+", 0.08}})
+        d.components.push_back({id, PhosphorLibrary::builtin().find(id), w, std::nullopt});
+    for (double t : {25.0, 120.0}) {
+        const auto r = evaluate_layer(d, t);
+        // Photons: each pump photon is leaked, escapes as converted light, or is lost (conservation).
+        CHECK(r.pump_photons_leaked + r.photons_escaping + r.photons_lost == doctest::Approx(1.0).epsilon(1e-12));
+        // Energy: first law (common practice, no source).
+        CHECK(r.leaked_pump_W + r.converted_W + r.stokes_loss_W + r.quantum_loss_W == doctest::Approx(r.pump_power_W).epsilon(1e-12));
+        CHECK(r.stokes_loss_W > 0);
+        CHECK(r.quantum_loss_W > 0);
+    }
+    // Single phosphor: converted W per absorbed pump W <= QE x lambda_pump_max / lambda_emission_min (Stokes).
+    const auto g = test_phosphor("G", 530, 40, 480, 0.9);
+    const auto r = evaluate_layer(single(40, 0.05, g));
+    const double absorbed_W = r.pump_power_W - r.leaked_pump_W;
+    const double lambda_em_min = 396.0;  // the emission is cut at the pump peak (Stokes rule in the model)
+    CHECK(r.converted_W / absorbed_W <= 0.9 * 400.0 / lambda_em_min);
+    CHECK(r.converted_W / absorbed_W < 0.9 * 395.0 / 530.0 * 1.1);
+}
+
+TEST_CASE("layer: no quenching and no peak shift give no colour shift") {
+    auto p = test_phosphor("G", 530, 60, 480);
+    LayerDesign d = single(60, 0.05, p);
+    d.temperature_C = 150;
+    const auto rep = layer_report(d);
+    CHECK(rep.shift_steps == doctest::Approx(0.0).epsilon(1e-9));
+}
+
+TEST_CASE("layer: published thermal quenching figures round-trip") {
+    // shared/phosphor-facts.md: Y2O3:Eu3+ loses about 7 % at 150 degC; LaPO4:Ce,Tb about 3 % (thermal-quenching study, confirmed).
+    const auto& lib = PhosphorLibrary::builtin();
+    LayerDesign d;
+    d.name = "quench";
+    d.pump = Excitation::led(395, 12);
+    d.thickness_um = 50;
+    d.components.push_back({"YOX", lib.find("Y2O3:Eu3+"), 0.05, std::nullopt});
+    d.components.push_back({"LAP", lib.find("LaPO4:Ce3+,Tb3+"), 0.05, 0.9});
+    const auto cold = evaluate_layer(d, 25.0), hot = evaluate_layer(d, 150.0);
+    CHECK(hot.components[0].quantum_efficiency / cold.components[0].quantum_efficiency == doctest::Approx(0.93).epsilon(1e-9));
+    CHECK(hot.components[1].quantum_efficiency / cold.components[1].quantum_efficiency == doctest::Approx(0.97).epsilon(1e-9));
+}
+
+TEST_CASE("layer design: the example designs load, and bad designs name file, line and key") {
+    const std::string dir = LAMPWRIGHT_SOURCE_DIR "/examples/layers/";
+    const auto d = load_layer_design(dir + "module395_150um.toml");
+    CHECK(d.components.size() == 3);
+    CHECK(d.thickness_um == 150);
+    // Round trip through layer_design_to_toml.
+    const std::string tmp = std::string(std::tmpnam(nullptr)) + ".toml";
+    std::ofstream(tmp) << layer_design_to_toml(d);
+    const auto again = load_layer_design(tmp);
+    CHECK(again.components[1].loading == doctest::Approx(d.components[1].loading));
+    std::remove(tmp.c_str());
+
+    struct Bad {
+        const char* text;
+        const char* expect;
+    };
+    const Bad cases[] = {
+        {"name='x'\n[pump]\npeak_nm=395\nfwhm_nm=12\n[layer]\nthickness_um=-5\n[[component]]\nphosphor='BAM'\nloading=0.1\n", "thickness_um"},
+        {"name='x'\n[pump]\npeak_nm=395\nfwhm_nm=12\n[layer]\nthickness_um=50\n[[component]]\nphosphor='BAM'\nloading=12\n", "percent"},
+        {"name='x'\n[pump]\npeak_nm=0.395\nfwhm_nm=12\n[layer]\nthickness_um=50\n[[component]]\nphosphor='BAM'\nloading=0.1\n", "micrometres"},
+        {"name='x'\n[pump]\npeak_nm=395\nfwhm_nm=12\n[layer]\nthickness_um=50\n[[component]]\nphosphor='nope'\nloading=0.1\n", "nope"},
+        {"name='x'\n[pump]\npeak_nm=395\nfwhm_nm=12\n[layer]\nthickness_um=50\n[operating]\ntemperature_C=358\n[[component]]\nphosphor='BAM'\nloading=0.1\n", "kelvin"},
+        {"name='x'\n[pump]\npeak_nm=395\nfwhm_nm=12\n[layer]\nthickness_um=50\n[[component]]\nphosphor='BAM'\nloading=0.6\n[[component]]\nphosphor='CASN'\nloading=0.5\n", "sum below 1"},
+    };
+    for (const auto& c : cases) {
+        const std::string path = std::string(std::tmpnam(nullptr)) + ".toml";
+        std::ofstream(path) << c.text;
+        try {
+            (void)load_layer_design(path);
+            FAIL("accepted a bad design: " << c.text);
+        } catch (const InputError& e) {
+            const std::string what = e.what();
+            CHECK(what.find(path) != std::string::npos);
+            CHECK(e.line() > 0);
+            CHECK(what.find(c.expect) != std::string::npos);
+        }
+        std::remove(path.c_str());
+    }
+}
+
+TEST_CASE("layer report: UV leakage caution names IEC 62471 and the leaked power") {
+    const auto d = load_layer_design(LAMPWRIGHT_SOURCE_DIR "/examples/layers/module395_80um.toml");
+    const auto rep = layer_report(d);
+    const std::string caution = layer_caution(rep);
+    CHECK(caution.find("IEC 62471") != std::string::npos);
+    CHECK(caution.find("mW") != std::string::npos);
+    CHECK(rep.operating.leaked_uv_violet_W > 0.01);
+    // A very thick layer: leak negligible, no caution.
+    LayerDesign thick = d;
+    thick.thickness_um = 3000;
+    CHECK(layer_caution(layer_report(thick)).empty());
+}

@@ -1,0 +1,290 @@
+// Tests of the blend optimiser (src/lampwright/optimiser.hpp): the exact three-component solve,
+// the NLopt path, constraints, infeasible targets, reproducibility, a brute-force grid check of
+// the best Ra, and the fit command line.
+#include "lampwright/blend.hpp"
+#include "lampwright/error.hpp"
+#include "lampwright/optimiser.hpp"
+#include "lampwright/recipe.hpp"
+#include "lampwright/targets.hpp"
+
+#include <doctest/doctest.h>
+
+#include <Eigen/Dense>
+
+#include <chrono>
+#include <cmath>
+#include <cstdio>
+#include <cstdlib>
+#include <filesystem>
+#include <fstream>
+#include <numbers>
+#include <string>
+#include <vector>
+
+using namespace lampwright;
+
+namespace {
+
+std::string example(const std::string& name) { return std::string(LAMPWRIGHT_SOURCE_DIR) + "/examples/recipes/" + name; }
+
+FitProblem problem(const std::string& recipe, const Target& t, FitObjective o) {
+    FitProblem p;
+    p.blend = load_recipe(example(recipe)).blend;
+    p.target = t;
+    p.objective = o;
+    return p;
+}
+
+double ra_of(const BlendResult& r) { return r.assessment.rendering ? r.assessment.rendering->ra : -1e9; }
+
+double duv_prime(const Assessment& a, const Chromaticity& target) {
+    const UV t = uv_1976_from_xy(target);
+    return std::hypot(a.uv_prime.u - t.u, a.uv_prime.v - t.v);
+}
+
+// Every constraint the result reports holds, re-checked here independently of the optimiser.
+void check_answer(const FitProblem& p, const FitResult& r) {
+    REQUIRE(r.feasible);
+    double sum = 0;
+    for (std::size_t i = 0; i < r.mass_fractions.size(); ++i) {
+        CHECK(r.mass_fractions[i] >= 0);
+        const auto& c = p.blend.components[i];
+        if (c.min_fraction) CHECK(r.mass_fractions[i] >= *c.min_fraction - 1e-12);
+        if (c.max_fraction) CHECK(r.mass_fractions[i] <= *c.max_fraction + 1e-12);
+        sum += r.mass_fractions[i];
+    }
+    CHECK(sum == doctest::Approx(1.0).epsilon(1e-9));
+    const BlendResult again = evaluate_blend(r.blend);
+    if (p.target.ellipse) {
+        CHECK(macadam_steps(*p.target.ellipse, again.assessment.xy) <= p.target.ellipse_steps);
+    } else {
+        CHECK(duv_prime(again.assessment, p.target.xy) <= p.tolerance_uv_prime);
+    }
+    if (p.min_ra) CHECK(ra_of(again) >= *p.min_ra);
+    if (p.min_r9) CHECK(again.assessment.rendering->ri[8] >= *p.min_r9);
+    if (p.min_ler) CHECK(again.assessment.ler_lm_per_W >= *p.min_ler);
+    for (const auto& c : r.constraints) CHECK_MESSAGE(c.satisfied, c.text);
+}
+
+// Brute force over the feasible set: the X, Y, Z of a blend are linear in the photon shares s
+// (README "Blend physics"), so for a fixed share of the fourth component (if any) and an aim
+// chromaticity, three shares follow from a 3x3 system. Aim points fill the tolerance disc on a
+// polar grid; the fourth share runs over a grid. Common practice, no source.
+double grid_best_ra(const FitProblem& p, int fourth_steps, int radii, int angles) {
+    const BlendBasis b = blend_basis(p.blend);
+    std::vector<XYZ> xyz;
+    for (const auto& l : b.light) xyz.push_back(tristimulus(l));
+    const UV centre = uv_1976_from_xy(p.target.xy);
+    const std::size_t n = xyz.size();
+    double best = -1e9;
+    for (int k = 0; k <= (n == 4 ? fourth_steps : 0); ++k) {
+        const double s4 = n == 4 ? static_cast<double>(k) / fourth_steps : 0.0;
+        for (int ir = 0; ir <= radii; ++ir) {
+            const double rad = 0.999 * p.tolerance_uv_prime * ir / radii;
+            for (int ia = 0; ia < (ir == 0 ? 1 : angles); ++ia) {
+                const double ang = 2 * std::numbers::pi * ia / angles;
+                const Chromaticity aim = xy_from_uv_1976({centre.u + rad * std::cos(ang), centre.v + rad * std::sin(ang)});
+                Eigen::Matrix3d m;
+                Eigen::Vector3d rhs(0, 0, 1 - s4);
+                for (int i = 0; i < 3; ++i) {
+                    const XYZ& c = xyz[static_cast<std::size_t>(i)];
+                    m(0, i) = c.X - aim.x * (c.X + c.Y + c.Z);
+                    m(1, i) = c.Y - aim.y * (c.X + c.Y + c.Z);
+                    m(2, i) = 1;
+                }
+                if (n == 4) {
+                    const XYZ& c = xyz[3];
+                    rhs(0) = -s4 * (c.X - aim.x * (c.X + c.Y + c.Z));
+                    rhs(1) = -s4 * (c.Y - aim.y * (c.X + c.Y + c.Z));
+                }
+                const Eigen::Vector3d s = m.fullPivLu().solve(rhs);
+                if (s.minCoeff() <= 0) continue;
+                BlendInput in = p.blend;
+                for (std::size_t i = 0; i < n; ++i) {
+                    const double si = i < 3 ? s(static_cast<int>(i)) : s4;
+                    in.components[i].mass_fraction = si / b.absorption[i];
+                }
+                if (n == 4 && s4 <= 0) in.components.pop_back();
+                const BlendResult r = evaluate_blend(in);
+                if (duv_prime(r.assessment, p.target.xy) > p.tolerance_uv_prime) continue;
+                best = std::max(best, ra_of(r));
+            }
+        }
+    }
+    return best;
+}
+
+}  // namespace
+
+TEST_CASE("optimiser: the exact three-component solve hits the target and agrees with the NLopt path") {
+    // Self-consistency of two solvers (common practice, no source): with a tight tolerance the
+    // NLopt answer must lie at the exact solution.
+    FitProblem p = problem("triband_4000K.toml", target_cct(3500, 0.0), FitObjective::closest_to_start);
+    FitOptions exact;
+    exact.method = FitMethod::exact;
+    const FitResult e = solve(p, exact);
+    REQUIRE(e.feasible);
+    CHECK(e.method == "exact 3x3");
+    // The exact solve is exact up to the 6-decimal rounding of the fractions.
+    CHECK(e.distance_uv_prime < 2e-6);
+    CHECK(e.result.assessment.cct.cct_K == doctest::Approx(3500).epsilon(0.001));
+    CHECK(std::abs(e.result.assessment.cct.duv) < 2e-5);
+
+    p.tolerance_uv_prime = 2e-5;
+    FitOptions nl;
+    nl.method = FitMethod::nlopt;
+    const FitResult n = solve(p, nl);
+    REQUIRE(n.feasible);
+    CHECK(n.method == "NLopt COBYLA");
+    for (std::size_t i = 0; i < 3; ++i) CHECK(n.mass_fractions[i] == doctest::Approx(e.mass_fractions[i]).epsilon(0.002));
+}
+
+TEST_CASE("optimiser: the fitted recipe, written and read back, reproduces the reported figures") {
+    // Round trip through recipe_to_toml / load_recipe / evaluate_blend (common practice, no source).
+    FitProblem p = problem("led395_module.toml", target_ansi_c78377(4000), FitObjective::ra);
+    const FitResult r = solve(p);
+    check_answer(p, r);
+    const auto path = std::filesystem::temp_directory_path() / "lampwright_fit_roundtrip.toml";
+    {
+        std::ofstream out(path);
+        out << recipe_to_toml(r.blend);
+    }
+    const BlendResult back = evaluate_blend(load_recipe(path.string()).blend);
+    std::filesystem::remove(path);
+    const Assessment& a = back.assessment;
+    const Assessment& f = r.result.assessment;
+    CHECK(a.xy.x == doctest::Approx(f.xy.x).epsilon(1e-6));
+    CHECK(a.xy.y == doctest::Approx(f.xy.y).epsilon(1e-6));
+    CHECK(a.cct.cct_K == doctest::Approx(f.cct.cct_K).epsilon(1e-5));
+    CHECK(a.cct.duv == doctest::Approx(f.cct.duv).epsilon(1e-4));
+    CHECK(ra_of(back) == doctest::Approx(ra_of(r.result)).epsilon(1e-6));
+    CHECK(ra_of(back) == doctest::Approx(r.objective_value).epsilon(1e-6));
+    CHECK(r.inside_ansi_quadrangle.value_or(false));
+}
+
+TEST_CASE("optimiser: best Ra within 0.2 of a brute-force grid over the feasible fractions, 3 and 4 components") {
+    // The grid is the reference here (common practice, no source).
+    SUBCASE("three components, 3500 K on the locus") {
+        FitProblem p = problem("triband_4000K.toml", target_cct(3500, 0.0), FitObjective::ra);
+        const FitResult r = solve(p);
+        check_answer(p, r);
+        const double grid = grid_best_ra(p, 0, 12, 48);
+        MESSAGE("3 components: optimiser Ra " << ra_of(r.result) << ", grid " << grid);
+        CHECK(ra_of(r.result) >= grid - 0.2);
+    }
+    SUBCASE("four components, 4000 K on the locus (LED pump)") {
+        FitProblem p = problem("led395_module.toml", target_cct(4000, 0.0), FitObjective::ra);
+        const FitResult r = solve(p);
+        check_answer(p, r);
+        const double grid = grid_best_ra(p, 200, 3, 12);
+        MESSAGE("4 components: optimiser Ra " << ra_of(r.result) << ", grid " << grid);
+        CHECK(ra_of(r.result) >= grid - 0.2);
+    }
+    SUBCASE("four components, 5000 K on the locus, where the CIE 13.3 reference switches") {
+        FitProblem p = problem("led395_module.toml", target_cct(5000, 0.0), FitObjective::ra);
+        const FitResult r = solve(p);
+        check_answer(p, r);
+        const double grid = grid_best_ra(p, 200, 3, 12);
+        MESSAGE("4 components at 5000 K: optimiser Ra " << ra_of(r.result) << ", grid " << grid);
+        CHECK(ra_of(r.result) >= grid - 0.2);
+    }
+}
+
+TEST_CASE("optimiser: constraints hold on every returned answer") {
+    // Each answer re-checked independently (common practice, no source).
+    for (const auto o : {FitObjective::closest_to_start, FitObjective::ra, FitObjective::r9, FitObjective::ra_r9, FitObjective::ler,
+                         FitObjective::efficacy}) {
+        CAPTURE(fit_objective_name(o));
+        FitProblem p = problem("multiband_5000K.toml", target_cct(5000, 0.0), o);  // non-smooth: the CIE 13.3 reference switches at 5000 K
+        check_answer(p, solve(p));
+    }
+    SUBCASE("per-component limits and a minimum Ra") {
+        FitProblem p = problem("led395_module.toml", target_cct(3500, 0.0), FitObjective::ler);
+        p.blend.components[0].min_fraction = 0.05;
+        p.blend.components[3].max_fraction = 0.10;
+        p.min_ra = 80;
+        const FitResult r = solve(p);
+        check_answer(p, r);
+    }
+    SUBCASE("five components inside a 4-step ellipse, with a minimum R9") {
+        FitProblem p = problem("multiband_5000K.toml", target_ansi_c78376("F5000", 4), FitObjective::ler);
+        p.min_r9 = 0;
+        const FitResult r = solve(p);
+        check_answer(p, r);
+    }
+    SUBCASE("inside a 4-step ellipse") {
+        FitProblem p = problem("triband_4000K.toml", target_ansi_c78376("F4100", 4), FitObjective::ra);
+        const FitResult r = solve(p);
+        check_answer(p, r);
+        REQUIRE(r.macadam_steps);
+        CHECK(*r.macadam_steps <= 4.0);
+    }
+}
+
+TEST_CASE("optimiser: infeasible targets are reported plainly, with the nearest reachable chromaticity") {
+    // A saturated red-purple point far outside the tri-band triangle (common practice, no source).
+    FitProblem p = problem("triband_4000K.toml", target_xy(0.45, 0.20), FitObjective::ra);
+    const FitResult r = solve(p);
+    CHECK_FALSE(r.feasible);
+    CHECK(r.message.find("outside the triangle") != std::string::npos);
+    REQUIRE(r.nearest_reachable);
+    for (double w : r.mass_fractions) CHECK(w >= 0);
+    // The nearest reachable point is a blend of the components: the blend reported reaches it.
+    CHECK(r.result.assessment.xy.x == doctest::Approx(r.nearest_reachable->x).epsilon(1e-3));
+
+    SUBCASE("four components, Ra demanded beyond reach") {
+        FitProblem q = problem("led395_module.toml", target_cct(4000, 0.0), FitObjective::ler);
+        q.min_ra = 99.5;
+        const FitResult s = solve(q);
+        CHECK_FALSE(s.feasible);
+        CHECK(s.message.find("no feasible blend") != std::string::npos);
+    }
+    SUBCASE("minimum fractions adding up to more than one") {
+        FitProblem q = problem("led395_module.toml", target_cct(4000, 0.0), FitObjective::ra);
+        for (auto& c : q.blend.components) c.min_fraction = 0.3;
+        CHECK_THROWS_AS(solve(q), Error);
+    }
+}
+
+TEST_CASE("optimiser: results are reproducible run to run") {
+    // Deterministic starts and a deterministic solver (common practice, no source).
+    FitProblem p = problem("multiband_5000K.toml", target_ansi_c78377(4500), FitObjective::ra);
+    const FitResult a = solve(p), b = solve(p);
+    REQUIRE(a.mass_fractions.size() == b.mass_fractions.size());
+    for (std::size_t i = 0; i < a.mass_fractions.size(); ++i) CHECK(a.mass_fractions[i] == b.mass_fractions[i]);
+    CHECK(a.evaluations == b.evaluations);
+}
+
+TEST_CASE("optimiser: speed of one fit (reported, not checked: speed belongs to bench/)") {
+    FitProblem p = problem("led395_module.toml", target_cct(4000, 0.0), FitObjective::ra);
+    (void)solve(p);  // tables loaded
+    const auto t0 = std::chrono::steady_clock::now();
+    const FitResult r = solve(p);
+    const double ms = std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - t0).count();
+    MESSAGE("4-component Ra fit: " << ms << " ms, " << r.evaluations << " evaluations, " << r.starts << " starts");
+    CHECK(r.feasible);
+}
+
+TEST_CASE("fit command: csv row, recipe out, infeasible exit code") {
+    // The CLI contract of the issue (common practice, no source).
+    const std::string cli = LAMPWRIGHT_CLI;
+    const auto dir = std::filesystem::temp_directory_path();
+    const std::string out = (dir / "lampwright_fit_cli.toml").string(), csv = (dir / "lampwright_fit_cli.csv").string();
+    const std::string cmd = cli + " fit " + example("triband_4000K.toml") + " --cct 3500 --maximize ra --format csv --recipe-out " + out +
+                            " > " + csv + " 2>/dev/null";
+    REQUIRE(std::system(cmd.c_str()) == 0);
+    std::ifstream in(csv);
+    std::string header, row;
+    std::getline(in, header);
+    std::getline(in, row);
+    CHECK(header.find("cct_K") != std::string::npos);
+    CHECK(header.find("fit_Y2O3:Eu3+") != std::string::npos);
+    CHECK(std::count(header.begin(), header.end(), ',') == std::count(row.begin(), row.end(), ','));
+    const std::string blend = cli + " blend " + out + " > /dev/null 2>&1";
+    CHECK(std::system(blend.c_str()) == 0);
+    const std::string bad = cli + " fit " + example("triband_4000K.toml") + " --xy 0.45,0.20 > /dev/null 2>&1";
+    const int rc = std::system(bad.c_str());
+    CHECK(WEXITSTATUS(rc) == 1);
+    std::filesystem::remove(out);
+    std::filesystem::remove(csv);
+}

@@ -1,0 +1,208 @@
+// Reading spectra from delimited text: layouts that must be accepted, and every kind of bad input
+// with the file and line it is reported against.
+#include "lampwright/error.hpp"
+#include "lampwright/spectrum_io.hpp"
+
+#include <doctest/doctest.h>
+
+#include <unistd.h>
+
+#include <cmath>
+#include <filesystem>
+#include <fstream>
+#include <functional>
+#include <sstream>
+#include <string>
+
+using namespace lampwright;
+
+namespace {
+
+// Rows "<nm><sep><value>" for 380..780 nm in 20 nm steps (21 rows): the minimum colorimetric
+// range of CIE 15:2004.
+std::string rows(const std::string& sep, const std::function<std::string(int)>& value) {
+    std::string s;
+    for (int nm = 380; nm <= 780; nm += 20) s += std::to_string(nm) + sep + value(nm) + "\n";
+    return s;
+}
+std::string ones(int) { return "1"; }
+
+SpectrumFile parse(const std::string& text, const std::string& source = "lamp.csv", const std::string& stem = "lamp") {
+    std::istringstream in(text);
+    return parse_spectrum_text(in, source, stem);
+}
+
+// Parses text that must fail; returns the error.
+InputError parse_error(const std::string& text, const std::string& source = "lamp.csv") {
+    try {
+        parse(text, source);
+    } catch (const InputError& e) {
+        return e;
+    }
+    FAIL("no InputError for input:\n" << text);
+    return InputError("", 0, "");
+}
+
+std::filesystem::path temp_dir() {
+    auto dir = std::filesystem::temp_directory_path() / ("lampwright_io_tests_" + std::to_string(::getpid()));
+    std::filesystem::create_directories(dir);
+    return dir;
+}
+
+}  // namespace
+
+TEST_CASE("spectrum text: header row and '#' comments, one value column named by the file stem") {
+    const auto f = parse("# measured with a spectroradiometer\n# second comment\nwavelength_nm,power\n" + rows(",", ones));
+    REQUIRE(f.spectra.size() == 1);  // reader contract (spectrum_io.hpp); common practice, no source
+    CHECK(f.spectra[0].name == "lamp");  // single-column files are named by the file (spectrum_io.hpp contract)
+    CHECK(f.spectra[0].wavelengths_nm.size() == 21);  // reader contract (spectrum_io.hpp); common practice, no source
+    CHECK(f.spectra[0].wavelengths_nm.front() == 380);  // reader contract (spectrum_io.hpp); common practice, no source
+    CHECK(f.spectra[0].wavelengths_nm.back() == 780);  // reader contract (spectrum_io.hpp); common practice, no source
+    CHECK(f.warnings.empty());  // reader contract (spectrum_io.hpp); common practice, no source
+}
+
+TEST_CASE("spectrum text: no header row") {
+    const auto f = parse(rows(",", [](int nm) { return std::to_string(nm / 100.0); }));
+    REQUIRE(f.spectra.size() == 1);  // reader contract (spectrum_io.hpp); common practice, no source
+    CHECK(f.spectra[0].values[1] == doctest::Approx(4.0));  // 400 nm / 100, common practice, no source
+}
+
+TEST_CASE("spectrum text: several value columns are named by the header, or stem:column without one") {
+    const auto with_header = parse("wavelength_nm,lamp A,lamp B,lamp C\n" + rows(",", [](int) { return "1,2,3"; }));
+    REQUIRE(with_header.spectra.size() == 3);  // reader contract (spectrum_io.hpp); common practice, no source
+    CHECK(with_header.spectra[0].name == "lamp A");  // spectrum_io.hpp contract
+    CHECK(with_header.spectra[1].name == "lamp B");  // reader contract (spectrum_io.hpp); common practice, no source
+    CHECK(with_header.spectra[2].name == "lamp C");  // reader contract (spectrum_io.hpp); common practice, no source
+    CHECK(with_header.spectra[2].values[0] == 3);  // reader contract (spectrum_io.hpp); common practice, no source
+
+    const auto no_header = parse(rows(",", [](int) { return "1,2"; }), "lot.csv", "lot");
+    REQUIRE(no_header.spectra.size() == 2);  // reader contract (spectrum_io.hpp); common practice, no source
+    CHECK(no_header.spectra[0].name == "lot:2");  // column numbers count the wavelength column as 1
+    CHECK(no_header.spectra[1].name == "lot:3");  // reader contract (spectrum_io.hpp); common practice, no source
+}
+
+TEST_CASE("spectrum text: comma, semicolon with decimal comma, tab and space separators") {
+    const auto comma = parse(rows(",", [](int) { return "0.5"; }));
+    const auto semicolon = parse("wavelength_nm;value\n" + rows(";", [](int) { return "0,5"; }));
+    const auto semicolon_dot = parse(rows(";", [](int) { return "0.5"; }));
+    const auto tab = parse(rows("\t", [](int) { return "0.5"; }));
+    const auto space = parse(rows("   ", [](int) { return "0.5"; }));
+    for (const auto* f : {&comma, &semicolon, &semicolon_dot, &tab, &space}) {
+        REQUIRE(f->spectra.size() == 1);  // reader contract (spectrum_io.hpp); common practice, no source
+        CHECK(f->spectra[0].values.size() == 21);  // reader contract (spectrum_io.hpp); common practice, no source
+        CHECK(f->spectra[0].values[7] == 0.5);  // spectrum_io.hpp: ';' allows a decimal comma
+        CHECK(f->spectra[0].wavelengths_nm[7] == 520);  // reader contract (spectrum_io.hpp); common practice, no source
+    }
+}
+
+TEST_CASE("spectrum text: trailing comments, blank lines, CRLF line ends, a UTF-8 BOM and a trailing separator") {
+    std::string text = "\xEF\xBB\xBFwavelength_nm,value\r\n\r\n";
+    for (int nm = 380; nm <= 780; nm += 20) text += std::to_string(nm) + ",2, # note\r\n";
+    const auto f = parse(text);
+    REQUIRE(f.spectra.size() == 1);  // reader contract (spectrum_io.hpp); common practice, no source
+    CHECK(f.spectra[0].name == "lamp");  // reader contract (spectrum_io.hpp); common practice, no source
+    CHECK(f.spectra[0].values.size() == 21);  // reader contract (spectrum_io.hpp); common practice, no source
+    CHECK(f.spectra[0].values[20] == 2);  // common practice for spreadsheet exports, no source
+}
+
+TEST_CASE("spectrum text: small negative noise is set to zero and counted in one warning") {
+    // spectrum_io.hpp: negative values down to -1 % of the peak are noise.
+    const auto f = parse(rows(",", [](int nm) { return nm == 400 || nm == 420 || nm == 760 ? "-0.005" : "1"; }));
+    REQUIRE(f.spectra.size() == 1);  // reader contract (spectrum_io.hpp); common practice, no source
+    CHECK(f.spectra[0].values[1] == 0);  // reader contract (spectrum_io.hpp); common practice, no source
+    CHECK(f.spectra[0].values[2] == 0);  // reader contract (spectrum_io.hpp); common practice, no source
+    CHECK(f.spectra[0].values[19] == 0);  // reader contract (spectrum_io.hpp); common practice, no source
+    REQUIRE(f.warnings.size() == 1);  // reader contract (spectrum_io.hpp); common practice, no source
+    CHECK(f.warnings[0].find("lamp.csv") != std::string::npos);  // reader contract (spectrum_io.hpp); common practice, no source
+    CHECK(f.warnings[0].find("3 small negative") != std::string::npos);  // the count of clipped values
+}
+
+TEST_CASE("spectrum text errors name the source and the line") {
+    // Each case: text, line expected in InputError::line() (0 = no single line), words of the reason.
+    struct Case {
+        const char* what;
+        std::string text;
+        std::size_t line;
+        const char* reason;
+    };
+    const std::string header = "# test\nwavelength_nm,value\n";  // lines 1-2; the 380 nm row is line 3
+    auto bad_at = [](int bad_nm, const std::string& cell) {
+        return rows(",", [=](int nm) { return nm == bad_nm ? cell : std::string("1"); });
+    };
+    const Case cases[] = {
+        {"non-numeric cell", header + bad_at(440, "abc"), 6, "not a number"},
+        {"NaN", header + bad_at(400, "NaN"), 4, "not a finite number"},
+        {"Inf", header + bad_at(780, "-inf"), 23, "not a finite number"},
+        {"empty cell", "wavelength_nm,a,b\n380,1,1\n400,,1\n", 3, "not a number"},
+        {"non-increasing wavelength", header + rows(",", ones) + "780,1\n", 24, "does not increase"},
+        {"decreasing wavelength", header + "380,1\n500,1\n450,1\n780,1\n", 5, "does not increase"},
+        {"ragged row", header + bad_at(500, "1,2"), 9, "row has 3 columns, expected 2"},
+        {"only one column", header + "380\n", 3, "at least two columns"},
+        {"large negative value", header + bad_at(600, "-0.5"), 14, "negative beyond noise"},
+        {"wavelengths in micrometres", "# um\n0.38,1\n0.5,1\n0.78,1\n", 2, "must be the wavelength in nm"},
+        {"too short range 400-700 nm", "400,1\n500,1\n600,1\n700,1\n", 0, "covers 400-700 nm"},
+        {"empty file", "", 0, "no spectral data"},
+        {"only comments and a header", "# nothing\nwavelength_nm,value\n", 0, "no spectral data"},
+        {"all-zero spectrum", header + rows(",", [](int) { return "0"; }), 0, "no positive value"},
+        {"non-positive wavelength", "-5,1\n380,1\n", 1, "not positive"},
+    };
+    for (const auto& c : cases) {
+        const std::string what = c.what;
+        CAPTURE(what);
+        const InputError e = parse_error(c.text, "lamp_07.csv");
+        CHECK(e.line() == c.line);  // lamp_07.csv line as written above
+        CHECK(e.source() == "lamp_07.csv");  // reader contract (spectrum_io.hpp); common practice, no source
+        CHECK(std::string(e.what()).find("lamp_07.csv") != std::string::npos);  // reader contract (spectrum_io.hpp); common practice, no source
+        CHECK(e.problem().find(c.reason) != std::string::npos);  // reader contract (spectrum_io.hpp); common practice, no source
+        if (c.line > 0) CHECK(std::string(e.what()).find("lamp_07.csv:" + std::to_string(c.line) + ":") != std::string::npos);  // reader contract (spectrum_io.hpp); common practice, no source
+    }
+}
+
+TEST_CASE("read_spectrum_file: reads a file, names it by its stem, and reports missing files and folders") {
+    const auto dir = temp_dir();
+    const auto good = dir / "warm_white.csv";
+    {
+        std::ofstream out(good);
+        out << "wavelength_nm,value\n" << rows(",", ones);
+    }
+    const auto f = read_spectrum_file(good.string());
+    REQUIRE(f.spectra.size() == 1);  // reader contract (spectrum_io.hpp); common practice, no source
+    CHECK(f.spectra[0].name == "warm_white");  // reader contract (spectrum_io.hpp); common practice, no source
+
+    const auto bad = dir / "broken_lamp.csv";
+    {
+        std::ofstream out(bad);
+        out << "wavelength_nm,value\n380,1\n400,x\n";
+    }
+    try {
+        read_spectrum_file(bad.string());
+        FAIL("no error for a non-numeric cell");
+    } catch (const InputError& e) {
+        CHECK(e.line() == 3);  // reader contract (spectrum_io.hpp); common practice, no source
+        CHECK(std::string(e.what()).find(bad.string()) != std::string::npos);  // the path as given
+    }
+
+    CHECK_THROWS_WITH_AS(read_spectrum_file((dir / "no_such_file.csv").string()),  // reader contract (spectrum_io.hpp); common practice, no source
+                         doctest::Contains("no_such_file.csv"), InputError);
+    CHECK_THROWS_WITH_AS(read_spectrum_file(dir.string()), doctest::Contains("folder"), InputError);  // reader contract (spectrum_io.hpp); common practice, no source
+    std::filesystem::remove_all(dir);
+}
+
+TEST_CASE("write_spectrum_csv writes a file parse_spectrum_text reads back") {
+    Spectrum s{"x", 380, {}};
+    for (int nm = 380; nm <= 780; ++nm) s.values.push_back(1.0 + 1e-3 * (nm - 380));
+    std::ostringstream out;
+    write_spectrum_csv(out, s, "power");
+    std::istringstream in(out.str());
+    const auto f = parse_spectrum_text(in, "round-trip", "rt");
+    REQUIRE(f.spectra.size() == 1);  // reader contract (spectrum_io.hpp); common practice, no source
+    CHECK(f.spectra[0].name == "rt");  // reader contract (spectrum_io.hpp); common practice, no source
+    REQUIRE(f.spectra[0].values.size() == s.values.size());  // reader contract (spectrum_io.hpp); common practice, no source
+    for (std::size_t i = 0; i < s.values.size(); ++i) CHECK(std::abs(f.spectra[0].values[i] - s.values[i]) <= 1e-7);  // 8 significant digits
+}
+
+TEST_CASE("file_stem drops folders and the extension") {
+    CHECK(file_stem("lots/lamp_07.csv") == "lamp_07");  // spectrum_io.hpp contract
+    CHECK(file_stem("/a/b/c.tar.txt") == "c.tar");  // reader contract (spectrum_io.hpp); common practice, no source
+    CHECK(file_stem("plain") == "plain");  // reader contract (spectrum_io.hpp); common practice, no source
+}
