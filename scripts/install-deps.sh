@@ -6,7 +6,7 @@ packages=(
   build-essential cmake pkg-config git
   # libraries
   libeigen3-dev libnlopt-cxx-dev libnlopt-dev libboost-program-options-dev
-  libfmt-dev libtomlplusplus-dev nlohmann-json3-dev libsqlite3-dev
+  libfmt-dev libtomlplusplus-dev nlohmann-json3-dev libsqlite3-dev libpugixml-dev
   # tests and benchmarks
   doctest-dev libbenchmark-dev
   # test-only references

@@ -288,3 +288,58 @@ TEST_CASE("fit command: csv row, recipe out, infeasible exit code") {
     std::filesystem::remove(out);
     std::filesystem::remove(csv);
 }
+
+TEST_CASE("optimiser: min_fraction and max_fraction from the recipe") {
+    // Recipe keys of src/lampwright/recipe.hpp; errors name file, line and key (DEVELOPERS.md).
+    const auto dir = std::filesystem::temp_directory_path();
+    const auto path = (dir / "lampwright_fit_limits.toml").string();
+    auto write = [&](const std::string& extra) {
+        std::ofstream out(path);
+        out << "name = \"limits\"\nexcitation_nm = 253.7\n"
+               "[[component]]\nphosphor = \"Y2O3:Eu3+\"\nmass_fraction = 0.35\n"
+               "[[component]]\nphosphor = \"LaPO4:Ce3+,Tb3+\"\nmass_fraction = 0.46\n"
+               "[[component]]\nphosphor = \"Sr5(PO4)3Cl:Eu2+\"\nmass_fraction = 0.10\n"
+               "[[component]]\nphosphor = \"BaMgAl10O17:Eu2+\"\nmass_fraction = 0.09\n" << extra;
+    };
+    write("max_fraction = 0.05\n");
+    FitProblem p;
+    p.blend = load_recipe(path).blend;
+    REQUIRE(p.blend.components[3].max_fraction);
+    CHECK(*p.blend.components[3].max_fraction == 0.05);
+    p.target = target_cct(4000, 0.0);
+    p.objective = FitObjective::ra;
+    const FitResult r = solve(p);
+    check_answer(p, r);
+    CHECK(r.mass_fractions[3] <= 0.05);
+    write("min_fraction = 5\n");
+    try {
+        (void)load_recipe(path);
+        FAIL("no error for min_fraction = 5");
+    } catch (const InputError& e) {
+        CHECK(e.source() == path);
+        CHECK(e.line() == 15);
+        CHECK(std::string(e.what()).find("min_fraction") != std::string::npos);
+    }
+    std::filesystem::remove(path);
+}
+
+TEST_CASE("optimiser: fraction sensitivity") {
+    // Euler's theorem for a function unchanged when every fraction is scaled (the light depends
+    // on w only through w / sum w): sum_i w_i dF/dw_i = 0. Common practice, no source.
+    const BlendInput b = load_recipe(example("multiband_5000K.toml")).blend;
+    const auto rows = fraction_sensitivity(b);
+    REQUIRE(rows.size() == 5);
+    double su = 0, sv = 0, sduv = 0;
+    for (const auto& r : rows) su += r.mass_fraction * r.d_u_prime, sv += r.mass_fraction * r.d_v_prime, sduv += r.mass_fraction * r.d_duv;
+    CHECK(std::abs(su) < 1e-6);
+    CHECK(std::abs(sv) < 1e-6);
+    CHECK(std::abs(sduv) < 1e-6);
+    // The u' row of the first component against two blend evaluations (+-0.005, renormalised).
+    BlendInput lo = b, hi = b;
+    double total = 0;
+    for (const auto& c : b.components) total += c.mass_fraction;
+    lo.components[0].mass_fraction -= 0.005 * total;
+    hi.components[0].mass_fraction += 0.005 * total;
+    const double du = evaluate_blend(hi).assessment.uv_prime.u - evaluate_blend(lo).assessment.uv_prime.u;
+    CHECK(rows[0].d_u_prime == doctest::Approx(du).epsilon(1e-6));
+}

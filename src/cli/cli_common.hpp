@@ -6,6 +6,10 @@
 #include <string>
 #include <vector>
 
+namespace lampwright {
+struct QcRun;
+}
+
 namespace lampwright::cli {
 
 // Exit codes every command uses.
@@ -32,11 +36,16 @@ bool parse_command_line(int argc, char** argv, const boost::program_options::opt
 // The usual cautions of the trade, printed by --help and beside results where they apply.
 extern const char* const kSafetyNotice;
 
+// Prints the corrected recipe for a QC lot (text when `text`), returns an HTML fragment for the report.
+std::string print_lot_correction(const QcRun& run, const std::string& recipe_path, bool text);
+
 int run_assess(int argc, char** argv);
 int run_phosphors(int argc, char** argv);
 int run_blend(int argc, char** argv);
 int run_fit(int argc, char** argv);
 int run_layer(int argc, char** argv);
+int run_qc_command(int argc, char** argv);
+int run_history(int argc, char** argv);
 int run_compare(int argc, char** argv);
 
 }  // namespace lampwright::cli

@@ -41,7 +41,9 @@ std::string fit_text(const FitProblem& p, const FitResult& r, double ms) {
     std::ostringstream o;
     const Assessment& a = r.result.assessment;
     o << fmt::format("Fit of '{}'\n", p.blend.name);
-    o << fmt::format("  target:     {} (x = {:.4f}, y = {:.4f})\n", p.target.description, p.target.xy.x, p.target.xy.y);
+    o << fmt::format("  target:     {}", p.target.description);
+    if (p.target.kind != Target::Kind::chromaticity) o << fmt::format(" (x = {:.4f}, y = {:.4f})", p.target.xy.x, p.target.xy.y);
+    o << '\n';
     o << fmt::format("  objective:  {}\n", fit_objective_name(p.objective));
     o << fmt::format("  method:     {}, {} evaluations, {:.1f} ms\n", r.method, r.evaluations, ms);
     o << fmt::format("  result:     {}{}\n", r.feasible ? "" : "NOT FEASIBLE - ", r.message);
@@ -127,6 +129,7 @@ TARGET (one of):
         ("min-ra", po::value<double>(), "require Ra >= this")("min-r9", po::value<double>(), "require R9 >= this")
         ("min-ler", po::value<double>(), "require LER >= this (lm/W)")
         ("method", po::value(&method), "auto | exact | nlopt (default auto)")
+        ("sensitivity", "text format: also print what one percentage point more of each component does to u', v', CCT, Duv, Ra")
         ("recipe-out", po::value(&recipe_out), "write the fitted recipe (TOML, loadable by 'blend')")
         ("format,f", po::value(&format), "text | csv | json (default text)")
         ("phosphors", po::value(&folders), "a folder of your own phosphor files (*.toml); repeatable");
@@ -190,7 +193,16 @@ TARGET (one of):
     for (const auto& w : r.result.assessment.warnings) print_warning(fmt::format("{}: {}", r.result.name, w));
 
     switch (f) {
-        case Format::text: std::cout << fit_text(p, r, ms); break;
+        case Format::text:
+            std::cout << fit_text(p, r, ms);
+            if (vm.count("sensitivity")) {
+                std::cout << "\n  sensitivity: one percentage point more of (then renormalised)\n"
+                          << fmt::format("  {:<40} {:>9} {:>9} {:>8} {:>9} {:>7}\n", "component", "du'", "dv'", "dCCT K", "dDuv", "dRa");
+                for (const auto& s : fraction_sensitivity(r.blend))
+                    std::cout << fmt::format("  {:<40} {:+9.5f} {:+9.5f} {:+8.1f} {:+9.5f} {:+7.2f}\n", s.label, s.d_u_prime, s.d_v_prime,
+                                             s.d_cct_K, s.d_duv, s.d_ra);
+            }
+            break;
         case Format::csv: {
             auto cols = blend_columns(r.result);
             auto vals = blend_values(r.result);
@@ -207,7 +219,7 @@ TARGET (one of):
         }
         case Format::json: std::cout << fit_json(p, r, ms).dump(2) << '\n'; break;
     }
-    if (!r.feasible) throw InputError(recipe.path, 0, "no feasible blend for " + p.target.description + ": " + r.message);
+    if (!r.feasible) throw InputError(recipe.path, 0, "target " + p.target.description + ": " + r.message);
     if (!recipe_out.empty()) {
         std::ofstream out(recipe_out);
         if (!out) throw InputError(recipe_out, 0, "cannot be written");

@@ -21,6 +21,8 @@ Commands:
   fit        solve a recipe's mass fractions for a target white
   layer      model a phosphor conversion layer on a UV/violet LED
   compare    layer designs, recipes and spectra side by side
+  qc         judge a lot of measured lamps against a specification
+  history    recorded lots, their statistics and control charts
 
 Run 'lampwright COMMAND --help' for the options of a command.
 
@@ -46,6 +48,8 @@ int main(int argc, char** argv) {
         if (command == "fit") return run_fit(argc - 1, argv + 1);
         if (command == "layer") return run_layer(argc - 1, argv + 1);
         if (command == "compare") return run_compare(argc - 1, argv + 1);
+        if (command == "qc") return run_qc_command(argc - 1, argv + 1);
+        if (command == "history") return run_history(argc - 1, argv + 1);
         print_error("unknown command '" + command + "'");
         std::cerr << kUsage;
         return kExitUsage;

@@ -677,4 +677,36 @@ FitResult solve(const FitProblem& p, const FitOptions& opt) {
     return r;
 }
 
+std::vector<SensitivityRow> fraction_sensitivity(const BlendInput& blend, double step) {
+    if (!(step > 0 && step < 0.5)) throw Error(fmt::format("sensitivity step must lie in (0, 0.5), not {:g}", step));
+    const FastBlend fb(blend);
+    FitProblem p;
+    p.blend = blend;
+    const std::vector<double> w = normalised_start(p);
+    auto at = [&](std::size_t i, double dw) {
+        std::vector<double> v = w;
+        v[i] += dw;
+        const double sum = std::accumulate(v.begin(), v.end(), 0.0);
+        for (double& x : v) x /= sum;
+        return fb.evaluate(v).a;
+    };
+    std::vector<SensitivityRow> rows;
+    for (std::size_t i = 0; i < w.size(); ++i) {
+        // Central difference where the fraction allows it, forward otherwise.
+        const double lo = std::min(step / 2, w[i]), hi = step / 2;
+        const Assessment a = at(i, -lo), b = at(i, hi);
+        const double scale = step / (lo + hi);
+        SensitivityRow r;
+        r.label = blend.components[i].label;
+        r.mass_fraction = w[i];
+        r.d_u_prime = (b.uv_prime.u - a.uv_prime.u) * scale;
+        r.d_v_prime = (b.uv_prime.v - a.uv_prime.v) * scale;
+        r.d_cct_K = a.cct.valid && b.cct.valid ? (b.cct.cct_K - a.cct.cct_K) * scale : std::nan("");
+        r.d_duv = (b.cct.duv - a.cct.duv) * scale;
+        r.d_ra = a.rendering && b.rendering ? (b.rendering->ra - a.rendering->ra) * scale : std::nan("");
+        rows.push_back(r);
+    }
+    return rows;
+}
+
 }  // namespace lampwright

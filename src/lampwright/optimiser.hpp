@@ -7,10 +7,14 @@
 //     s is converted back to mass fractions w_i ~ s_i / a_i. A target outside the triangle of the
 //     three components' chromaticities is infeasible; the nearest reachable chromaticity (closest
 //     point of the triangle in u'v') is reported. Never a negative fraction.
-//   - otherwise (and to use the chromaticity tolerance for a better objective on three): NLopt
-//     COBYLA (derivative-free: CIE 13.3 Ra jumps at 5000 K where the reference switches), with
-//     the sum-to-one condition eliminated by parametrisation (one component takes 1 - sum of the
-//     others), several deterministic starts, first onto the target, then for the objective.
+//   - four or more: the blends exactly on the target are an affine set in w (the two chromaticity
+//     equations are linear and homogeneous in w, plus sum w = 1); NLopt COBYLA (derivative-free:
+//     CIE 13.3 Ra jumps at 5000 K where the reference switches) searches its null space from
+//     several deterministic starts under the fraction limits, then the best answer is polished
+//     within the chromaticity tolerance in the full space (sum-to-one eliminated by letting one
+//     component take 1 - the others). The same full-space search, first onto the target and then
+//     for the objective, serves three components (from the exact solution) and the case where no
+//     on-target blend meets the limits.
 // Every returned answer is re-checked with evaluate_blend, on the fractions as written to a
 // recipe (6 decimals); the report lists each constraint, its value and whether it is active.
 #include "lampwright/blend.hpp"
@@ -91,5 +95,16 @@ FitResult solve(const FitProblem& problem, const FitOptions& options = {});
 // Every constraint of the problem checked on an evaluated blend (fractions per problem component).
 std::vector<ConstraintReport> check_constraints(const FitProblem& problem, const std::vector<double>& mass_fractions,
                                                 const BlendResult& result);
+
+// Sensitivity of the blend to its fractions: the change of u', v', CCT, Duv and Ra when one
+// component gets one percentage point more of the mass (w_i + 0.01, then all renormalised),
+// by central differences (+-0.005) on the blend model. Ra and CCT near 5000 K are not smooth
+// (CIE 13.3 switches the reference there): read those rows with care.
+struct SensitivityRow {
+    std::string label;
+    double mass_fraction = 0;
+    double d_u_prime = 0, d_v_prime = 0, d_cct_K = 0, d_duv = 0, d_ra = 0;
+};
+std::vector<SensitivityRow> fraction_sensitivity(const BlendInput& blend, double step = 0.01);
 
 }  // namespace lampwright

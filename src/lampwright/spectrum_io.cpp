@@ -11,8 +11,13 @@
 #include <filesystem>
 #include <fstream>
 #include <istream>
+#include <cstring>
 #include <optional>
 #include <ostream>
+#include <ranges>
+#include <sstream>
+
+#include <pugixml.hpp>
 
 namespace lampwright {
 
@@ -80,6 +85,45 @@ bool looks_non_finite(const std::string& field) {
     return f == "nan" || f == "inf" || f == "infinity";
 }
 
+// Checks shared by every format: wavelength unit and range, then per spectrum a positive value
+// and negative noise. columns[0] holds the wavelengths; lines[i] the source line of row i.
+SpectrumFile validated_spectra(const std::string& source, const std::vector<std::string>& names, std::vector<std::vector<double>>& columns,
+                               const std::vector<std::size_t>& value_lines, const SpectrumReadOptions& options) {
+    const auto& wl = columns[0];
+    if (wl.back() < 100.0 || wl.front() > 100000.0)
+        throw InputError(source, value_lines.front(), fmt::format("wavelengths run {}-{}; the first column must be the wavelength in nm", wl.front(), wl.back()));
+    if (options.check_range && (wl.front() > options.min_required_nm + 1e-9 || wl.back() < options.max_required_nm - 1e-9))
+        throw InputError(source, 0, fmt::format("covers {:g}-{:g} nm; at least {:g}-{:g} nm is needed for colorimetry (CIE 15:2004)",
+                                                wl.front(), wl.back(), options.min_required_nm, options.max_required_nm));
+
+    SpectrumFile result;
+    for (std::size_t c = 1; c < columns.size(); ++c) {
+        SampledSpectrum s;
+        s.name = names[c - 1];
+        s.wavelengths_nm = wl;
+        s.values = std::move(columns[c]);
+        const double peak = *std::max_element(s.values.begin(), s.values.end());
+        if (options.allow_negative) {
+            result.spectra.push_back(std::move(s));
+            continue;
+        }
+        if (!(peak > 0.0)) throw InputError(source, 0, fmt::format("spectrum '{}' has no positive value", s.name));
+        std::size_t clipped = 0;
+        for (std::size_t i = 0; i < s.values.size(); ++i) {
+            if (s.values[i] >= 0.0) continue;
+            if (-s.values[i] > options.negative_noise_fraction * peak)
+                throw InputError(source, value_lines[i], fmt::format("spectrum '{}' has value {:g} at {:g} nm, negative beyond noise ({:g} % of its peak)",
+                                                                     s.name, s.values[i], wl[i], options.negative_noise_fraction * 100));
+            s.values[i] = 0.0;
+            ++clipped;
+        }
+        if (clipped > 0)
+            result.warnings.push_back(fmt::format("{}: spectrum '{}': {} small negative value(s) (noise) set to zero", source, s.name, clipped));
+        result.spectra.push_back(std::move(s));
+    }
+    return result;
+}
+
 }  // namespace
 
 std::string file_stem(const std::string& path) { return std::filesystem::path(path).stem().string(); }
@@ -138,48 +182,61 @@ SpectrumFile parse_spectrum_text(std::istream& in, const std::string& source, co
     if (in.bad()) throw InputError(source, 0, "could not be read");
     if (columns.empty() || columns[0].size() < 2) throw InputError(source, 0, "holds no spectral data (need rows of wavelength_nm,value)");
 
-    const auto& wl = columns[0];
-    if (wl.back() < 100.0 || wl.front() > 100000.0)
-        throw InputError(source, value_lines.front(), fmt::format("wavelengths run {}-{}; the first column must be the wavelength in nm", wl.front(), wl.back()));
-    if (options.check_range && (wl.front() > options.min_required_nm + 1e-9 || wl.back() < options.max_required_nm - 1e-9))
-        throw InputError(source, 0, fmt::format("covers {:g}-{:g} nm; at least {:g}-{:g} nm is needed for colorimetry (CIE 15:2004)",
-                                                wl.front(), wl.back(), options.min_required_nm, options.max_required_nm));
+    std::vector<std::string> column_names;
+    for (std::size_t c = 1; c < columns.size(); ++c)
+        column_names.push_back(columns.size() == 2 ? stem : (header_seen ? names[c - 1] : fmt::format("{}:{}", stem, c + 1)));
+    return validated_spectra(source, column_names, columns, value_lines, options);
+}
 
-    SpectrumFile result;
-    for (std::size_t c = 1; c < columns.size(); ++c) {
-        SampledSpectrum s;
-        if (columns.size() == 2) s.name = stem;
-        else s.name = header_seen ? names[c - 1] : fmt::format("{}:{}", stem, c + 1);
-        s.wavelengths_nm = wl;
-        s.values = std::move(columns[c]);
-        const double peak = *std::max_element(s.values.begin(), s.values.end());
-        if (options.allow_negative) {
-            result.spectra.push_back(std::move(s));
-            continue;
-        }
-        if (!(peak > 0.0)) throw InputError(source, 0, fmt::format("spectrum '{}' has no positive value", s.name));
-        std::size_t clipped = 0;
-        for (std::size_t i = 0; i < s.values.size(); ++i) {
-            if (s.values[i] >= 0.0) continue;
-            if (-s.values[i] > options.negative_noise_fraction * peak)
-                throw InputError(source, value_lines[i], fmt::format("spectrum '{}' has value {:g} at {:g} nm, negative beyond noise ({:g} % of its peak)",
-                                                                     s.name, s.values[i], wl[i], options.negative_noise_fraction * 100));
-            s.values[i] = 0.0;
-            ++clipped;
-        }
-        if (clipped > 0)
-            result.warnings.push_back(fmt::format("{}: spectrum '{}': {} small negative value(s) (noise) set to zero", source, s.name, clipped));
-        result.spectra.push_back(std::move(s));
+SpectrumFile parse_tm27_xml(const std::string& bytes, const std::string& source, const std::string& stem, const SpectrumReadOptions& options) {
+    pugi::xml_document doc;
+    const pugi::xml_parse_result ok = doc.load_buffer(bytes.data(), bytes.size());
+    auto line_at = [&](std::ptrdiff_t offset) {
+        return static_cast<std::size_t>(1 + std::count(bytes.begin(), bytes.begin() + std::clamp<std::ptrdiff_t>(offset, 0, static_cast<std::ptrdiff_t>(bytes.size())), '\n'));
+    };
+    if (!ok) throw InputError(source, line_at(ok.offset), fmt::format("XML: {}", ok.description()));
+    auto local = [](const char* name) {
+        const char* colon = std::strrchr(name, ':');
+        return std::string(colon ? colon + 1 : name);
+    };
+    if (local(doc.document_element().name()) != "IESTM2714")
+        throw InputError(source, 1, fmt::format("XML root is <{}>, not an IES TM-27 <IESTM2714> document", doc.document_element().name()));
+    std::vector<std::vector<double>> columns(2);
+    std::vector<std::size_t> lines;
+    for (pugi::xml_node n : doc.select_nodes("//*[local-name()='SpectralData']") | std::views::transform([](const pugi::xpath_node& x) { return x.node(); })) {
+        const std::size_t line = line_at(n.offset_debug());
+        const char* wl_text = n.attribute("wavelength").value();
+        const std::string value_text = trim(n.child_value());
+        const auto wl = parse_number(wl_text, false);
+        const auto v = parse_number(value_text, false);
+        if (!wl || !std::isfinite(*wl)) throw InputError(source, line, fmt::format("SpectralData wavelength '{}' is not a finite number", wl_text));
+        if (!v || !std::isfinite(*v) || looks_non_finite(value_text)) throw InputError(source, line, fmt::format("SpectralData value '{}' is not a finite number", value_text));
+        if (!columns[0].empty() && *wl <= columns[0].back())
+            throw InputError(source, line, fmt::format("wavelength {} nm does not increase (previous {} nm); wavelengths must be strictly increasing", *wl, columns[0].back()));
+        columns[0].push_back(*wl);
+        columns[1].push_back(*v);
+        lines.push_back(line);
     }
-    return result;
+    if (columns[0].size() < 2) throw InputError(source, 0, "IES TM-27 document holds no <SpectralData wavelength=\"...\"> elements");
+    (void)local;
+    return validated_spectra(source, {stem}, columns, lines, options);
+}
+
+SpectrumFile parse_spectrum_bytes(const std::string& bytes, const std::string& source, const SpectrumReadOptions& options) {
+    const auto first = bytes.find_first_not_of(" \t\r\n\xEF\xBB\xBF");
+    if (first != std::string::npos && bytes[first] == '<') return parse_tm27_xml(bytes, source, file_stem(source), options);
+    std::istringstream in(bytes);
+    return parse_spectrum_text(in, source, file_stem(source), options);
 }
 
 SpectrumFile read_spectrum_file(const std::string& path, const SpectrumReadOptions& options) {
     std::error_code ec;
     if (std::filesystem::is_directory(path, ec)) throw InputError(path, 0, "is a folder, not a spectrum file");
-    std::ifstream in(path);
+    std::ifstream in(path, std::ios::binary);
     if (!in) throw InputError(path, 0, "cannot be opened (missing or unreadable)");
-    return parse_spectrum_text(in, path, file_stem(path), options);
+    std::ostringstream ss;
+    ss << in.rdbuf();
+    return parse_spectrum_bytes(ss.str(), path, options);
 }
 
 void write_spectrum_csv(std::ostream& out, const Spectrum& s, const std::string& column) {

@@ -1,5 +1,5 @@
 #pragma once
-// Reading and writing spectra as delimited text.
+// Reading and writing spectra: delimited text, and IES TM-27-14 spectral XML for reading.
 //
 // Accepted layout: optional '#' comment lines (and trailing '# ...' comments), an optional header
 // row, then rows of numbers. The first column is the wavelength in nm; every further column is
@@ -32,6 +32,11 @@ struct SpectrumFile {
 // `source` names the input in messages (a path, or "stdin"); `stem` names single-column spectra.
 SpectrumFile parse_spectrum_text(std::istream& in, const std::string& source, const std::string& stem,
                                  const SpectrumReadOptions& options = {});
+// IES TM-27-14 spectral XML: <IESTM2714> ... <SpectralData wavelength="380">0.12</SpectralData> ...
+SpectrumFile parse_tm27_xml(const std::string& bytes, const std::string& source, const std::string& stem,
+                            const SpectrumReadOptions& options = {});
+// A file's content in either format (XML when it starts with '<', delimited text otherwise).
+SpectrumFile parse_spectrum_bytes(const std::string& bytes, const std::string& source, const SpectrumReadOptions& options = {});
 SpectrumFile read_spectrum_file(const std::string& path, const SpectrumReadOptions& options = {});
 
 // Writes "wavelength_nm,<name>" rows at 1 nm.

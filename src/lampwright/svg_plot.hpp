@@ -28,6 +28,46 @@ std::string svg_chart(const SvgAxes& axes, const std::vector<SvgSeries>& series)
 std::string svg_uv_diagram(const std::string& title, const std::vector<SvgSeries>& points, double u_min, double u_max,
                            double v_min, double v_max, int width = 520, int height = 520);
 
+// Extra drawing for a chart, in the chart's data coordinates (u', v' for the u'v' diagram), clipped
+// to the plot area: filled regions and reference lines under the series, single markers over them.
+struct SvgPolygon {
+    std::vector<double> x, y;
+    bool closed = true;              // <polygon>; false draws an open <polyline>
+    std::string id, css_class;       // attributes, written when not empty
+    std::string stroke = "#333", fill = "none";
+    double stroke_width = 1.0, fill_opacity = 1.0;
+    std::string dash;                // stroke-dasharray, e.g. "4 3"
+    std::string title;               // tooltip (<title>)
+};
+struct SvgMarker {
+    double x = 0, y = 0;
+    enum class Shape { circle, ring, diamond, plus } shape = Shape::circle;
+    double size = 3.5;               // radius in pixels
+    std::string id, css_class, colour = "#000", title;
+};
+struct SvgText {
+    double x = 0, y = 0;             // data coordinates
+    std::string text, anchor = "start", colour = "#000";
+    double dx = 0, dy = 0;           // offset in pixels
+};
+struct SvgOverlay {
+    std::string id, css_class;       // attributes of the <svg> element
+    std::vector<SvgPolygon> polygons;
+    std::vector<SvgMarker> markers;
+    std::vector<SvgText> texts;
+    std::string pixel_svg;           // raw SVG in pixel coordinates, drawn last (legends)
+};
+
+// The same charts with an overlay.
+std::string svg_chart(const SvgAxes& axes, const std::vector<SvgSeries>& series, const SvgOverlay& overlay);
+std::string svg_uv_diagram(const std::string& title, const std::vector<SvgSeries>& points, double u_min, double u_max,
+                           double v_min, double v_max, int width, int height, const SvgOverlay& overlay);
+// The plot area of a chart of the given size, in pixels (for placing pixel_svg).
+struct SvgPlotArea {
+    int left = 0, top = 0, right = 0, bottom = 0;
+};
+SvgPlotArea svg_plot_area(int width, int height);
+
 // Distinct colours for series i = 0, 1, ...
 std::string series_colour(std::size_t i);
 // Text escaped for XML.

@@ -1,0 +1,69 @@
+// lampwright history: the lots recorded by qc, their statistics, and control charts.
+#include "cli_common.hpp"
+
+#include "lampwright/assessment_report.hpp"
+#include "lampwright/error.hpp"
+#include "lampwright/lot_history.hpp"
+
+#include <filesystem>
+#include <fstream>
+#include <iostream>
+
+namespace po = boost::program_options;
+
+namespace lampwright::cli {
+
+int run_history(int argc, char** argv) {
+    po::options_description opts(std::string(R"(Usage: lampwright history [options]
+
+Lists the lots recorded in the lot history database (by 'lampwright qc') with their statistics:
+lamps, pass rate, bad files, chromaticity centroid and its offset from the target in MacAdam
+steps, mean and standard deviation of CCT, Duv, Ra and R9. With text output it also prints
+control charts over the lots (recording order) of the centroid's MacAdam steps, the mean Ra and
+the mean CCT: centre line = mean over lots, limits = mean +- 3 standard deviations (Shewhart
+chart; Montgomery, Introduction to Statistical Quality Control); lots beyond a limit are marked.
+
+)") + "Options");
+    std::string format = "text", db = kDefaultHistoryDb, svg;
+    opts.add_options()("help,h", "show this help")("db", po::value(&db), "the lot history database (default lampwright.db in this folder)")
+        ("svg", po::value(&svg), "write the control charts as one SVG file")
+        ("format,f", po::value(&format), "text | csv | json (default text)");
+    po::variables_map vm;
+    if (!parse_command_line(argc, argv, opts, "", nullptr, vm, "history")) return kExitOk;
+    const Format f = parse_format(format);
+
+    std::error_code ec;
+    if (!std::filesystem::exists(db, ec))
+        throw InputError(db, 0, "no lot history database here (record lots with 'lampwright qc', or name one with --db PATH)");
+    if (std::filesystem::is_directory(db, ec)) throw InputError(db, 0, "is a folder, not a lot history database");
+    const auto lots = list_lots(db);
+    const auto charts = control_charts(lots);
+    if (!svg.empty()) {
+        std::ofstream out(svg);
+        if (!out) throw InputError(svg, 0, "cannot be written");
+        out << control_charts_svg(charts);
+        if (!out) throw InputError(svg, 0, "could not be written completely");
+    }
+    switch (f) {
+        case Format::text:
+            std::cout << "Lot history: " << db << " (" << lots.size() << (lots.size() == 1 ? " lot" : " lots") << ")\n\n" << lots_text(lots);
+            if (!lots.empty()) std::cout << '\n' << control_charts_text(charts);
+            break;
+        case Format::csv:
+            std::cout << csv_line(lot_columns()) << '\n';
+            for (const auto& l : lots) std::cout << csv_line(lot_values(l)) << '\n';
+            break;
+        case Format::json: {
+            nlohmann::ordered_json j;
+            j["database"] = db;
+            j["lots"] = nlohmann::ordered_json::array();
+            for (const auto& l : lots) j["lots"].push_back(lot_json(l));
+            j["control_charts"] = control_charts_json(charts);
+            std::cout << j.dump(2) << '\n';
+            break;
+        }
+    }
+    return kExitOk;
+}
+
+}  // namespace lampwright::cli

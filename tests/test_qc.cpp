@@ -1,0 +1,219 @@
+// Quality control: specs, lamp verdicts, lot statistics, Cpk, outliers, bad files, TM-27 XML,
+// and the recipe correction from a drifted lot.
+#include "lampwright/blend.hpp"
+#include "lampwright/cie_tables.hpp"
+#include "lampwright/illuminants.hpp"
+#include "lampwright/interpolation.hpp"
+#include "lampwright/lot_correction.hpp"
+#include "lampwright/qc.hpp"
+#include "lampwright/recipe.hpp"
+#include "lampwright/spectrum_io.hpp"
+
+#include <doctest/doctest.h>
+#include <fmt/format.h>
+
+#include <cmath>
+#include <filesystem>
+#include <fstream>
+#include <random>
+
+using namespace lampwright;
+namespace fs = std::filesystem;
+
+namespace {
+
+fs::path scratch(const std::string& name) {
+    const fs::path p = fs::temp_directory_path() / fmt::format("lampwright_qc_{}_{}", name, ::getpid());
+    fs::remove_all(p);
+    fs::create_directories(p);
+    return p;
+}
+
+std::string write(const fs::path& p, const std::string& text) {
+    std::ofstream(p) << text;
+    return p.string();
+}
+
+void write_spectrum(const fs::path& p, const Spectrum& s) {
+    std::ofstream out(p);
+    write_spectrum_csv(out, s, "W_per_nm");
+}
+
+}  // namespace
+
+TEST_CASE("qc spec: the three target kinds and the limits load") {
+    const auto dir = scratch("spec");
+    const auto f = load_qc_spec(write(dir / "a.toml", "name='F4100'\n[target]\nflamp='F4100'\nsteps=4\n[limits]\nra_min=80\nr9_min=0\ncct_min_K=3800\ncct_max_K=4300\n"));
+    CHECK(f.region == QcSpec::Region::ellipse);
+    CHECK(f.max_steps == 4);
+    CHECK(f.centre.x == doctest::Approx(0.3818));  // ANSI C78.376 F4100 centre (from memory, shared/standards-facts.md)
+    CHECK(*f.ra_min == 80);
+    const auto q = load_qc_spec(write(dir / "b.toml", "name='SSL 3500'\n[target]\nansi_class=3500\n"));
+    CHECK(q.region == QcSpec::Region::ansi_quadrangle);
+    CHECK(q.centre.x == doctest::Approx(0.4078));  // ANSI C78.377-2017 Table 1
+    const auto c = load_qc_spec(write(dir / "c.toml", "name='circle'\n[target]\nx=0.38\ny=0.38\nduv_prime_max=0.004\n"));
+    CHECK(c.region == QcSpec::Region::circle);
+    CHECK(c.max_duv_prime == 0.004);
+
+    const char* bad[][2] = {
+        {"name='x'\n[target]\nflamp='F9999'\n", "F9999"},
+        {"name='x'\n[target]\nflamp='F4100'\nansi_class=4000\n", "exactly one"},
+        {"name='x'\n[target]\nx=0.38\n", "both x and y"},
+        {"name='x'\n[target]\nflamp='F4100'\n[limits]\ncct_min_K=4300\ncct_max_K=3800\n", "below"},
+        {"name='x'\n[target]\nflamp='F4100'\n[limits]\nra_minimum=80\n", "unknown key"},
+        {"name='x'\n[target]\nx=0.38\ny=0.38\nsteps=4\nduv_prime_max=0.004\n", "not both"},
+    };
+    for (const auto& b : bad) {
+        const std::string path = write(dir / "bad.toml", b[0]);
+        try {
+            (void)load_qc_spec(path);
+            FAIL("accepted: " << b[0]);
+        } catch (const InputError& e) {
+            CHECK(std::string(e.what()).find(path) != std::string::npos);
+            CHECK(std::string(e.what()).find(b[1]) != std::string::npos);
+            CHECK(e.line() > 0);
+        }
+    }
+    fs::remove_all(dir);
+}
+
+TEST_CASE("qc: a lamp is judged against every limit and the failures are named") {
+    QcSpec spec;
+    spec.centre = {0.38, 0.38};
+    spec.step_ellipse = macadam_ellipse(spec.centre, 0.003, 0.001, 0.0);
+    spec.max_steps = 4;
+    spec.ra_min = 80;
+    spec.r9_min = 0;
+    spec.cct_min_K = 3800;
+    spec.cct_max_K = 4300;
+    // CIE FL2: x 0.3721, y 0.3751, CCT 4230 K, Ra 64 (CIE 15:2004 Table T.8).
+    const LampResult fl2 = judge_lamp(spec, assess(cie_fl_illuminant(2)));
+    CHECK_FALSE(fl2.pass());
+    // Hand-computed steps with g11 = 1/a^2, g22 = 1/b^2 (theta = 0): MacAdam 1942 quadratic form.
+    const double dx = fl2.assessment.xy.x - 0.38, dy = fl2.assessment.xy.y - 0.38;
+    CHECK(fl2.steps == doctest::Approx(std::sqrt(dx * dx / 9e-6 + dy * dy / 1e-6)).epsilon(1e-12));
+    bool ra_named = false, r9_named = false;
+    for (const auto& f : fl2.failures) {
+        ra_named |= f.find("Ra 64") != std::string::npos;
+        r9_named |= f.find("R9") != std::string::npos;
+    }
+    CHECK(ra_named);
+    CHECK(r9_named);
+    // CIE FL11 (4000 K tri-band, Ra 83, Table T.8) near the centre passes the Ra and CCT limits.
+    const LampResult fl11 = judge_lamp(spec, assess(cie_fl_illuminant(11)));
+    for (const auto& f : fl11.failures) CHECK(f.find("Ra") == std::string::npos);
+    for (const auto& f : fl11.failures) CHECK(f.find("CCT") == std::string::npos);
+}
+
+TEST_CASE("qc: Cpk follows the textbook formula") {
+    // Cpk = min(USL - mean, mean - LSL) / 3 sigma (Montgomery, Introduction to Statistical Quality
+    // Control, process capability chapter; worked numbers from memory): mean 10, sd 1, LSL 7, USL 14 -> 1.0.
+    CHECK(process_capability(10, 1, 7.0, 14.0) == doctest::Approx(1.0));
+    CHECK(process_capability(10, 1, 7.0, std::nullopt) == doctest::Approx(1.0));
+    CHECK(process_capability(10, 1, std::nullopt, 14.0) == doctest::Approx(4.0 / 3.0));
+    CHECK(process_capability(10, 0.5, 8.5, 11.0) == doctest::Approx(2.0 / 3.0));
+    CHECK(std::isnan(process_capability(10, 0, 7.0, 14.0)));
+}
+
+TEST_CASE("qc: lot statistics, centroid and robust outliers") {
+    QcSpec spec;
+    spec.centre = {0.38, 0.38};
+    spec.step_ellipse = macadam_ellipse(spec.centre, 0.003, 0.0013, 54.0);
+    spec.max_steps = 4;
+    spec.ra_min = 50;
+    std::vector<LampResult> lamps;
+    std::mt19937 rng(7);
+    std::normal_distribution<double> jitter(0, 15);
+    for (int i = 0; i < 30; ++i) {
+        Spectrum s = planckian(4000 + jitter(rng));
+        s.name = fmt::format("lamp{}", i);
+        lamps.push_back(judge_lamp(spec, assess(s)));
+    }
+    Spectrum far = planckian(6500);
+    far.name = "odd";
+    lamps.push_back(judge_lamp(spec, assess(far)));
+    const LotStatistics st = lot_statistics(spec, lamps);
+    CHECK(st.count == 31);
+    double mx = 0;
+    for (const auto& l : lamps) mx += l.assessment.xy.x;
+    CHECK(st.centroid.x == doctest::Approx(mx / 31).epsilon(1e-12));  // centroid = mean chromaticity (common practice, no source)
+    // Iglewicz and Hoaglin (1993): |0.6745 (x - median) / MAD| > 3.5 flags the 6500 K lamp only.
+    CHECK(lamps.back().outlier);
+    int flagged = 0;
+    for (const auto& l : lamps) flagged += l.outlier ? 1 : 0;
+    CHECK(flagged == 1);
+    CHECK(st.outliers == 1);
+}
+
+TEST_CASE("qc run: bad files are named, the rest of the lot is still judged, XML and multi-column files read") {
+    const auto dir = scratch("run");
+    write_spectrum(dir / "good1.csv", planckian(3950));
+    write_spectrum(dir / "good2.csv", planckian(4050));
+    write(dir / "nan.csv", "wavelength_nm,v\n380,1\n390,nan\n780,1\n");
+    write(dir / "short.csv", "wavelength_nm,v\n400,1\n500,1\n700,1\n");
+    write(dir / "text.csv", "this is not a spectrum\n");
+    // Two lamps in one file (one spectrum per column, named by the header).
+    {
+        std::ofstream out(dir / "pair.csv");
+        out << "wavelength_nm,lampA,lampB\n";
+        const Spectrum a = planckian(3900), b = planckian(4100);
+        for (std::size_t k = 0; k < a.values.size(); k += 5) out << a.first_nm + static_cast<int>(k) << ',' << a.values[k] << ',' << b.values[k] << '\n';
+    }
+    // IES TM-27-14 spectral XML.
+    {
+        std::ofstream out(dir / "tm27.xml");
+        out << "<?xml version=\"1.0\"?>\n<IESTM2714 xmlns=\"iestm2714\" version=\"1.0\">\n<Header><Description>test</Description></Header>\n<SpectralDistribution>\n";
+        const Spectrum a = planckian(4000);
+        for (std::size_t k = 0; k < a.values.size(); k += 5)
+            out << "<SpectralData wavelength=\"" << a.first_nm + static_cast<int>(k) << "\">" << a.values[k] << "</SpectralData>\n";
+        out << "</SpectralDistribution>\n</IESTM2714>\n";
+    }
+    write(dir / "broken.xml", "<IESTM2714><SpectralDistribution><SpectralData wavelength=\"380\">1</SpectralData>\n<SpectralData wavelength=\"390\">x</SpectralData></SpectralDistribution></IESTM2714>\n");
+    QcSpec spec;
+    spec.centre = {0.3805, 0.3768};
+    spec.step_ellipse = macadam_ellipse(spec.centre, 0.00313, 0.00134, 54.0);
+    spec.max_steps = 7;
+    const QcRun run = run_qc(spec, {dir.string()}, 2);
+    CHECK(run.lamps.size() == 5);  // good1, good2, lampA, lampB, tm27
+    REQUIRE(run.bad_files.size() == 4);
+    for (const auto& b : run.bad_files) {
+        CAPTURE(b.file);
+        CHECK_FALSE(b.reason.empty());
+    }
+    bool xml_line = false;
+    for (const auto& b : run.bad_files)
+        if (b.file.find("broken.xml") != std::string::npos) xml_line = b.reason.find("line 2") != std::string::npos;
+    CHECK(xml_line);
+    bool tm27_read = false;
+    for (const auto& l : run.lamps)
+        if (l.name == "tm27") tm27_read = std::abs(l.assessment.cct.cct_K - 4000) < 2;  // Planck 4000 K: CCT 4000 K by definition
+    CHECK(tm27_read);
+    CHECK(run.stats.count == 5);
+    fs::remove_all(dir);
+}
+
+TEST_CASE("qc correction: a drifted lot is brought back within half a step") {
+    // A systematic weighing drift (red phosphor +8 % relative) moves the lot; the correction,
+    // made from the lot centroid alone, is then produced with the same drift (common practice, no source).
+    const Recipe recipe = load_recipe(LAMPWRIGHT_SOURCE_DIR "/examples/recipes/triband_4000K.toml");
+    auto with_drift = [](BlendInput b) {
+        b.components[0].mass_fraction *= 1.08;
+        return b;
+    };
+    const Chromaticity target = evaluate_blend(recipe.blend).assessment.xy;
+    const Chromaticity drifted = evaluate_blend(with_drift(recipe.blend)).assessment.xy;
+    const MacAdamEllipse step = macadam_ellipse(target, 0.00313, 0.00134, 54.0);  // F4100 one-step ellipse (from memory)
+    CHECK(macadam_steps(step, drifted) > 2.0);
+    const LotCorrection c = correct_recipe(recipe.blend, drifted, target, step);
+    CHECK(c.feasible);
+    CHECK(c.expected_steps < 0.5);
+    const Chromaticity produced = evaluate_blend(with_drift(c.corrected)).assessment.xy;
+    CHECK(macadam_steps(step, produced) < 0.5);
+    double total = 0;
+    for (double w : c.new_fractions) {
+        CHECK(w >= 0);
+        total += w;
+    }
+    CHECK(total == doctest::Approx(1.0));
+    CHECK(c.new_fractions[0] < c.old_fractions[0]);  // less red than before
+}

@@ -1,0 +1,265 @@
+// Tests of the QC reports (src/lampwright/qc_report.hpp): the HTML report parses as XML and holds
+// the expected elements, the JSON and text summaries, CSV columns, and the tolerance region's
+// boundary. The demo lot is examples/qc/lot_A with examples/qc/spec_F4100.toml (invented data
+// made by tools/make_demo_lot.py: 40 tubes, lamps 37 and 40 with a deliberate weighing slip).
+//
+// Set LAMPWRIGHT_REPORT_OUT=/some/file.html to keep the demo report (tools/screenshot_report.sh
+// renders it to PNG).
+#include "lampwright/colorimetry.hpp"
+#include "lampwright/illuminants.hpp"
+#include "lampwright/qc.hpp"
+#include "lampwright/qc_report.hpp"
+#include "lampwright/targets.hpp"
+
+#include <doctest/doctest.h>
+#include <nlohmann/json.hpp>
+#include <pugixml.hpp>
+
+#include <algorithm>
+#include <cmath>
+#include <cstdlib>
+#include <fstream>
+#include <string>
+#include <vector>
+
+using namespace lampwright;
+
+namespace {
+
+const std::string kExamples = std::string(LAMPWRIGHT_SOURCE_DIR) + "/examples/qc";
+
+const QcRun& demo_run() {
+    static const QcRun run = run_qc(load_qc_spec(kExamples + "/spec_F4100.toml"), {kExamples + "/lot_A"}, 2);
+    return run;
+}
+
+std::size_t count_xpath(const pugi::xml_node& root, const std::string& xpath) { return root.select_nodes(xpath.c_str()).size(); }
+
+// Elements whose class attribute holds the token.
+std::string has_class(const std::string& token) { return "contains(concat(' ', normalize-space(@class), ' '), ' " + token + " ')"; }
+
+// The report without its namespace declarations (the only URLs it may hold).
+std::string without_xmlns(std::string html) {
+    for (const std::string ns : {R"( xmlns="http://www.w3.org/1999/xhtml")", R"( xmlns="http://www.w3.org/2000/svg")"}) {
+        for (auto p = html.find(ns); p != std::string::npos; p = html.find(ns)) html.erase(p, ns.size());
+    }
+    return html;
+}
+
+void check_self_contained(const std::string& html) {
+    // Self-contained, no network (the issue's report requirement): no URL beyond the xmlns
+    // attributes, no scripts, no external resources (common practice, no source).
+    const std::string rest = without_xmlns(html);
+    CHECK(rest.find("http") == std::string::npos);
+    CHECK(rest.find("<script") == std::string::npos);
+    CHECK(rest.find("href") == std::string::npos);
+    CHECK(rest.find("src=") == std::string::npos);
+    CHECK(rest.find("url(") == std::string::npos);
+    CHECK(rest.find("@import") == std::string::npos);
+}
+
+// A lamp judged from a Planckian spectrum (synthetic, no file).
+LampResult planck_lamp(const QcSpec& spec, double temperature_K, const std::string& name) {
+    Assessment a = assess(planckian(temperature_K));
+    a.name = name;
+    LampResult l = judge_lamp(spec, a);
+    l.file = name + ".csv";
+    return l;
+}
+
+}  // namespace
+
+TEST_CASE("qc report: the demo lot's HTML parses as XML and holds every element") {
+    const QcRun& run = demo_run();
+    // The demo lot (tools/make_demo_lot.py): 40 files, none bad; the two weighing slips and the
+    // marginal lamp_20 (4.06 steps) fail, the rest pass.
+    REQUIRE(run.lamps.size() == 40);
+    CHECK(run.bad_files.empty());
+    CHECK(run.stats.passed == 37);
+    for (const auto& l : run.lamps)
+        if (l.name == "lamp_37" || l.name == "lamp_40" || l.name == "lamp_20") CHECK_MESSAGE(!l.pass(), l.name);
+
+    const std::string html = qc_html_report(run);
+    if (const char* out = std::getenv("LAMPWRIGHT_REPORT_OUT")) std::ofstream(out) << html;
+    // XML well-formedness, checked by pugixml (common practice, no source: XHTML-compatible HTML5).
+    pugi::xml_document doc;
+    const pugi::xml_parse_result parsed = doc.load_string(html.c_str(), pugi::parse_default | pugi::parse_doctype);
+    REQUIRE_MESSAGE(parsed, parsed.description() << " at offset " << parsed.offset);
+    CHECK(std::string(doc.document_element().name()) == "html");
+    CHECK(html.rfind("<!DOCTYPE html>", 0) == 0);
+
+    // Element ids and classes the report promises (src/lampwright/qc_report.hpp).
+    const pugi::xml_node root = doc.document_element();
+    for (const char* id : {"uv-diagram", "tolerance-region", "centroid", "hist-ra", "hist-r9", "lamp-table", "lot-statistics"}) {
+        CAPTURE(id);
+        CHECK(count_xpath(root, std::string("//*[@id='") + id + "']") == 1);
+    }
+    CHECK(std::string(root.select_node("//*[@id='uv-diagram']").node().name()) == "svg");
+    CHECK(std::string(root.select_node("//*[@id='hist-ra']").node().name()) == "svg");
+    CHECK(std::string(root.select_node("//*[@id='hist-r9']").node().name()) == "svg");
+    CHECK(count_xpath(root, "//*[@id='uv-diagram']//*[@id='tolerance-region']") == 1);
+    CHECK(count_xpath(root, "//*[@id='uv-diagram']//*[@id='centroid']") == 1);
+    // One point per lamp, coloured by its verdict.
+    const std::size_t failed = run.stats.count - run.stats.passed;
+    CHECK(count_xpath(root, "//*[@id='uv-diagram']//*[" + has_class("lamp") + "]") == run.lamps.size());
+    CHECK(count_xpath(root, "//*[@id='uv-diagram']//*[" + has_class("lamp") + " and " + has_class("pass") + "]") == run.stats.passed);
+    CHECK(count_xpath(root, "//*[@id='uv-diagram']//*[" + has_class("lamp") + " and " + has_class("fail") + "]") == failed);
+    CHECK(count_xpath(root, "//*[@id='uv-diagram']//*[" + has_class("lamp") + " and " + has_class("pass") + " and @fill='#2ca02c']") == run.stats.passed);
+    CHECK(count_xpath(root, "//*[@id='uv-diagram']//*[" + has_class("lamp") + " and " + has_class("fail") + " and @fill='#d62728']") == failed);
+    // The Planckian locus with CCT ticks; the ellipse's boundary as a polygon of many points.
+    CHECK(count_xpath(root, "//*[@id='uv-diagram']//*[" + has_class("planckian-locus") + "]/*") >= 1);
+    CHECK(count_xpath(root, "//*[@id='uv-diagram']//*[" + has_class("cct-ticks") + "]/*[local-name()='text']") >= 3);
+    const std::string region_points = root.select_node("//*[@id='tolerance-region']").node().attribute("points").value();
+    CHECK(std::count(region_points.begin(), region_points.end(), ',') >= 100);
+    // Histograms: bars and the spec minimum; every lamp in a bar.
+    for (const char* id : {"hist-ra", "hist-r9"}) {
+        CAPTURE(id);
+        const std::string h = std::string("//*[@id='") + id + "']";
+        CHECK(count_xpath(root, h + "//*[" + has_class("spec-limit") + "]") == 1);
+        CHECK(count_xpath(root, h + "//*[" + has_class("bar") + "]") >= 2);
+    }
+    // Lamp 37 (Ra 79.0 in the demo data) is alone below the Ra minimum of 80.
+    CHECK(count_xpath(root, "//*[@id='hist-ra']//*[" + has_class("below-limit") + "]") == 1);
+    // Table: one row per lamp, failing rows marked.
+    CHECK(count_xpath(root, "//*[@id='lamp-table']/tbody/tr") == run.lamps.size());
+    CHECK(count_xpath(root, "//*[@id='lamp-table']/tbody/tr[" + has_class("fail") + "]") == failed);
+    CHECK(count_xpath(root, "//*[@id='lot-statistics']/tbody/tr") == run.stats.summaries.size());
+    check_self_contained(html);
+    // The usual cautions (README, Cautions).
+    for (const char* word : {"mercury", "dust", "UV", "mains", "local codes"}) CHECK(html.find(word) != std::string::npos);
+}
+
+TEST_CASE("qc report: JSON holds the count, pass rate, lamps and statistics") {
+    const QcRun& run = demo_run();
+    const auto j = nlohmann::json::parse(qc_json(run).dump());
+    CHECK(j.at("count") == 40);
+    CHECK(j.at("passed") == run.stats.passed);
+    // pass rate = passed / count (definition).
+    CHECK(j.at("pass_rate").get<double>() == doctest::Approx(static_cast<double>(run.stats.passed) / 40.0));
+    REQUIRE(j.at("lamps").size() == 40);
+    for (const auto& l : j.at("lamps")) {
+        CHECK(l.contains("steps"));
+        CHECK(l.at("pass").get<bool>() == l.at("failures").empty());
+    }
+    CHECK(j.at("statistics").at("centroid").contains("steps"));
+    CHECK(j.at("statistics").at("capability").size() == run.stats.capabilities.size());
+    CHECK(j.at("bad_files").empty());
+    CHECK(j.at("spec").at("region") == "ellipse");
+}
+
+TEST_CASE("qc report: tolerance region of an n-step ellipse lies n steps from the centre") {
+    // MacAdam 1942 (as in shared/standards-facts.md): the n-step contour is
+    // g11 dx^2 + 2 g12 dx dy + g22 dy^2 = n^2, so every boundary point, back in x, y, is n steps.
+    QcSpec spec;
+    spec.region = QcSpec::Region::ellipse;
+    std::vector<MacAdamEllipse> ellipses{ansi_c78376_colour("F4100").ellipse, ansi_c78376_colour("F2700").ellipse,
+                                         macadam_ellipse({0.31, 0.33}, 0.004, 0.001, -30.0), macadam_ellipse({0.45, 0.41}, 0.002, 0.002, 0.0)};
+    for (const auto& e : ellipses) {
+        for (double n : {1.0, 2.5, 4.0, 7.0}) {
+            CAPTURE(e.centre.x);
+            CAPTURE(n);
+            spec.step_ellipse = e;
+            spec.centre = e.centre;
+            spec.max_steps = n;
+            const auto boundary = tolerance_region_uv(spec, 90);
+            REQUIRE(boundary.size() == 91);
+            CHECK(boundary.front().u == boundary.back().u);  // closed
+            CHECK(boundary.front().v == boundary.back().v);
+            double worst = 0;
+            for (const auto& p : boundary) worst = std::max(worst, std::abs(macadam_steps(e, xy_from_uv_1976(p)) - n));
+            CHECK(worst < 1e-9);
+        }
+    }
+}
+
+TEST_CASE("qc report: tolerance region of a u'v' circle and of an ANSI quadrangle") {
+    QcSpec circle;
+    circle.region = QcSpec::Region::circle;
+    circle.centre = {0.38, 0.377};
+    circle.max_duv_prime = 0.004;
+    const UV c = uv_1976_from_xy(circle.centre);
+    for (const auto& p : tolerance_region_uv(circle)) CHECK(std::hypot(p.u - c.u, p.v - c.v) == doctest::Approx(0.004).epsilon(1e-12));  // definition
+
+    QcSpec quad;
+    quad.region = QcSpec::Region::ansi_quadrangle;
+    quad.ansi_class = ansi_c78377_class(4000);
+    const auto b = tolerance_region_uv(quad, 80);
+    REQUIRE(b.size() == 81);
+    // The sides start at the corners (targets.hpp, ANSI C78.377-2017 Table 1 with Duv +-0.006).
+    const auto corners = ansi_c78377_quadrangle(*quad.ansi_class);
+    for (int k = 0; k < 4; ++k) {
+        const UV q = uv_1976_from_xy(corners[k]);
+        CHECK(b[static_cast<std::size_t>(20 * k)].u == doctest::Approx(q.u).epsilon(1e-12));
+        CHECK(b[static_cast<std::size_t>(20 * k)].v == doctest::Approx(q.v).epsilon(1e-12));
+    }
+    // Every boundary point lies on the CCT or Duv limits of the class (membership as in targets.hpp).
+    const auto& k = *quad.ansi_class;
+    for (const auto& p : b) {
+        const CctResult r = correlated_colour_temperature(uv_1960_from_xy(xy_from_uv_1976(p)));
+        const bool on_cct = std::abs(std::abs(r.cct_K - k.cct_K) - k.cct_tolerance_K) < 0.05;
+        const bool on_duv = std::abs(std::abs(r.duv - k.duv_centre) - kAnsiC78377DuvTolerance) < 2e-6;
+        CHECK((on_cct || on_duv));
+    }
+}
+
+TEST_CASE("qc report: synthetic lot with awkward names, a far lamp and a bad file") {
+    QcSpec spec = load_qc_spec(kExamples + "/spec_F4100.toml");
+    QcRun run;
+    run.spec = spec;
+    // A 4000 K blackbody lies about 1 step from the F4100 centre (computed from the ellipse) and has
+    // Ra 100 (CIE 13.3: the reference itself); a 3000 K one is far outside and below 3800 K.
+    run.lamps.push_back(planck_lamp(spec, 4000, "near <4000 K> & \"fine\""));
+    run.lamps.push_back(planck_lamp(spec, 3950, "lamp_b"));
+    run.lamps.push_back(planck_lamp(spec, 3000, "far 3000 K"));
+    run.bad_files.push_back({"broken & <odd>.csv", "line 3: 'abc' is not a number"});
+    run.stats = lot_statistics(spec, run.lamps);
+    REQUIRE(run.lamps[0].pass());
+    REQUIRE(!run.lamps[2].pass());
+
+    const std::string html = qc_html_report(run, "<section id=\"correction\"><p>extra</p></section>");
+    pugi::xml_document doc;
+    const auto parsed = doc.load_string(html.c_str(), pugi::parse_default | pugi::parse_doctype);
+    REQUIRE_MESSAGE(parsed, parsed.description() << " at offset " << parsed.offset);
+    const pugi::xml_node root = doc.document_element();
+    CHECK(count_xpath(root, "//*[@id='uv-diagram']//*[" + has_class("lamp") + "]") == 3);
+    // The far lamp is pinned to the window's edge, still one point, marked off-chart.
+    CHECK(count_xpath(root, "//*[@id='uv-diagram']//*[" + has_class("off-chart") + "]") == 1);
+    CHECK(count_xpath(root, "//*[@id='correction']") == 1);
+    CHECK(count_xpath(root, "//*[@id='bad-files']/li") == 1);
+    // Names come back unchanged through the XML escaping.
+    CHECK(std::string(root.select_node("//*[@id='lamp-table']/tbody/tr[1]/td[2]").node().text().get()) == "near <4000 K> & \"fine\"");
+    check_self_contained(html);
+
+    const std::string text = qc_text(run);
+    CHECK(text.find("FAIL") != std::string::npos);
+    CHECK(text.find("CCT 3000 K < 3800 K") != std::string::npos);
+    CHECK(text.find("broken & <odd>.csv: line 3") != std::string::npos);
+    CHECK(text.find("pass rate 66.7 %") != std::string::npos);
+    CHECK(text.find("Cpk") != std::string::npos);
+
+    const auto cols = qc_lamp_columns();
+    CHECK(cols.size() == qc_lamp_values(run.lamps[0]).size());
+    CHECK(cols.front() == "name");
+    for (const char* c : {"file", "steps", "inside_region", "pass", "failures", "outlier"})
+        CHECK(std::find(cols.begin(), cols.end(), c) != cols.end());
+    const auto j = nlohmann::json::parse(qc_json(run).dump());
+    CHECK(j.at("count") == 3);
+    CHECK(j.at("pass_rate").get<double>() == doctest::Approx(2.0 / 3.0));
+    CHECK(j.at("bad_files").at(0).at("file") == "broken & <odd>.csv");
+}
+
+TEST_CASE("qc report: an empty lot still gives a well-formed report") {
+    QcRun run;
+    run.spec = load_qc_spec(kExamples + "/spec_F4100.toml");
+    run.bad_files.push_back({"nothing.csv", "no such file or folder"});
+    run.stats = lot_statistics(run.spec, run.lamps);
+    const std::string html = qc_html_report(run);
+    pugi::xml_document doc;
+    CHECK(doc.load_string(html.c_str(), pugi::parse_default | pugi::parse_doctype));
+    CHECK(count_xpath(doc.document_element(), "//*[@id='uv-diagram']") == 1);
+    CHECK(count_xpath(doc.document_element(), "//*[@id='lamp-table']/tbody/tr") == 0);
+    CHECK_NOTHROW(qc_text(run));
+    const auto j = nlohmann::json::parse(qc_json(run).dump());
+    CHECK(j.at("count") == 0);
+    CHECK(j.at("pass_rate").is_null());
+}
