@@ -92,6 +92,8 @@ LotCorrection correct_recipe(const BlendInput& recipe, const Chromaticity& lot_c
         }
         (void)clipped;
     }
+    // As weighed and written to a recipe: 6 decimals (the expected centroid is for these).
+    for (double& v : w) v = std::round(v * 1e6) / 1e6;
     c.new_fractions = w;
     const Chromaticity reached = model_xy(recipe, w);
     c.expected_centroid = {reached.x + off_x, reached.y + off_y};

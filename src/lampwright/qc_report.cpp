@@ -304,6 +304,7 @@ tr.outlier td.name { text-decoration: underline dotted; }
 .histograms { display: flex; flex-direction: column; gap: 8px; }
 .cautions { margin-top: 28px; padding: 8px 12px; background: #fff8e0; border: 1px solid #e0c060; font-size: 12px; }
 .note { font-size: 12px; color: #555; }
+p { font-size: 14px; }
 )css";
 
 }  // namespace

@@ -154,6 +154,16 @@ std::string series_svg(const Frame& f, const std::vector<SvgSeries>& series) {
         } else {
             o += polyline(f, s.x, s.y, colour, 1.5);
         }
+    }
+    return o;
+}
+
+// The series' legend (drawn outside the plot area's clip, so long labels are not cut at its edge).
+std::string legend_svg(const Frame& f, const std::vector<SvgSeries>& series) {
+    std::string o;
+    for (std::size_t i = 0; i < series.size(); ++i) {
+        const auto& s = series[i];
+        const std::string colour = s.colour.empty() ? series_colour(i) : s.colour;
         if (!s.label.empty())
             o += fmt::format(R"(<rect x="{}" y="{}" width="10" height="10" fill="{}"/><text x="{}" y="{}">{}</text>)", f.a.width - kRight - 180,
                              kTop + 8 + 16 * static_cast<int>(i), colour, f.a.width - kRight - 165, kTop + 17 + 16 * static_cast<int>(i),
@@ -188,7 +198,7 @@ std::string svg_chart(const SvgAxes& axes, const std::vector<SvgSeries>& series)
 std::string svg_chart(const SvgAxes& axes, const std::vector<SvgSeries>& series, const SvgOverlay& overlay) {
     const Frame f{axes};
     return frame_svg(f, overlay.id, overlay.css_class) + clip_open(f) + overlay_under(f, overlay) + series_svg(f, series) +
-           overlay_over(f, overlay) + "</svg>" + overlay.pixel_svg + "</svg>\n";
+           overlay_over(f, overlay) + "</svg>" + legend_svg(f, series) + overlay.pixel_svg + "</svg>\n";
 }
 
 SvgPlotArea svg_plot_area(int width, int height) { return {kLeft, kTop, width - kRight, height - kBottom}; }
@@ -261,7 +271,7 @@ std::string svg_uv_diagram(const std::string& title, const std::vector<SvgSeries
     for (auto& s : pts) s.points = true;
     o += series_svg(f, pts);
     o += overlay_over(f, overlay);
-    return o + "</svg>" + overlay.pixel_svg + "</svg>\n";
+    return o + "</svg>" + legend_svg(f, pts) + overlay.pixel_svg + "</svg>\n";
 }
 
 }  // namespace lampwright
