@@ -8,6 +8,8 @@
 
 #include <cmath>
 #include <cstdio>
+#include <filesystem>
+#include <unistd.h>
 #include <fstream>
 #include <string>
 
@@ -26,6 +28,10 @@ Phosphor test_phosphor(const std::string& id, double peak_nm, double fwhm_nm, do
     p.qe_365_405nm = qe;
     p.density_g_per_cm3 = 4.0;
     return p;
+}
+
+std::string temp_toml(const std::string& stem) {
+    return (std::filesystem::temp_directory_path() / (stem + "_" + std::to_string(::getpid()) + ".toml")).string();
 }
 
 LayerDesign single(double thickness_um, double loading, const Phosphor& p) {
@@ -186,7 +192,7 @@ TEST_CASE("layer design: the example designs load, and bad designs name file, li
     CHECK(d.components.size() == 3);
     CHECK(d.thickness_um == 150);
     // Round trip through layer_design_to_toml.
-    const std::string tmp = std::string(std::tmpnam(nullptr)) + ".toml";
+    const std::string tmp = temp_toml("lampwright_layer_roundtrip");
     std::ofstream(tmp) << layer_design_to_toml(d);
     const auto again = load_layer_design(tmp);
     CHECK(again.components[1].loading == doctest::Approx(d.components[1].loading));
@@ -205,7 +211,7 @@ TEST_CASE("layer design: the example designs load, and bad designs name file, li
         {"name='x'\n[pump]\npeak_nm=395\nfwhm_nm=12\n[layer]\nthickness_um=50\n[[component]]\nphosphor='BAM'\nloading=0.6\n[[component]]\nphosphor='CASN'\nloading=0.5\n", "sum below 1"},
     };
     for (const auto& c : cases) {
-        const std::string path = std::string(std::tmpnam(nullptr)) + ".toml";
+        const std::string path = temp_toml("lampwright_layer_bad");
         std::ofstream(path) << c.text;
         try {
             (void)load_layer_design(path);

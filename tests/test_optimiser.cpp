@@ -328,7 +328,8 @@ TEST_CASE("optimiser: fraction sensitivity") {
     // on w only through w / sum w): sum_i w_i dF/dw_i = 0. Common practice, no source.
     const BlendInput b = load_recipe(example("multiband_5000K.toml")).blend;
     const auto rows = fraction_sensitivity(b);
-    REQUIRE(rows.size() == 5);
+    REQUIRE(rows.size() == b.components.size());
+    REQUIRE(rows.size() >= 4);
     double su = 0, sv = 0, sduv = 0;
     for (const auto& r : rows) su += r.mass_fraction * r.d_u_prime, sv += r.mass_fraction * r.d_v_prime, sduv += r.mass_fraction * r.d_duv;
     CHECK(std::abs(su) < 1e-6);

@@ -224,16 +224,7 @@ LayerResult evaluate_layer(const LayerDesign& d, std::optional<double> temperatu
 namespace lampwright {
 
 double chromaticity_shift_steps(const Chromaticity& from, const Chromaticity& to) {
-    const auto& colours = ansi_c78376_colours();
-    const FluorescentLampColour* nearest = &colours.front();
-    double best = 1e300;
-    for (const auto& c : colours) {
-        const double d = std::hypot(c.ellipse.centre.x - from.x, c.ellipse.centre.y - from.y);
-        if (d < best) best = d, nearest = &c;
-    }
-    MacAdamEllipse e = nearest->ellipse;
-    e.centre = from;
-    return macadam_steps(e, to);
+    return macadam_steps(nearest_step_ellipse(from), to);
 }
 
 bool leak_needs_caution(const LayerResult& r, double pump_peak_nm) {

@@ -15,16 +15,11 @@ namespace {
 
 
 Spectrum read_one_spectrum(const TomlDoc& doc, const toml::node* node, const std::string& where, const std::string& path) {
-    SpectrumReadOptions opt;
-    opt.check_range = false;
-    SpectrumFile f;
     try {
-        f = read_spectrum_file(path, opt);
+        return read_single_spectrum(path);
     } catch (const InputError& e) {
         doc.fail(node, where, e.what());
     }
-    if (f.spectra.size() != 1) doc.fail(node, where, path + " must hold one spectrum (two columns)");
-    return resample_to_1nm(f.spectra.front());
 }
 
 }  // namespace
@@ -119,10 +114,11 @@ LayerDesign layer_design_from_toml(const TomlDoc& doc, const std::vector<std::st
             }
         } else {
             const std::string path = path_relative_to(doc.source(), *em);
-            lc.phosphor.id = std::filesystem::path(path).stem().string();
-            lc.phosphor.origin = path;
-            lc.phosphor.emission_model = "measured";
-            lc.phosphor.measured_power = read_one_spectrum(doc, c->get("spectrum"), key_path(where, "spectrum"), path);
+            try {
+                lc.phosphor = phosphor_from_emission_file(path);
+            } catch (const InputError& e) {
+                doc.fail(c->get("spectrum"), key_path(where, "spectrum"), e.what());
+            }
             const auto abs_file = doc.string(*c, "absorption_spectrum", where);
             if (!abs_file) doc.fail(c, where, "a measured 'spectrum' needs 'absorption_spectrum' (CSV of relative absorption per unit mass)");
             const Spectrum a = read_one_spectrum(doc, c->get("absorption_spectrum"), key_path(where, "absorption_spectrum"), path_relative_to(doc.source(), *abs_file));

@@ -95,6 +95,15 @@ EmissionSummary emission_summary(const Phosphor& p) {
     return {f.peak_nm, f.fwhm_nm, f.centroid_nm};
 }
 
+Phosphor phosphor_from_emission_file(const std::string& path) {
+    Phosphor p;
+    p.id = file_stem(path);
+    p.origin = path;
+    p.emission_model = "measured";
+    p.measured_power = read_single_spectrum(path);
+    return p;
+}
+
 Phosphor parse_phosphor(const std::string& text, const std::string& origin) {
     const TomlDoc doc(text, origin);
     const auto& r = doc.root();
@@ -153,12 +162,12 @@ Phosphor parse_phosphor(const std::string& text, const std::string& origin) {
         }
     } else if (p.emission_model == "measured") {
         const std::string file = doc.require_string(*e, "file", "emission");
-        const auto path = (std::filesystem::path(origin).parent_path() / file).string();
-        SpectrumReadOptions opt;
-        opt.check_range = false;
-        const auto parsed = read_spectrum_file(path, opt);
-        if (parsed.spectra.size() != 1) doc.fail(e->get("file"), "emission.file", path + " must hold one spectrum (two columns)");
-        p.measured_power = resample_to_1nm(parsed.spectra.front());
+        const auto path = path_relative_to(origin, file);
+        try {
+            p.measured_power = read_single_spectrum(path);
+        } catch (const InputError& err) {
+            doc.fail(e->get("file"), "emission.file", err.what());
+        }
     } else {
         doc.fail(e->get("model"), "emission.model", "must be \"bands\", \"lines\" or \"measured\"");
     }

@@ -80,6 +80,10 @@ private:
     std::vector<Phosphor> phosphors_;
 };
 
+// A phosphor known only by a measured emission spectrum (spectral power, CSV): id = file stem.
+// Its absorption and QE come from elsewhere (recipe keys, an absorption file).
+Phosphor phosphor_from_emission_file(const std::string& path);
+
 // Parses one phosphor description (TOML text); `origin` names it in errors and resolves a
 // measured spectrum's relative path.
 Phosphor parse_phosphor(const std::string& toml_text, const std::string& origin);

@@ -20,20 +20,6 @@ namespace lampwright {
 
 namespace {
 
-// One-step ellipse for reporting steps at an arbitrary centre: the ANSI C78.376 ellipse nearest
-// to it, moved there (common practice, no source).
-MacAdamEllipse nearest_step_ellipse(const Chromaticity& centre) {
-    const auto& colours = ansi_c78376_colours();
-    const FluorescentLampColour* best = &colours.front();
-    double d_best = 1e300;
-    for (const auto& c : colours) {
-        const double d = std::hypot(c.ellipse.centre.x - centre.x, c.ellipse.centre.y - centre.y);
-        if (d < d_best) d_best = d, best = &c;
-    }
-    MacAdamEllipse e = best->ellipse;
-    e.centre = centre;
-    return e;
-}
 
 double mean_of(const std::vector<double>& v) { return v.empty() ? NAN : std::accumulate(v.begin(), v.end(), 0.0) / static_cast<double>(v.size()); }
 

@@ -92,19 +92,11 @@ Recipe recipe_from_toml(const TomlDoc& doc, const std::vector<std::string>& extr
             bc.label = bc.phosphor.id;
         } else {
             const std::string path = path_relative_to(doc.source(), *spectrum);
-            SpectrumReadOptions opt;
-            opt.check_range = false;
-            SpectrumFile f;
             try {
-                f = read_spectrum_file(path, opt);
+                bc.phosphor = phosphor_from_emission_file(path);
             } catch (const InputError& e) {
                 doc.fail(c->get("spectrum"), key_path(where, "spectrum"), e.what());
             }
-            if (f.spectra.size() != 1) doc.fail(c->get("spectrum"), key_path(where, "spectrum"), path + " must hold one spectrum");
-            bc.phosphor.id = file_stem(path);
-            bc.phosphor.origin = path;
-            bc.phosphor.emission_model = "measured";
-            bc.phosphor.measured_power = resample_to_1nm(f.spectra.front());
             bc.label = bc.phosphor.id;
             bc.absorption = doc.number(*c, "absorption", where);
             bc.quantum_efficiency = doc.number(*c, "quantum_efficiency", where);

@@ -1,6 +1,7 @@
 #include "lampwright/spectrum_io.hpp"
 
 #include "lampwright/error.hpp"
+#include "lampwright/interpolation.hpp"
 
 #include <fmt/format.h>
 
@@ -237,6 +238,15 @@ SpectrumFile read_spectrum_file(const std::string& path, const SpectrumReadOptio
     std::ostringstream ss;
     ss << in.rdbuf();
     return parse_spectrum_bytes(ss.str(), path, options);
+}
+
+Spectrum read_single_spectrum(const std::string& path) {
+    SpectrumReadOptions opt;
+    opt.check_range = false;
+    const SpectrumFile f = read_spectrum_file(path, opt);
+    if (f.spectra.size() != 1)
+        throw InputError(path, 0, fmt::format("must hold one spectrum (two columns), not {}", f.spectra.size()));
+    return resample_to_1nm(f.spectra.front());
 }
 
 void write_spectrum_csv(std::ostream& out, const Spectrum& s, const std::string& column) {

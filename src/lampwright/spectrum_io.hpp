@@ -39,6 +39,9 @@ SpectrumFile parse_tm27_xml(const std::string& bytes, const std::string& source,
 SpectrumFile parse_spectrum_bytes(const std::string& bytes, const std::string& source, const SpectrumReadOptions& options = {});
 SpectrumFile read_spectrum_file(const std::string& path, const SpectrumReadOptions& options = {});
 
+// A file that must hold exactly one spectrum (any range), resampled to 1 nm; InputError otherwise.
+Spectrum read_single_spectrum(const std::string& path);
+
 // Writes "wavelength_nm,<name>" rows at 1 nm.
 void write_spectrum_csv(std::ostream& out, const Spectrum& s, const std::string& column = "value");
 

@@ -221,4 +221,17 @@ Target target_ansi_c78376(const std::string& lamp, double steps) {
     return t;
 }
 
+MacAdamEllipse nearest_step_ellipse(const Chromaticity& centre) {
+    const auto& colours = ansi_c78376_colours();
+    const FluorescentLampColour* best = &colours.front();
+    double d_best = 1e300;
+    for (const auto& c : colours) {
+        const double d = std::hypot(c.ellipse.centre.x - centre.x, c.ellipse.centre.y - centre.y);
+        if (d < d_best) d_best = d, best = &c;
+    }
+    MacAdamEllipse e = best->ellipse;
+    e.centre = centre;
+    return e;
+}
+
 }  // namespace lampwright

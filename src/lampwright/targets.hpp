@@ -57,6 +57,10 @@ const FluorescentLampColour& ansi_c78376_colour(const std::string& name);
 // The standard's tolerance: 4-step ellipses (ANSI C78.376, confirmed).
 inline constexpr double kAnsiC78376Steps = 4.0;
 
+// One-step ellipse for a colour shift or distance at an arbitrary centre: the ANSI C78.376 ellipse
+// whose centre is nearest, moved there (common practice, no source; ellipse values from memory).
+MacAdamEllipse nearest_step_ellipse(const Chromaticity& centre);
+
 struct Target {
     enum class Kind { chromaticity, cct_duv, ansi_c78377, ansi_c78376 };
     Kind kind = Kind::chromaticity;
