@@ -1,0 +1,51 @@
+// Fitting LED layer loadings (and thickness) to a target white.
+#include "lampwright/layer_design.hpp"
+#include "lampwright/layer_fit.hpp"
+
+#include <doctest/doctest.h>
+
+#include <chrono>
+
+using namespace lampwright;
+
+TEST_CASE("layer fit: loadings put the operating-temperature light on a 4000 K target") {
+    LayerFitProblem p;
+    p.design = load_layer_design(LAMPWRIGHT_SOURCE_DIR "/examples/layers/module395_150um.toml");
+    p.target = target_cct(4000, 0.0);
+    p.objective = FitObjective::closest_to_start;
+    const LayerFitResult r = fit_layer(p);
+    REQUIRE(r.feasible);
+    // Re-check independently with the layer model (the constraint of the problem; common practice, no source).
+    const LayerReport rep = layer_report(r.design);
+    const UV uv = rep.operating.assessment.uv_prime, t = uv_1976_from_xy(p.target.xy);
+    CHECK(std::hypot(uv.u - t.u, uv.v - t.v) <= kDefaultFitToleranceUvPrime * 1.001);
+    CHECK(rep.operating.assessment.cct.cct_K == doctest::Approx(4000).epsilon(0.02));
+    double total = 0;
+    for (const auto& c : r.design.components) {
+        CHECK(c.loading > 0);
+        total += c.loading;
+    }
+    CHECK(total <= p.max_total_loading);
+}
+
+TEST_CASE("layer fit: maximising Ra does no worse than the closest fit and keeps the tolerance") {
+    LayerFitProblem p;
+    p.design = load_layer_design(LAMPWRIGHT_SOURCE_DIR "/examples/layers/module395_150um.toml");
+    p.target = target_cct(4000, 0.0);
+    const LayerFitResult closest = fit_layer(p);
+    p.objective = FitObjective::ra;
+    const LayerFitResult best = fit_layer(p);
+    REQUIRE(closest.feasible);
+    REQUIRE(best.feasible);
+    CHECK(best.report.operating.assessment.rendering->ra >= closest.report.operating.assessment.rendering->ra - 0.05);
+    CHECK(best.distance_uv_prime <= kDefaultFitToleranceUvPrime * 1.001);
+}
+
+TEST_CASE("layer fit: an unreachable target is reported, not faked") {
+    LayerFitProblem p;
+    p.design = load_layer_design(LAMPWRIGHT_SOURCE_DIR "/examples/layers/module395_150um.toml");
+    p.target = target_xy(0.15, 0.70);  // deep green, outside what blue + green + red nitride reach with a violet pump leak
+    const LayerFitResult r = fit_layer(p, 800);
+    CHECK_FALSE(r.feasible);
+    CHECK(r.message.find("no feasible layer") != std::string::npos);
+}
