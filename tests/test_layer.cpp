@@ -97,19 +97,19 @@ TEST_CASE("layer: a red absorber lowers the green output by what its absorption 
     LayerDesign d = single(30, 0.05, green);
     d.components.push_back({"R", red, 0.03, std::nullopt});
     const auto r = evaluate_layer(d);
-    // Expected: green photons emitted x sum over its emission of exp(-alpha_red(l) L), where
-    // alpha_red = kappa a c_red and a = 1 below 560 nm (Beer-Lambert; geometry factor 1).
+    // Expected: green photons emitted x sum over its emission of exp(-alpha(l) L), alpha = kappa a c
+    // summed over the phosphors (Beer-Lambert; geometry factor 1).
     const double rho = 1.0 / (0.05 / 4.0 + 0.03 / 4.0 + 0.92 / kSiliconeDensity_g_per_cm3);
     const double alpha_red = kReferenceMassAbsorption_cm2_per_g * 0.03 * rho;
-    const double alpha_green = kReferenceMassAbsorption_cm2_per_g * 0.05 * rho;  // its own short tail, below 480 nm
-    const Spectrum n = emission_for_excitation(green, d.pump);
+    const double alpha_green = kReferenceMassAbsorption_cm2_per_g * 0.05 * rho;
     const double alpha_green_alone = kReferenceMassAbsorption_cm2_per_g * 0.05 * layer_density(0.05, 4.0, kSiliconeDensity_g_per_cm3);
+    // a(l) of each phosphor as the model defines it (its data times the fade across its own emission).
+    const auto a_green = absorption_profile(green), a_red = absorption_profile(red);
+    const Spectrum n = emission_for_excitation(green, d.pump);
     double escape = 0, escape_alone = 0;
     for (std::size_t k = 0; k < n.values.size(); ++k) {
-        const double nm = n.first_nm + static_cast<double>(k);
-        const double a_g = nm <= 480 ? alpha_green : 0.0, a_r = nm <= 560 ? alpha_red : 0.0;
-        escape += n.values[k] * std::exp(-(a_g + a_r) * 30e-4);
-        escape_alone += n.values[k] * std::exp(-(nm <= 480 ? alpha_green_alone : 0.0) * 30e-4);
+        escape += n.values[k] * std::exp(-(alpha_green * a_green[k] + alpha_red * a_red[k]) * 30e-4);
+        escape_alone += n.values[k] * std::exp(-alpha_green_alone * a_green[k] * 30e-4);
     }
     CHECK(r.components[0].photons_escaping == doctest::Approx(r.components[0].photons_emitted * escape).epsilon(1e-9));
     const auto alone = evaluate_layer(single(30, 0.05, green));

@@ -50,20 +50,19 @@ double layer_density(const LayerDesign& d) {
 }  // namespace
 
 std::vector<double> absorption_profile(const Phosphor& p) {
+    // Stokes rule, smoothly: at wavelength l the absorption is weighted by the share of the
+    // phosphor's own emitted photons that lie at longer wavelengths (1 - CDF(l)), so it fades out
+    // across the phosphor's own emission band instead of stopping at an edge (self-absorption of
+    // the band's short side remains, as in real Eu2+ and Ce3+ phosphors).
     const Spectrum own = emission_photons(p);
-    double cum = 0, onset = kEmissionLastNm;
-    for (std::size_t k = 0; k < own.values.size(); ++k) {
-        cum += own.values[k];
-        if (cum >= 0.01) {
-            onset = grid_nm(k);
-            break;
-        }
-    }
     std::vector<double> a(kGridSize, 0.0);
+    double below = 0;
     for (std::size_t k = 0; k < a.size(); ++k) {
+        below += own.values[k];
         const double nm = grid_nm(k);
-        if (nm >= onset || p.absorption_nm.empty() || nm > p.absorption_nm.back()) continue;
-        a[k] = nm < p.absorption_nm.front() ? p.absorption_rel.front() : *absorption_at(p, nm);
+        if (p.absorption_nm.empty() || nm > p.absorption_nm.back()) continue;
+        const double rel = nm < p.absorption_nm.front() ? p.absorption_rel.front() : *absorption_at(p, nm);
+        a[k] = rel * std::max(0.0, 1.0 - below);
     }
     return a;
 }

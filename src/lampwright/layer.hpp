@@ -80,8 +80,9 @@ struct LayerResult {
 LayerResult evaluate_layer(const LayerDesign& design, std::optional<double> temperature_C = std::nullopt,
                            const AssessOptions& options = {}, int generations = 0);
 
-// Relative absorption of a phosphor at every grid wavelength (0 where the data end on the long
-// side and, by the Stokes rule, at and beyond the start of its own emission).
+// Relative absorption of a phosphor at every grid wavelength: its data, zero where they end on the
+// long side, and faded out across its own emission band by the share of its emitted photons that
+// lie at longer wavelengths (the Stokes rule, without an artificial edge).
 std::vector<double> absorption_profile(const Phosphor& p);
 
 }  // namespace lampwright
