@@ -12,13 +12,13 @@ namespace po = boost::program_options;
 namespace lampwright::cli {
 
 int run_phosphors(int argc, char** argv) {
-    po::options_description opts(R"(Usage: lampwright phosphors [options]
+    po::options_description opts(std::string(R"(Usage: lampwright phosphors [options]
 
 Lists the phosphor library: id, abbreviation, use (lamp = 254 nm, led = UV/violet pump), modelled
 emission peak and FWHM, relative absorption at 254 and 405 nm, quantum efficiencies, and sources.
 Emission spectra are models built from published peak positions and widths, not measurements.
 
-Options)");
+)") + kSafetyNotice + "\nOptions");
     std::string format = "text";
     std::vector<std::string> folders;
     opts.add_options()("help,h", "show this help")("format,f", po::value(&format), "text | csv | json (default text)")
