@@ -4,7 +4,11 @@
 
 #include <doctest/doctest.h>
 
-#include <chrono>
+#include <cmath>
+#include <cstdlib>
+#include <filesystem>
+#include <fstream>
+#include <unistd.h>
 
 using namespace lampwright;
 
@@ -48,4 +52,22 @@ TEST_CASE("layer fit: an unreachable target is reported, not faked") {
     const LayerFitResult r = fit_layer(p, 800);
     CHECK_FALSE(r.feasible);
     CHECK(r.message.find("no feasible layer") != std::string::npos);
+}
+
+TEST_CASE("layer fit: the fit command on a design writes a design that layer reproduces") {
+    const std::string out = (std::filesystem::temp_directory_path() / ("lampwright_fitted_layer_" + std::to_string(::getpid()) + ".toml")).string();
+    const std::string csv = out + ".csv";
+    const std::string cmd = std::string(LAMPWRIGHT_CLI) + " fit " LAMPWRIGHT_SOURCE_DIR "/examples/layers/module395_150um.toml --cct 4000 --format csv --recipe-out " +
+                            out + " > " + csv + " 2>/dev/null";
+    REQUIRE(std::system(cmd.c_str()) == 0);
+    const LayerReport rep = layer_report(load_layer_design(out));
+    const UV uv = rep.operating.assessment.uv_prime, t = uv_1976_from_xy(target_cct(4000, 0).xy);
+    CHECK(std::hypot(uv.u - t.u, uv.v - t.v) <= kDefaultFitToleranceUvPrime * 1.001);  // the problem's own constraint
+    std::ifstream in(csv);
+    std::string header;
+    std::getline(in, header);
+    CHECK(header.find("pump_leak_fraction") != std::string::npos);
+    CHECK(header.find("fit_loading_") != std::string::npos);
+    std::filesystem::remove(out);
+    std::filesystem::remove(csv);
 }

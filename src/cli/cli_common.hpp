@@ -8,6 +8,7 @@
 
 namespace lampwright {
 struct QcRun;
+struct LayerFitProblem;
 }
 
 namespace lampwright::cli {
@@ -38,6 +39,9 @@ extern const char* const kSafetyNotice;
 
 // Prints the corrected recipe for a QC lot (text when `text`), returns an HTML fragment for the report.
 std::string print_lot_correction(const QcRun& run, const std::string& recipe_path, bool text);
+
+// fit on an LED layer design (called by run_fit).
+int run_layer_fit(const LayerFitProblem& problem, Format format, const std::string& design_out);
 
 int run_assess(int argc, char** argv);
 int run_phosphors(int argc, char** argv);

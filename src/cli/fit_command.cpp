@@ -4,16 +4,23 @@
 #include "lampwright/assessment_report.hpp"
 #include "lampwright/blend_report.hpp"
 #include "lampwright/error.hpp"
+#include "lampwright/layer_design.hpp"
+#include "lampwright/layer_fit.hpp"
 #include "lampwright/optimiser.hpp"
 #include "lampwright/recipe.hpp"
+#include "lampwright/tolerance.hpp"
+#include "lampwright/tradeoff.hpp"
 
 #include <fmt/format.h>
 
+#include <algorithm>
 #include <chrono>
 #include <cmath>
 #include <fstream>
 #include <iostream>
 #include <sstream>
+
+#include <unistd.h>
 
 namespace po = boost::program_options;
 
@@ -95,12 +102,139 @@ nlohmann::ordered_json fit_json(const FitProblem& p, const FitResult& r, double 
     return j;
 }
 
+
+std::vector<double> parse_list(const std::string& s, const std::string& option) {
+    std::vector<double> out;
+    std::size_t start = 0;
+    while (true) {
+        const auto comma = s.find(',', start);
+        const std::string item = s.substr(start, comma == std::string::npos ? std::string::npos : comma - start);
+        try {
+            std::size_t used = 0;
+            const double v = std::stod(item, &used);
+            if (used != item.size() || !std::isfinite(v) || v < 0) throw std::invalid_argument("bad");
+            out.push_back(v);
+        } catch (const std::exception&) {
+            throw UsageError{fmt::format("fit: {} takes a number >= 0, or one per component separated by commas, not '{}'", option, s)};
+        }
+        if (comma == std::string::npos) break;
+        start = comma + 1;
+    }
+    return out;
+}
+
+std::string front_text(const FitProblem& p, const TradeoffFront& f, double ms) {
+    std::ostringstream o;
+    o << fmt::format("Trade-off front of '{}': maximum {} for a rising floor on {}\n", p.blend.name, f.objective_label, f.floor_label);
+    o << fmt::format("  target:     {}", p.target.description);
+    if (p.target.kind != Target::Kind::chromaticity) o << fmt::format(" (x = {:.4f}, y = {:.4f})", p.target.xy.x, p.target.xy.y);
+    o << '\n';
+    o << fmt::format("  sweep:      {}; {} evaluations, {:.0f} ms\n", f.message, f.evaluations, ms);
+    o << fmt::format("\n  {:>8} {:>9} {:>7} {:>7} {:>7} {:>9}  fractions ({})\n", "min " + f.floor_label, f.objective_label, "Ra", "R9",
+                     "LER", "efficacy", [&] {
+                         std::string l;
+                         for (const auto& c : p.blend.components) l += (l.empty() ? "" : ", ") + c.label;
+                         return l;
+                     }());
+    for (const auto& pt : f.points) {
+        if (!pt.feasible) {
+            o << fmt::format("  {:8.2f}  no feasible blend\n", pt.floor);
+            continue;
+        }
+        std::string fr;
+        for (double w : pt.mass_fractions) fr += fmt::format("{}{:.4f}", fr.empty() ? "" : " ", w);
+        o << fmt::format("  {:8.2f} {:9.2f} {:7.2f} {:7.2f} {:7.1f} {:9.2f}  {}{}\n", pt.floor, pt.objective, pt.ra, pt.r9, pt.ler, pt.efficacy, fr,
+                         pt.from_other_point ? "  *" : "");
+    }
+    if (std::any_of(f.points.begin(), f.points.end(), [](const FrontPoint& q) { return q.from_other_point; }))
+        o << "  * the blend of another point's solve: it meets this floor and beats this point's own answer\n";
+    o << fmt::format("  (LER in lm/W of light; efficacy in lm per W of absorbed excitation)\n");
+    return o.str();
+}
+
+nlohmann::ordered_json front_json(const FitProblem& p, const TradeoffFront& f, double ms) {
+    nlohmann::ordered_json j;
+    j["front"] = front_kind_name(f.kind);
+    j["maximised"] = f.objective_label;
+    j["floor_on"] = f.floor_label;
+    j["floor_low"] = f.floor_low;
+    j["floor_high"] = f.floor_high;
+    j["target"] = {{"description", p.target.description}, {"x", p.target.xy.x}, {"y", p.target.xy.y}};
+    j["message"] = f.message;
+    j["solves"] = f.solves;
+    j["evaluations"] = f.evaluations;
+    j["time_ms"] = ms;
+    auto& pts = j["points"] = nlohmann::ordered_json::array();
+    for (const auto& pt : f.points) {
+        nlohmann::ordered_json q;
+        q["floor"] = pt.floor;
+        q["feasible"] = pt.feasible;
+        if (pt.feasible) {
+            q["objective"] = pt.objective;
+            q["Ra"] = pt.ra;
+            q["R9"] = pt.r9;
+            q["ler_lm_per_W"] = pt.ler;
+            q["efficacy_lm_per_W_absorbed"] = pt.efficacy;
+            q["x"] = pt.xy.x;
+            q["y"] = pt.xy.y;
+            q["delta_uv_prime"] = pt.distance_uv_prime;
+            q["from_other_point"] = pt.from_other_point;
+            auto& fr = q["fractions"] = nlohmann::ordered_json::array();
+            for (std::size_t i = 0; i < pt.mass_fractions.size(); ++i)
+                fr.push_back({{"id", p.blend.components[i].label}, {"mass_fraction", pt.mass_fractions[i]}});
+        }
+        pts.push_back(q);
+    }
+    return j;
+}
+
+std::string subsets_text(const SubsetChoice& c, std::size_t n) {
+    std::ostringstream o;
+    o << fmt::format("Best {} of {} components: {} subsets tried\n", c.k, n, c.trials.size());
+    for (std::size_t i = 0; i < c.trials.size(); ++i) {
+        const auto& t = c.trials[i];
+        if (t.feasible)
+            o << fmt::format("  {} {:<60} objective {:.4f}\n", c.found && i == c.best ? "best" : "  ok", t.labels, t.objective_value);
+        else
+            o << fmt::format("  INFEASIBLE {:<54} {}\n", t.labels, t.message);
+    }
+    return o.str() + "\n";
+}
+
+std::string sigma_words(const std::vector<double>& v, double scale, const char* unit) {
+    std::string s;
+    for (double x : v) s += fmt::format("{}{:g}{}", s.empty() ? "" : ", ", x * scale, unit);
+    return v.size() > 1 ? "(" + s + ")" : s;
+}
+
+std::string tolerance_text(const ToleranceProblem& t, const ToleranceResult& r, double ms, const std::string& ellipse_source) {
+    std::ostringstream o;
+    o << fmt::format("\nProduction tolerance of '{}' (Monte Carlo: {} draws, seed {}, {:.0f} ms)\n", t.blend.name, r.draws, r.seed, ms);
+    o << fmt::format("  errors:     weighing sigma {} of each component's mass ({}), peak shift sigma {}, QE sigma {} (relative)\n",
+                     sigma_words(t.weighing_sigma, t.weighing_relative ? 100 : 1, t.weighing_relative ? " %" : ""),
+                     t.weighing_relative ? "relative" : "absolute, in mass fraction", sigma_words(t.peak_sigma_nm, 1, " nm"),
+                     sigma_words(t.qe_sigma, 100, " %"));
+    o << fmt::format("  ellipse:    {}\n              centre (target) x = {:.4f}, y = {:.4f}; one-step semi-axes {:.5f}, {:.5f} at {:.1f} deg\n",
+                     ellipse_source, r.target.x, r.target.y, t.ellipse.a, t.ellipse.b, t.ellipse.theta_deg);
+    o << fmt::format("  nominal:    x = {:.4f}, y = {:.4f}, {:.2f} steps from the target\n", r.nominal_xy.x, r.nominal_xy.y, r.nominal_steps);
+    o << fmt::format("  lamps:      x {:.4f} (sd {:.4f}), y {:.4f} (sd {:.4f}), correlation {:+.2f}\n", r.mean_x, r.sd_x, r.mean_y, r.sd_y,
+                     r.corr_xy);
+    o << fmt::format("  MacAdam steps from the target: mean {:.2f}, sd {:.2f}; median {:.2f}, 90 % {:.2f}, 95 % {:.2f}, 99 % {:.2f}, max {:.2f}\n",
+                     r.mean_steps, r.sd_steps, r.p50, r.p90, r.p95, r.p99, r.max_steps);
+    o << fmt::format("  inside the {:g}-step ellipse: {:.2f} % of lamps (standard error {:.2f} %, {} of {})\n", r.steps_limit, 100 * r.yield,
+                     100 * r.yield_standard_error, r.inside, r.draws);
+    return o.str();
+}
+
 }  // namespace
 
 int run_fit(int argc, char** argv) {
     po::options_description opts(std::string(R"(Usage: lampwright fit RECIPE.toml TARGET [options]
+       lampwright fit DESIGN.toml TARGET [--maximize ...] [--fit-thickness]   (LED layer design)
 
-Solves the recipe's mass fractions for a target white. The recipe's fractions are the starting
+Solves the recipe's mass fractions for a target white. For an LED layer design (a TOML file with
+[layer]) it fits the phosphor loadings (and with --fit-thickness the thickness) so the light at
+the operating temperature lands on the target (NLopt COBYLA; --recipe-out writes the design). The recipe's fractions are the starting
 point; per-component limits come from min_fraction / max_fraction in the recipe.
 Three components: the exact linear solve in absorbed-photon shares (then, with an objective, the
 best blend within the tolerance); four or more: NLopt COBYLA from several deterministic starts.
@@ -115,11 +249,31 @@ TARGET (one of):
   --flamp F4100          ANSI C78.376 lamp colour with an n-step MacAdam ellipse (--steps, default 4;
                          centres and ellipses from memory, see data/targets/README.md)
 
+TRADE-OFF FRONT (instead of one fit):
+  --front ra-efficacy    maximise efficacy (lm per W absorbed) for a rising floor on Ra
+  --front ra-ler         maximise LER for a rising floor on Ra
+  --front ra-r9          maximise Ra for a rising floor on R9
+  The floor runs from the floor figure of the unconstrained best blend up to the best reachable one
+  (epsilon-constraint sweep, --points solves); --front-csv and --front-svg write the front.
+
+BEST K OF N: --choose K solves every K-component subset of the recipe (at most 8 components) and
+  keeps the best feasible one by the objective; the subsets that cannot meet the target are listed.
+
+PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Monte Carlo) with
+  weighing errors (--weighing-sigma, relative to each component's mass unless --weighing-absolute)
+  and phosphor lot variation (--peak-sigma in nm, --qe-sigma relative), and reports the chromaticity
+  in MacAdam steps from the target and the share of lamps inside the --steps ellipse (default 4; the
+  target's own ellipse with --flamp, else the nearest ANSI C78.376 ellipse moved to the target).
+  Same --seed, same draws (with one standard library). A sigma is one number for all components or
+  one per component, comma-separated.
+
 )") + kSafetyNotice + "\nOptions");
     std::string format = "text", recipe_out, xy, uv, flamp, maximize = "change", method = "auto";
     std::vector<std::string> folders, recipes;
     double cct = 0, duv = 0, tolerance = kDefaultFitToleranceUvPrime, steps = kAnsiC78376Steps, r9_weight = 0.5;
-    int ansi = 0;
+    int ansi = 0, points = 30, choose = 0;
+    std::string front, front_csv_path, front_svg_path, weighing_sigma = "0", peak_sigma = "0", qe_sigma = "0";
+    long long draws = 100000, seed = 1;
     opts.add_options()("help,h", "show this help")("cct", po::value(&cct), "target CCT, K")("duv", po::value(&duv), "target Duv (with --cct)")
         ("xy", po::value(&xy), "target x,y")("uv", po::value(&uv), "target u',v'")("ansi", po::value(&ansi), "ANSI C78.377 nominal CCT class")
         ("flamp", po::value(&flamp), "ANSI C78.376 lamp colour, e.g. F4100")("steps", po::value(&steps), "MacAdam ellipse size with --flamp (default 4)")
@@ -132,7 +286,20 @@ TARGET (one of):
         ("sensitivity", "text format: also print what one percentage point more of each component does to u', v', CCT, Duv, Ra")
         ("recipe-out", po::value(&recipe_out), "write the fitted recipe (TOML, loadable by 'blend')")
         ("format,f", po::value(&format), "text | csv | json (default text)")
-        ("phosphors", po::value(&folders), "a folder of your own phosphor files (*.toml); repeatable");
+        ("phosphors", po::value(&folders), "a folder of your own phosphor files (*.toml); repeatable")
+        ("front", po::value(&front), "ra-efficacy | ra-ler | ra-r9: compute the trade-off front instead of one fit")
+        ("points", po::value(&points), "points on the front (default 30)")
+        ("front-csv", po::value(&front_csv_path), "write the front as CSV")
+        ("front-svg", po::value(&front_svg_path), "write the front as an SVG chart")
+        ("choose", po::value(&choose), "use the best K of the recipe's components")
+        ("tolerance-run", "Monte Carlo production tolerance of the fitted recipe")
+        ("draws", po::value(&draws), "Monte Carlo draws (default 100000)")
+        ("weighing-sigma", po::value(&weighing_sigma), "weighing error sigma, relative to each component's mass (0.005 = 0.5 %)")
+        ("weighing-absolute", "--weighing-sigma is in mass-fraction units instead")
+        ("peak-sigma", po::value(&peak_sigma), "phosphor lot emission peak shift sigma, nm")
+        ("qe-sigma", po::value(&qe_sigma), "phosphor lot QE sigma, relative (0.01 = 1 %)")
+        ("seed", po::value(&seed), "random-number seed (default 1)")
+        ("fit-thickness", "LED layer designs: fit the layer thickness as well as the loadings");
     po::variables_map vm;
     if (!parse_command_line(argc, argv, opts, "recipe", &recipes, vm, "fit")) return kExitOk;
     const Format f = parse_format(format);
@@ -140,7 +307,39 @@ TARGET (one of):
     const int n_targets = static_cast<int>(vm.count("cct") + vm.count("xy") + vm.count("uv") + vm.count("ansi") + vm.count("flamp"));
     if (n_targets != 1) throw UsageError{"fit: give exactly one target: --cct, --xy, --uv, --ansi or --flamp"};
     if (vm.count("duv") && !vm.count("cct")) throw UsageError{"fit: --duv goes with --cct"};
-    if (vm.count("steps") && !vm.count("flamp")) throw UsageError{"fit: --steps goes with --flamp"};
+    const bool tolerance_run = vm.count("tolerance-run") > 0;
+    if (vm.count("steps") && !vm.count("flamp") && !tolerance_run) throw UsageError{"fit: --steps goes with --flamp or --tolerance-run"};
+    if (vm.count("steps") && !(steps > 0)) throw UsageError{"fit: --steps must be positive"};
+    const bool want_front = vm.count("front") > 0;
+    for (const char* o : {"points", "front-csv", "front-svg"})
+        if (vm.count(o) && !want_front) throw UsageError{fmt::format("fit: --{} goes with --front", o)};
+    for (const char* o : {"maximize", "choose", "tolerance-run", "recipe-out", "sensitivity"})
+        if (want_front && vm.count(o)) throw UsageError{fmt::format("fit: --front sets its own objective and gives many blends; --{} does not apply", o)};
+    if (want_front && !(points >= 2 && points <= 1000)) throw UsageError{"fit: --points must lie between 2 and 1000"};
+    for (const char* o : {"draws", "weighing-sigma", "weighing-absolute", "peak-sigma", "qe-sigma", "seed"})
+        if (vm.count(o) && !tolerance_run) throw UsageError{fmt::format("fit: --{} goes with --tolerance-run", o)};
+    if (tolerance_run && !(draws >= 1 && draws <= 100000000)) throw UsageError{"fit: --draws must lie between 1 and 100000000"};
+    if (tolerance_run && seed < 0) throw UsageError{"fit: --seed must be zero or positive"};
+    if (vm.count("choose") && !(choose >= 1 && choose <= 8)) throw UsageError{"fit: --choose takes a number of components from 1 to 8"};
+    std::optional<FrontKind> front_kind;
+    if (want_front) {
+        try {
+            front_kind = parse_front_kind(front);
+        } catch (const Error& e) {
+            throw UsageError{std::string("fit: --front: ") + e.what()};
+        }
+        if (*front_kind == FrontKind::ra_r9 ? vm.count("min-r9") > 0 : vm.count("min-ra") > 0)
+            throw UsageError{fmt::format("fit: --front {} sweeps the {} floor itself; drop --min-{}", front, front_floor_label(*front_kind),
+                                         *front_kind == FrontKind::ra_r9 ? "r9" : "ra")};
+    }
+    const std::vector<double> sw = parse_list(weighing_sigma, "--weighing-sigma"), sp = parse_list(peak_sigma, "--peak-sigma"),
+                              sq = parse_list(qe_sigma, "--qe-sigma");
+    if (tolerance_run) {
+        bool any = false;
+        for (const auto* v : {&sw, &sp, &sq})
+            for (double x : *v) any = any || x > 0;
+        if (!any) throw UsageError{"fit: --tolerance-run needs a sigma above zero: --weighing-sigma, --peak-sigma or --qe-sigma"};
+    }
     if (vm.count("tolerance") && vm.count("flamp")) throw UsageError{"fit: --flamp uses its MacAdam ellipse; --tolerance does not apply"};
     if (!(tolerance > 0)) throw UsageError{"fit: --tolerance must be positive"};
 
@@ -174,26 +373,139 @@ TARGET (one of):
     if (vm.count("min-r9")) p.min_r9 = vm["min-r9"].as<double>();
     if (vm.count("min-ler")) p.min_ler = vm["min-ler"].as<double>();
 
+    if (const TomlDoc doc = TomlDoc::from_file(recipes.front()); is_layer_design(doc)) {
+        for (const char* o : {"front", "choose", "tolerance-run", "sensitivity", "min-ler", "method"})
+            if (vm.count(o)) throw UsageError{fmt::format("fit: --{} applies to blend recipes, not to LED layer designs", o)};
+        LayerFitProblem lp;
+        lp.design = layer_design_from_toml(doc, folders);
+        lp.target = p.target;
+        lp.objective = p.objective;
+        lp.r9_weight = p.r9_weight;
+        lp.tolerance_uv_prime = p.tolerance_uv_prime;
+        lp.min_ra = p.min_ra;
+        lp.min_r9 = p.min_r9;
+        lp.fit_thickness = vm.count("fit-thickness") > 0;
+        return run_layer_fit(lp, f, recipe_out);
+    }
+    if (vm.count("fit-thickness")) throw UsageError{"fit: --fit-thickness applies to LED layer designs"};
     const Recipe recipe = load_recipe(recipes.front(), folders);
     p.blend = recipe.blend;
+    const std::size_t n_components = p.blend.components.size();
+    for (const auto* v : {&sw, &sp, &sq})
+        if (v->size() != 1 && v->size() != n_components)
+            throw UsageError{fmt::format("fit: a sigma list needs one value, or one per component of the recipe ({}), not {}", n_components, v->size())};
+    if (vm.count("choose") && static_cast<std::size_t>(choose) > n_components)
+        throw UsageError{fmt::format("fit: --choose {}: the recipe has only {} components", choose, n_components)};
+    if (vm.count("choose") && n_components > 8) throw UsageError{fmt::format("fit: --choose works on recipes of at most 8 components, not {}", n_components)};
     FitResult r;
     try {
         (void)evaluate_blend(recipe.blend);  // loads the tables once, so the time below is the fit's
     } catch (const Error&) {
     }
     const auto t0 = std::chrono::steady_clock::now();
+    auto elapsed_ms = [&] { return std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - t0).count(); };
+
+    if (front_kind) {
+        TradeoffFront tf;
+        try {
+            tf = tradeoff_front(p, *front_kind, points, options);
+        } catch (const InputError&) {
+            throw;
+        } catch (const Error& e) {
+            throw InputError(recipe.path, 0, e.what());
+        }
+        const double fms = elapsed_ms();
+        switch (f) {
+            case Format::text: std::cout << front_text(p, tf, fms); break;
+            case Format::csv: std::cout << front_csv(p, tf); break;
+            case Format::json: std::cout << front_json(p, tf, fms).dump(2) << '\n'; break;
+        }
+        if (!front_csv_path.empty()) {
+            std::ofstream out(front_csv_path);
+            if (!out || !(out << front_csv(p, tf))) throw InputError(front_csv_path, 0, "cannot be written");
+        }
+        if (!front_svg_path.empty()) {
+            std::ofstream out(front_svg_path);
+            if (!out || !(out << front_svg(p, tf))) throw InputError(front_svg_path, 0, "cannot be written");
+        }
+        if (std::none_of(tf.points.begin(), tf.points.end(), [](const FrontPoint& q) { return q.feasible; }))
+            throw InputError(recipe.path, 0, "no point of the front is feasible");
+        return kExitOk;
+    }
+
+    std::optional<SubsetChoice> subsets;
     try {
-        r = solve(p, options);
+        if (vm.count("choose")) {
+            subsets = choose_components(p, choose, options);
+            r = subsets->result;
+            if (!subsets->found) {
+                r.feasible = false;
+                r.message = fmt::format("no subset of {} of the {} components meets the target and constraints", choose, n_components);
+            }
+        } else {
+            r = solve(p, options);
+        }
     } catch (const InputError&) {
         throw;
     } catch (const Error& e) {
         throw InputError(recipe.path, 0, e.what());
     }
-    const double ms = std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - t0).count();
+    const double ms = elapsed_ms();
+    if (subsets && !subsets->found) {
+        std::cerr << subsets_text(*subsets, n_components);
+        throw InputError(recipe.path, 0, "target " + p.target.description + ": " + r.message);
+    }
+
+    // The production tolerance of the fitted recipe.
+    std::optional<ToleranceProblem> tp;
+    std::optional<ToleranceResult> tr;
+    double tms = 0;
+    if (tolerance_run && r.feasible) {
+        tp.emplace();
+        tp->blend = r.blend;
+        tp->blend.name = recipe.blend.name + " (fitted)";
+        tp->ellipse = tolerance_ellipse(p.target);
+        tp->steps = vm.count("steps") ? steps : (p.target.ellipse ? p.target.ellipse_steps : kAnsiC78376Steps);
+        // Sigmas per component of the fitted recipe (components at zero are left out of it).
+        auto fitted = [&](const std::vector<double>& v) {
+            if (v.size() == 1) return v;
+            std::vector<double> out;
+            for (std::size_t i = 0; i < v.size(); ++i)
+                if (r.mass_fractions[i] > 0) out.push_back(v[i]);
+            return out;
+        };
+        tp->weighing_sigma = fitted(sw);
+        tp->weighing_relative = vm.count("weighing-absolute") == 0;
+        tp->peak_sigma_nm = fitted(sp);
+        tp->qe_sigma = fitted(sq);
+        tp->draws = static_cast<std::size_t>(draws);
+        tp->seed = static_cast<std::uint64_t>(seed);
+        const bool show_progress = isatty(STDERR_FILENO) != 0;
+        auto last = std::chrono::steady_clock::now();
+        const ToleranceProgress progress = [&](std::size_t done, std::size_t total) {
+            if (!show_progress || total < 20000) return;
+            const auto now = std::chrono::steady_clock::now();
+            if (done != total && now - last < std::chrono::milliseconds(100)) return;
+            last = now;
+            std::cerr << fmt::format("\rlampwright fit: tolerance run {}/{} draws ({:.0f} %)", done, total,
+                                     100.0 * static_cast<double>(done) / static_cast<double>(total))
+                      << (done == total ? "\n" : "") << std::flush;
+        };
+        const auto t1 = std::chrono::steady_clock::now();
+        try {
+            tr = run_tolerance(*tp, progress);
+        } catch (const InputError&) {
+            throw;
+        } catch (const Error& e) {
+            throw InputError(recipe.path, 0, std::string("tolerance run: ") + e.what());
+        }
+        tms = std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - t1).count();
+    }
     for (const auto& w : r.result.assessment.warnings) print_warning(fmt::format("{}: {}", r.result.name, w));
 
     switch (f) {
         case Format::text:
+            if (subsets) std::cout << subsets_text(*subsets, n_components);
             std::cout << fit_text(p, r, ms);
             if (vm.count("sensitivity")) {
                 std::cout << "\n  sensitivity: one percentage point more of (then renormalised)\n"
@@ -202,6 +514,7 @@ TARGET (one of):
                     std::cout << fmt::format("  {:<40} {:+9.5f} {:+9.5f} {:+8.1f} {:+9.5f} {:+7.2f}\n", s.label, s.d_u_prime, s.d_v_prime,
                                              s.d_cct_K, s.d_duv, s.d_ra);
             }
+            if (tr) std::cout << tolerance_text(*tp, *tr, tms, tolerance_ellipse_source(p.target));
             break;
         case Format::csv: {
             auto cols = blend_columns(r.result);
@@ -214,10 +527,43 @@ TARGET (one of):
                 cols.push_back(fmt::format("fit_{}", p.blend.components[i].label));
                 vals.push_back(fmt::format("{:.6f}", r.mass_fractions[i]));
             }
+            if (tr) {
+                for (const char* k : {"tol_draws", "tol_seed", "tol_steps_limit", "tol_inside_share", "tol_inside_standard_error",
+                                      "tol_mean_steps", "tol_sd_steps", "tol_p50_steps", "tol_p90_steps", "tol_p95_steps", "tol_p99_steps",
+                                      "tol_max_steps", "tol_nominal_steps"})
+                    cols.push_back(k);
+                vals.push_back(fmt::format("{}", tr->draws));
+                vals.push_back(fmt::format("{}", tr->seed));
+                for (double v : {tr->steps_limit, tr->yield, tr->yield_standard_error, tr->mean_steps, tr->sd_steps, tr->p50, tr->p90, tr->p95,
+                                 tr->p99, tr->max_steps, tr->nominal_steps})
+                    vals.push_back(fmt::format("{:.6g}", v));
+            }
             std::cout << csv_line(cols) << '\n' << csv_line(vals) << '\n';
             break;
         }
-        case Format::json: std::cout << fit_json(p, r, ms).dump(2) << '\n'; break;
+        case Format::json: {
+            auto j = fit_json(p, r, ms);
+            if (subsets) {
+                auto& a = j["subsets"] = nlohmann::ordered_json::array();
+                for (std::size_t i = 0; i < subsets->trials.size(); ++i) {
+                    const auto& t = subsets->trials[i];
+                    a.push_back({{"components", t.labels}, {"feasible", t.feasible}, {"objective_value", t.objective_value},
+                                 {"best", subsets->found && i == subsets->best}, {"message", t.message}});
+                }
+            }
+            if (tr) {
+                j["tolerance"] = {{"draws", tr->draws}, {"seed", tr->seed}, {"weighing_relative", tp->weighing_relative},
+                                  {"weighing_sigma", tp->weighing_sigma}, {"peak_sigma_nm", tp->peak_sigma_nm}, {"qe_sigma", tp->qe_sigma},
+                                  {"steps_limit", tr->steps_limit}, {"ellipse", tolerance_ellipse_source(p.target)}, {"inside_share", tr->yield},
+                                  {"inside_standard_error", tr->yield_standard_error}, {"inside", tr->inside},
+                                  {"nominal_steps", tr->nominal_steps}, {"mean_steps", tr->mean_steps}, {"sd_steps", tr->sd_steps},
+                                  {"p50_steps", tr->p50}, {"p90_steps", tr->p90}, {"p95_steps", tr->p95}, {"p99_steps", tr->p99},
+                                  {"max_steps", tr->max_steps}, {"mean_x", tr->mean_x}, {"mean_y", tr->mean_y}, {"sd_x", tr->sd_x},
+                                  {"sd_y", tr->sd_y}, {"time_ms", tms}};
+            }
+            std::cout << j.dump(2) << '\n';
+            break;
+        }
     }
     if (!r.feasible) throw InputError(recipe.path, 0, "target " + p.target.description + ": " + r.message);
     if (!recipe_out.empty()) {

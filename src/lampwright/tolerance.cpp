@@ -41,18 +41,11 @@ double quantile(const std::vector<double>& sorted, double p) {
 
 }  // namespace
 
-MacAdamEllipse tolerance_ellipse(const Target& target) {
-    if (target.ellipse) return *target.ellipse;
-    const auto& colours = ansi_c78376_colours();
-    const FluorescentLampColour* nearest = &colours.front();
-    double best = 1e300;
-    for (const auto& c : colours) {
-        const double d = std::hypot(c.ellipse.centre.x - target.xy.x, c.ellipse.centre.y - target.xy.y);
-        if (d < best) best = d, nearest = &c;
-    }
-    MacAdamEllipse e = nearest->ellipse;
-    e.centre = target.xy;
-    return e;
+MacAdamEllipse tolerance_ellipse(const Target& target) { return target.ellipse ? *target.ellipse : nearest_step_ellipse(target.xy); }
+
+std::string tolerance_ellipse_source(const Target& target) {
+    if (target.ellipse) return fmt::format("the target's own one-step ellipse ({})", target.description);
+    return "the one-step ellipse of the nearest ANSI C78.376 lamp colour (from memory), moved to the target";
 }
 
 Phosphor shifted_phosphor(const Phosphor& p, double shift_nm) {

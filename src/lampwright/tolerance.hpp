@@ -30,6 +30,7 @@
 #include <cstdint>
 #include <functional>
 #include <random>
+#include <string>
 #include <vector>
 
 namespace lampwright {
@@ -76,6 +77,8 @@ struct ToleranceResult {
 // the ANSI C78.376 lamp colour nearest to the target, moved to the target (values from memory,
 // see data/targets/README.md).
 MacAdamEllipse tolerance_ellipse(const Target& target);
+// Where that ellipse comes from, in words.
+std::string tolerance_ellipse_source(const Target& target);
 
 // A phosphor whose emission bands and lines are moved by shift_nm (a measured spectrum: resampled,
 // linear interpolation, zero outside its data).

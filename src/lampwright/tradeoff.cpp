@@ -163,6 +163,8 @@ TradeoffFront tradeoff_front(const FitProblem& problem, FrontKind kind, int poin
     f.message = fmt::format("{} points, {} >= {:.2f} to {:.2f}; {} solves", points, f.floor_label, f.floor_low, f.floor_high, f.solves);
     if (borrowed) f.message += fmt::format("; {} point(s) use a better blend found by another point's solve", borrowed);
     if (missing) f.message += fmt::format("; no feasible blend at {} point(s)", missing);
+    if (f.floor_high <= f.floor_low)
+        f.message += fmt::format("; no trade-off here: the blend with the best {} has (within 0.02) the best {} too", f.objective_label, f.floor_label);
     return f;
 }
 

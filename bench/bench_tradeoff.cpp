@@ -1,0 +1,64 @@
+// Speed of the trade-off front and the production tolerance Monte Carlo (issue goals on one core:
+// a 30-point front <= 2 s; 100,000 tolerance draws <= 1 s).
+#include "lampwright/recipe.hpp"
+#include "lampwright/tolerance.hpp"
+#include "lampwright/tradeoff.hpp"
+
+#include <benchmark/benchmark.h>
+
+#include <string>
+
+namespace {
+
+lampwright::BlendInput recipe(const std::string& name) {
+    return lampwright::load_recipe(std::string(LAMPWRIGHT_SOURCE_DIR) + "/examples/recipes/" + name).blend;
+}
+
+// Four mercury-excited components at 4000 K: a real trade-off, Ra about 81 to 85. (The
+// 4-component LED recipe has its best Ra and best efficacy at one blend: a degenerate front.)
+void BM_Front30RaEfficacy(benchmark::State& state, const std::string& name) {
+    lampwright::FitProblem p;
+    p.blend = recipe(name);
+    p.target = lampwright::target_cct(4000, 0.0);
+    (void)lampwright::solve(p);  // tables loaded outside the timed loop
+    int solves = 0, evaluations = 0;
+    for (auto _ : state) {
+        auto f = lampwright::tradeoff_front(p, lampwright::FrontKind::ra_efficacy, 30);
+        solves = f.solves;
+        evaluations = f.evaluations;
+        benchmark::DoNotOptimize(f);
+    }
+    state.counters["solves"] = solves;
+    state.counters["evaluations"] = evaluations;
+}
+
+// The whole run: the precomputed table (per component, 0.25 nm shifts) and the draws.
+void BM_Tolerance(benchmark::State& state, const std::string& name, std::size_t draws) {
+    lampwright::ToleranceProblem t;
+    t.blend = recipe(name);
+    // The ellipse round the recipe's own chromaticity (the nearest ANSI C78.376 one-step ellipse).
+    const auto xy = lampwright::evaluate_blend(t.blend).assessment.xy;
+    t.ellipse = lampwright::tolerance_ellipse(lampwright::target_xy(xy.x, xy.y));
+    t.weighing_sigma = {0.005};
+    t.peak_sigma_nm = {0.5};
+    t.qe_sigma = {0.01};
+    t.draws = draws;
+    t.seed = 1;
+    (void)lampwright::run_tolerance(t);
+    double yield = 0;
+    for (auto _ : state) {
+        auto r = lampwright::run_tolerance(t);
+        yield = r.yield;
+        benchmark::DoNotOptimize(r);
+    }
+    state.counters["yield"] = yield;
+}
+
+}  // namespace
+
+BENCHMARK_CAPTURE(BM_Front30RaEfficacy, multiband_4_components, std::string("multiband_5000K.toml"))->Unit(benchmark::kMillisecond);
+BENCHMARK_CAPTURE(BM_Front30RaEfficacy, led395_4_components, std::string("led395_module.toml"))->Unit(benchmark::kMillisecond);
+BENCHMARK_CAPTURE(BM_Tolerance, led395_4_components_100k, std::string("led395_module.toml"), 100000)->Unit(benchmark::kMillisecond);
+BENCHMARK_CAPTURE(BM_Tolerance, multiband_4_components_100k, std::string("multiband_5000K.toml"), 100000)->Unit(benchmark::kMillisecond);
+// One draw: the cost of the precomputed table alone.
+BENCHMARK_CAPTURE(BM_Tolerance, led395_4_components_table_only, std::string("led395_module.toml"), 1)->Unit(benchmark::kMillisecond);
