@@ -1,72 +1,24 @@
 // The `lampwright assess` command line: exit status, messages on stderr, CSV/JSON output, and a
 // corpus of malformed files (tests/data/bad) next to valid ones (tests/data/good).
+#include "test_support.hpp"
+
 #include <doctest/doctest.h>
 #include <nlohmann/json.hpp>
 
-#include <sys/wait.h>
-#include <unistd.h>
-
 #include <cmath>
-#include <filesystem>
 #include <fstream>
 #include <sstream>
 #include <string>
 #include <vector>
 
-namespace fs = std::filesystem;
-
 namespace {
 
-const std::string kCli = LAMPWRIGHT_CLI;
 const std::string kData = std::string(LAMPWRIGHT_SOURCE_DIR) + "/tests/data";
 
-std::string quote(const std::string& s) {
-    std::string q = "'";
-    for (char c : s) {
-        if (c == '\'') q += "'\\''";
-        else q += c;
-    }
-    return q + "'";
-}
-
-std::string slurp(const fs::path& p) {
-    std::ifstream in(p);
-    std::stringstream ss;
-    ss << in.rdbuf();
-    return ss.str();
-}
-
-struct Run {
-    int exit_code = -1;  // -1 when the process did not exit normally
-    bool crashed = false;  // killed by a signal
-    std::string out, err;
-};
-
-fs::path temp_dir() {
-    const auto dir = fs::temp_directory_path() / ("lampwright_cli_tests_" + std::to_string(::getpid()));
-    fs::create_directories(dir);
-    return dir;
-}
-
-// Runs `lampwright <args>` with stdout and stderr captured to files.
-Run run_cli(const std::string& args, const std::string& stdin_path = "") {
-    const auto dir = temp_dir();
-    const auto out = dir / "stdout.txt", err = dir / "stderr.txt";
-    std::string cmd = quote(kCli) + " " + args + " >" + quote(out.string()) + " 2>" + quote(err.string());
-    if (!stdin_path.empty()) cmd += " <" + quote(stdin_path);
-    const int status = std::system(cmd.c_str());
-    Run r;
-    if (status != -1 && WIFEXITED(status)) {
-        r.exit_code = WEXITSTATUS(status);
-        // The shell reports a child killed by signal N as exit status 128 + N.
-        r.crashed = r.exit_code > 128;
-    } else {
-        r.crashed = true;
-    }
-    r.out = slurp(out);
-    r.err = slurp(err);
-    return r;
-}
+using lwtest::quote;
+using lwtest::run_cli;
+using lwtest::TempDir;
+using Run = lwtest::CliRun;
 
 std::vector<std::string> lines(const std::string& text) {
     std::vector<std::string> v;
@@ -255,12 +207,12 @@ TEST_CASE("cli: --observer 10 changes x, y but not CCT or Ra, and --cct-method r
 TEST_CASE("cli: odd but valid spectra never crash the program") {
     // A single green line and a UV line have a chromaticity but no CCT: warnings, exit status 0.
     // Power only beyond 830 nm has no chromaticity at all: an error naming the file, exit status 1.
-    const auto dir = temp_dir();
+    const TempDir dir;
     auto write = [&](const std::string& name, int from, int to, int line_nm) {
-        std::ofstream out(dir / name);
+        std::ofstream out(dir.path / name);
         out << "wavelength_nm,value\n";
         for (int nm = from; nm <= to; nm += 5) out << nm << ',' << (nm == line_nm ? 1 : 0) << '\n';
-        return (dir / name).string();
+        return dir.file(name);
     };
     const std::string files[] = {write("ir_only.csv", 380, 900, 900), write("green_line.csv", 380, 780, 550),
                                  write("uv_line.csv", 380, 780, 380), write("far_ir.csv", 380, 1200, 1200)};
@@ -282,5 +234,4 @@ TEST_CASE("cli: odd but valid spectra never crash the program") {
             }
         }
     }
-    fs::remove_all(dir);
 }

@@ -1,76 +1,23 @@
 // Tests of the 'blend' and 'phosphors' commands, run as the user runs them (LAMPWRIGHT_CLI).
+#include "test_support.hpp"
+
 #include <doctest/doctest.h>
 #include <nlohmann/json.hpp>
 
-#include <sys/wait.h>
-
-#include <atomic>
-#include <chrono>
 #include <cmath>
 #include <cstdlib>
-#include <filesystem>
-#include <fstream>
 #include <sstream>
 #include <string>
 #include <vector>
 
 namespace {
 
-namespace fs = std::filesystem;
-
-struct TempDir {
-    fs::path path;
-    TempDir() {
-        static std::atomic<int> counter{0};
-        const auto stamp = std::chrono::steady_clock::now().time_since_epoch().count();
-        path = fs::temp_directory_path() / ("lampwright_cli_blend_test_" + std::to_string(stamp) + "_" + std::to_string(counter++));
-        fs::create_directories(path);
-    }
-    ~TempDir() {
-        std::error_code ec;
-        fs::remove_all(path, ec);
-    }
-    std::string file(const std::string& name) const { return (path / name).string(); }
-    std::string write(const std::string& name, const std::string& text) const {
-        std::ofstream(path / name) << text;
-        return file(name);
-    }
-};
-
-std::string quote(const std::string& s) {
-    std::string o = "'";
-    for (char c : s) {
-        if (c == '\'') o += "'\\''";
-        else o += c;
-    }
-    return o + "'";
-}
-
-std::string slurp(const std::string& path) {
-    std::ifstream in(path);
-    std::ostringstream ss;
-    ss << in.rdbuf();
-    return ss.str();
-}
-
-struct Run {
-    int exit_code = -1;
-    std::string out, err;
-};
+using lwtest::slurp;
+using lwtest::TempDir;
+using Run = lwtest::CliRun;
 
 // Runs lampwright with the arguments (each quoted for the shell), capturing stdout and stderr.
-Run lampwright(const std::vector<std::string>& args) {
-    TempDir dir;
-    std::string cmd = quote(LAMPWRIGHT_CLI);
-    for (const auto& a : args) cmd += " " + quote(a);
-    cmd += " >" + quote(dir.file("out")) + " 2>" + quote(dir.file("err")) + " </dev/null";
-    const int status = std::system(cmd.c_str());
-    Run r;
-    r.exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
-    r.out = slurp(dir.file("out"));
-    r.err = slurp(dir.file("err"));
-    return r;
-}
+using lwtest::run_cli_args;
 
 std::vector<std::string> lines_of(const std::string& text) {
     std::vector<std::string> lines;
@@ -122,7 +69,7 @@ std::string source_file(const std::string& rel) { return std::string(LAMPWRIGHT_
 }  // namespace
 
 TEST_CASE("cli blend: csv output has the assess columns and one row named by the recipe") {
-    const Run r = lampwright({"blend", source_file("examples/recipes/triband_4000K.toml"), "--format", "csv"});
+    const Run r = run_cli_args({"blend", source_file("examples/recipes/triband_4000K.toml"), "--format", "csv"});
     CAPTURE(r.err);
     REQUIRE(r.exit_code == 0);
     const auto lines = lines_of(r.out);
@@ -154,7 +101,7 @@ TEST_CASE("cli blend: csv output has the assess columns and one row named by the
 TEST_CASE("cli blend: --spectrum-out writes a spectrum that 'assess' reads back to the same x, y") {
     TempDir dir;
     const std::string spd = dir.file("blend_spd.csv");
-    const Run b = lampwright({"blend", source_file("examples/recipes/triband_4000K.toml"), "--format", "csv", "--spectrum-out", spd});
+    const Run b = run_cli_args({"blend", source_file("examples/recipes/triband_4000K.toml"), "--format", "csv", "--spectrum-out", spd});
     CAPTURE(b.err);
     REQUIRE(b.exit_code == 0);
     const auto spd_lines = lines_of(slurp(spd));
@@ -170,7 +117,7 @@ TEST_CASE("cli blend: --spectrum-out writes a spectrum that 'assess' reads back 
         previous = nm;
         CHECK(std::stod(c[1]) >= 0.0);
     }
-    const Run a = lampwright({"assess", spd, "--format", "csv"});
+    const Run a = run_cli_args({"assess", spd, "--format", "csv"});
     CAPTURE(a.err);
     REQUIRE(a.exit_code == 0);
     const auto bl = lines_of(b.out), al = lines_of(a.out);
@@ -187,20 +134,20 @@ TEST_CASE("cli blend: a bad recipe exits 1 and names the file") {
     TempDir dir;
     const std::string bad = dir.write("bad_recipe.toml", "name = \"bad\"\nexcitation_nm = 253.7\n\n[[component]]\n"
                                                          "phosphor = \"Unobtainium:Eu\"\nmass_fraction = 0.5\n");
-    const Run r = lampwright({"blend", bad});
+    const Run r = run_cli_args({"blend", bad});
     CHECK(r.exit_code == 1);
     CHECK(r.err.find(bad) != std::string::npos);
     CHECK(r.err.find("Unobtainium:Eu") != std::string::npos);
     CHECK(r.out.empty());
 
-    const Run missing = lampwright({"blend", dir.file("no_such.toml")});
+    const Run missing = run_cli_args({"blend", dir.file("no_such.toml")});
     CHECK(missing.exit_code == 1);
     CHECK(missing.err.find(dir.file("no_such.toml")) != std::string::npos);
 }
 
 TEST_CASE("cli blend: json output parses and lists the components") {
     // JSON per RFC 8259, one entry per recipe component (common practice, no source).
-    const Run r = lampwright({"blend", source_file("examples/recipes/led395_module.toml"), "--format", "json"});
+    const Run r = run_cli_args({"blend", source_file("examples/recipes/led395_module.toml"), "--format", "json"});
     CAPTURE(r.err);
     REQUIRE(r.exit_code == 0);
     const auto j = nlohmann::json::parse(r.out);
@@ -215,7 +162,7 @@ TEST_CASE("cli blend: json output parses and lists the components") {
 }
 
 TEST_CASE("cli blend: --help carries the safety notice") {
-    const Run r = lampwright({"blend", "--help"});
+    const Run r = run_cli_args({"blend", "--help"});
     CHECK(r.exit_code == 0);
     // Fluorescent lamps contain mercury; phosphor powders are a dust hazard (common practice, no source).
     CHECK(r.out.find("mercury") != std::string::npos);
@@ -224,7 +171,7 @@ TEST_CASE("cli blend: --help carries the safety notice") {
 
 TEST_CASE("cli phosphors: csv lists the library") {
     // One row per library phosphor, at least 18 (the issue); RFC 4180 CSV (common practice, no source).
-    const Run r = lampwright({"phosphors", "--format", "csv"});
+    const Run r = run_cli_args({"phosphors", "--format", "csv"});
     CAPTURE(r.err);
     REQUIRE(r.exit_code == 0);
     const auto lines = lines_of(r.out);
@@ -249,7 +196,7 @@ TEST_CASE("cli phosphors: csv lists the library") {
 TEST_CASE("cli phosphors: json parses, every entry says it is a model") {
     // The spectra are models, and every entry carries its sources (data/phosphors/README.md; common
     // practice, no source).
-    const Run r = lampwright({"phosphors", "--format", "json"});
+    const Run r = run_cli_args({"phosphors", "--format", "json"});
     CAPTURE(r.err);
     REQUIRE(r.exit_code == 0);
     const auto j = nlohmann::json::parse(r.out);

@@ -4,13 +4,11 @@
 #include "lampwright/layer_design.hpp"
 #include "lampwright/layer_report.hpp"
 
+#include "test_support.hpp"
+
 #include <doctest/doctest.h>
 
 #include <cmath>
-#include <cstdio>
-#include <filesystem>
-#include <unistd.h>
-#include <fstream>
 #include <string>
 
 using namespace lampwright;
@@ -30,9 +28,7 @@ Phosphor test_phosphor(const std::string& id, double peak_nm, double fwhm_nm, do
     return p;
 }
 
-std::string temp_toml(const std::string& stem) {
-    return (std::filesystem::temp_directory_path() / (stem + "_" + std::to_string(::getpid()) + ".toml")).string();
-}
+using lwtest::TempDir;
 
 LayerDesign single(double thickness_um, double loading, const Phosphor& p) {
     LayerDesign d;
@@ -192,11 +188,10 @@ TEST_CASE("layer design: the example designs load, and bad designs name file, li
     CHECK(d.components.size() == 3);
     CHECK(d.thickness_um == 150);
     // Round trip through layer_design_to_toml.
-    const std::string tmp = temp_toml("lampwright_layer_roundtrip");
-    std::ofstream(tmp) << layer_design_to_toml(d);
+    const TempDir tmp_dir;
+    const std::string tmp = tmp_dir.write("lampwright_layer_roundtrip.toml", layer_design_to_toml(d));
     const auto again = load_layer_design(tmp);
     CHECK(again.components[1].loading == doctest::Approx(d.components[1].loading));
-    std::remove(tmp.c_str());
 
     struct Bad {
         const char* text;
@@ -211,8 +206,7 @@ TEST_CASE("layer design: the example designs load, and bad designs name file, li
         {"name='x'\n[pump]\npeak_nm=395\nfwhm_nm=12\n[layer]\nthickness_um=50\n[[component]]\nphosphor='BAM'\nloading=0.6\n[[component]]\nphosphor='CASN'\nloading=0.5\n", "sum below 1"},
     };
     for (const auto& c : cases) {
-        const std::string path = temp_toml("lampwright_layer_bad");
-        std::ofstream(path) << c.text;
+        const std::string path = tmp_dir.write("lampwright_layer_bad.toml", c.text);
         try {
             (void)load_layer_design(path);
             FAIL("accepted a bad design: " << c.text);
@@ -222,7 +216,6 @@ TEST_CASE("layer design: the example designs load, and bad designs name file, li
             CHECK(e.line() > 0);
             CHECK(what.find(c.expect) != std::string::npos);
         }
-        std::remove(path.c_str());
     }
 }
 

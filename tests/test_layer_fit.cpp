@@ -2,15 +2,17 @@
 #include "lampwright/layer_design.hpp"
 #include "lampwright/layer_fit.hpp"
 
+#include "test_support.hpp"
+
 #include <doctest/doctest.h>
 
 #include <cmath>
-#include <cstdlib>
-#include <filesystem>
-#include <fstream>
-#include <unistd.h>
+#include <sstream>
 
 using namespace lampwright;
+using lwtest::quote;
+using lwtest::run_cli;
+using lwtest::TempDir;
 
 TEST_CASE("layer fit: loadings put the operating-temperature light on a 4000 K target") {
     LayerFitProblem p;
@@ -55,19 +57,16 @@ TEST_CASE("layer fit: an unreachable target is reported, not faked") {
 }
 
 TEST_CASE("layer fit: the fit command on a design writes a design that layer reproduces") {
-    const std::string out = (std::filesystem::temp_directory_path() / ("lampwright_fitted_layer_" + std::to_string(::getpid()) + ".toml")).string();
-    const std::string csv = out + ".csv";
-    const std::string cmd = std::string(LAMPWRIGHT_CLI) + " fit " LAMPWRIGHT_SOURCE_DIR "/examples/layers/module395_150um.toml --cct 4000 --format csv --recipe-out " +
-                            out + " > " + csv + " 2>/dev/null";
-    REQUIRE(std::system(cmd.c_str()) == 0);
+    const TempDir dir;
+    const std::string out = dir.file("lampwright_fitted_layer.toml");
+    const auto fit = run_cli("fit " + quote(LAMPWRIGHT_SOURCE_DIR "/examples/layers/module395_150um.toml") + " --cct 4000 --format csv --recipe-out " + quote(out));
+    REQUIRE(fit.exit_code == 0);
     const LayerReport rep = layer_report(load_layer_design(out));
     const UV uv = rep.operating.assessment.uv_prime, t = uv_1976_from_xy(target_cct(4000, 0).xy);
     CHECK(std::hypot(uv.u - t.u, uv.v - t.v) <= kDefaultFitToleranceUvPrime * 1.001);  // the problem's own constraint
-    std::ifstream in(csv);
+    std::istringstream in(fit.out);
     std::string header;
     std::getline(in, header);
     CHECK(header.find("pump_leak_fraction") != std::string::npos);
     CHECK(header.find("fit_loading_") != std::string::npos);
-    std::filesystem::remove(out);
-    std::filesystem::remove(csv);
 }

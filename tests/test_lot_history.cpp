@@ -7,6 +7,8 @@
 #include "lampwright/qc.hpp"
 #include "lampwright/targets.hpp"
 
+#include "test_support.hpp"
+
 #include <doctest/doctest.h>
 #include <fmt/format.h>
 #include <pugixml.hpp>
@@ -30,21 +32,7 @@ namespace fs = std::filesystem;
 
 namespace {
 
-// A fresh folder under the system temp folder, removed at the end of the test.
-struct TempDir {
-    fs::path path;
-    TempDir() {
-        static int counter = 0;
-        path = fs::temp_directory_path() / fmt::format("lampwright-lot-history-{}-{}", ::getpid(), counter++);
-        fs::remove_all(path);
-        fs::create_directories(path);
-    }
-    ~TempDir() {
-        std::error_code ec;
-        fs::remove_all(path, ec);
-    }
-    std::string file(const std::string& name) const { return (path / name).string(); }
-};
+using lwtest::TempDir;
 
 // Direct SQL on the database, independent of the code under test.
 struct Sql {

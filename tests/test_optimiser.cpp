@@ -7,6 +7,8 @@
 #include "lampwright/recipe.hpp"
 #include "lampwright/targets.hpp"
 
+#include "test_support.hpp"
+
 #include <doctest/doctest.h>
 
 #include <Eigen/Dense>
@@ -15,9 +17,9 @@
 #include <cmath>
 #include <cstdio>
 #include <cstdlib>
-#include <filesystem>
 #include <fstream>
 #include <numbers>
+#include <sstream>
 #include <string>
 #include <vector>
 
@@ -25,22 +27,14 @@ using namespace lampwright;
 
 namespace {
 
-std::string example(const std::string& name) { return std::string(LAMPWRIGHT_SOURCE_DIR) + "/examples/recipes/" + name; }
-
-FitProblem problem(const std::string& recipe, const Target& t, FitObjective o) {
-    FitProblem p;
-    p.blend = load_recipe(example(recipe)).blend;
-    p.target = t;
-    p.objective = o;
-    return p;
-}
+using lwtest::duv_prime;
+using lwtest::example_recipe;
+using lwtest::fit_problem;
+using lwtest::quote;
+using lwtest::run_cli;
+using lwtest::TempDir;
 
 double ra_of(const BlendResult& r) { return r.assessment.rendering ? r.assessment.rendering->ra : -1e9; }
-
-double duv_prime(const Assessment& a, const Chromaticity& target) {
-    const UV t = uv_1976_from_xy(target);
-    return std::hypot(a.uv_prime.u - t.u, a.uv_prime.v - t.v);
-}
 
 // Every constraint the result reports holds, re-checked here independently of the optimiser.
 void check_answer(const FitProblem& p, const FitResult& r) {
@@ -119,7 +113,7 @@ double grid_best_ra(const FitProblem& p, int fourth_steps, int radii, int angles
 TEST_CASE("optimiser: the exact three-component solve hits the target and agrees with the NLopt path") {
     // Self-consistency of two solvers (common practice, no source): with a tight tolerance the
     // NLopt answer must lie at the exact solution.
-    FitProblem p = problem("triband_4000K.toml", target_cct(3500, 0.0), FitObjective::closest_to_start);
+    FitProblem p = fit_problem("triband_4000K.toml", target_cct(3500, 0.0), FitObjective::closest_to_start);
     FitOptions exact;
     exact.method = FitMethod::exact;
     const FitResult e = solve(p, exact);
@@ -141,16 +135,12 @@ TEST_CASE("optimiser: the exact three-component solve hits the target and agrees
 
 TEST_CASE("optimiser: the fitted recipe, written and read back, reproduces the reported figures") {
     // Round trip through recipe_to_toml / load_recipe / evaluate_blend (common practice, no source).
-    FitProblem p = problem("led395_module.toml", target_ansi_c78377(4000), FitObjective::ra);
+    FitProblem p = fit_problem("led395_module.toml", target_ansi_c78377(4000), FitObjective::ra);
     const FitResult r = solve(p);
     check_answer(p, r);
-    const auto path = std::filesystem::temp_directory_path() / "lampwright_fit_roundtrip.toml";
-    {
-        std::ofstream out(path);
-        out << recipe_to_toml(r.blend);
-    }
-    const BlendResult back = evaluate_blend(load_recipe(path.string()).blend);
-    std::filesystem::remove(path);
+    const TempDir dir;
+    const std::string path = dir.write("lampwright_fit_roundtrip.toml", recipe_to_toml(r.blend));
+    const BlendResult back = evaluate_blend(load_recipe(path).blend);
     const Assessment& a = back.assessment;
     const Assessment& f = r.result.assessment;
     CHECK(a.xy.x == doctest::Approx(f.xy.x).epsilon(1e-6));
@@ -165,7 +155,7 @@ TEST_CASE("optimiser: the fitted recipe, written and read back, reproduces the r
 TEST_CASE("optimiser: best Ra within 0.2 of a brute-force grid over the feasible fractions, 3 and 4 components") {
     // The grid is the reference here (common practice, no source).
     SUBCASE("three components, 3500 K on the locus") {
-        FitProblem p = problem("triband_4000K.toml", target_cct(3500, 0.0), FitObjective::ra);
+        FitProblem p = fit_problem("triband_4000K.toml", target_cct(3500, 0.0), FitObjective::ra);
         const FitResult r = solve(p);
         check_answer(p, r);
         const double grid = grid_best_ra(p, 0, 12, 48);
@@ -173,7 +163,7 @@ TEST_CASE("optimiser: best Ra within 0.2 of a brute-force grid over the feasible
         CHECK(ra_of(r.result) >= grid - 0.2);
     }
     SUBCASE("four components, 4000 K on the locus (LED pump)") {
-        FitProblem p = problem("led395_module.toml", target_cct(4000, 0.0), FitObjective::ra);
+        FitProblem p = fit_problem("led395_module.toml", target_cct(4000, 0.0), FitObjective::ra);
         const FitResult r = solve(p);
         check_answer(p, r);
         const double grid = grid_best_ra(p, 200, 3, 12);
@@ -181,7 +171,7 @@ TEST_CASE("optimiser: best Ra within 0.2 of a brute-force grid over the feasible
         CHECK(ra_of(r.result) >= grid - 0.2);
     }
     SUBCASE("four components, 5000 K on the locus, where the CIE 13.3 reference switches") {
-        FitProblem p = problem("led395_module.toml", target_cct(5000, 0.0), FitObjective::ra);
+        FitProblem p = fit_problem("led395_module.toml", target_cct(5000, 0.0), FitObjective::ra);
         const FitResult r = solve(p);
         check_answer(p, r);
         const double grid = grid_best_ra(p, 200, 3, 12);
@@ -195,11 +185,11 @@ TEST_CASE("optimiser: constraints hold on every returned answer") {
     for (const auto o : {FitObjective::closest_to_start, FitObjective::ra, FitObjective::r9, FitObjective::ra_r9, FitObjective::ler,
                          FitObjective::efficacy}) {
         CAPTURE(fit_objective_name(o));
-        FitProblem p = problem("multiband_5000K.toml", target_cct(5000, 0.0), o);  // non-smooth: the CIE 13.3 reference switches at 5000 K
+        FitProblem p = fit_problem("multiband_5000K.toml", target_cct(5000, 0.0), o);  // non-smooth: the CIE 13.3 reference switches at 5000 K
         check_answer(p, solve(p));
     }
     SUBCASE("per-component limits and a minimum Ra") {
-        FitProblem p = problem("led395_module.toml", target_cct(3500, 0.0), FitObjective::ler);
+        FitProblem p = fit_problem("led395_module.toml", target_cct(3500, 0.0), FitObjective::ler);
         p.blend.components[0].min_fraction = 0.05;
         p.blend.components[3].max_fraction = 0.10;
         p.min_ra = 80;
@@ -207,13 +197,13 @@ TEST_CASE("optimiser: constraints hold on every returned answer") {
         check_answer(p, r);
     }
     SUBCASE("five components inside a 4-step ellipse, with a minimum R9") {
-        FitProblem p = problem("multiband_5000K.toml", target_ansi_c78376("F5000", 4), FitObjective::ler);
+        FitProblem p = fit_problem("multiband_5000K.toml", target_ansi_c78376("F5000", 4), FitObjective::ler);
         p.min_r9 = 0;
         const FitResult r = solve(p);
         check_answer(p, r);
     }
     SUBCASE("inside a 4-step ellipse") {
-        FitProblem p = problem("triband_4000K.toml", target_ansi_c78376("F4100", 4), FitObjective::ra);
+        FitProblem p = fit_problem("triband_4000K.toml", target_ansi_c78376("F4100", 4), FitObjective::ra);
         const FitResult r = solve(p);
         check_answer(p, r);
         REQUIRE(r.macadam_steps);
@@ -223,7 +213,7 @@ TEST_CASE("optimiser: constraints hold on every returned answer") {
 
 TEST_CASE("optimiser: infeasible targets are reported plainly, with the nearest reachable chromaticity") {
     // A saturated red-purple point far outside the tri-band triangle (common practice, no source).
-    FitProblem p = problem("triband_4000K.toml", target_xy(0.45, 0.20), FitObjective::ra);
+    FitProblem p = fit_problem("triband_4000K.toml", target_xy(0.45, 0.20), FitObjective::ra);
     const FitResult r = solve(p);
     CHECK_FALSE(r.feasible);
     CHECK(r.message.find("outside the triangle") != std::string::npos);
@@ -233,14 +223,14 @@ TEST_CASE("optimiser: infeasible targets are reported plainly, with the nearest 
     CHECK(r.result.assessment.xy.x == doctest::Approx(r.nearest_reachable->x).epsilon(1e-3));
 
     SUBCASE("four components, Ra demanded beyond reach") {
-        FitProblem q = problem("led395_module.toml", target_cct(4000, 0.0), FitObjective::ler);
+        FitProblem q = fit_problem("led395_module.toml", target_cct(4000, 0.0), FitObjective::ler);
         q.min_ra = 99.5;
         const FitResult s = solve(q);
         CHECK_FALSE(s.feasible);
         CHECK(s.message.find("no feasible blend") != std::string::npos);
     }
     SUBCASE("minimum fractions adding up to more than one") {
-        FitProblem q = problem("led395_module.toml", target_cct(4000, 0.0), FitObjective::ra);
+        FitProblem q = fit_problem("led395_module.toml", target_cct(4000, 0.0), FitObjective::ra);
         for (auto& c : q.blend.components) c.min_fraction = 0.3;
         CHECK_THROWS_AS(solve(q), Error);
     }
@@ -248,7 +238,7 @@ TEST_CASE("optimiser: infeasible targets are reported plainly, with the nearest 
 
 TEST_CASE("optimiser: results are reproducible run to run") {
     // Deterministic starts and a deterministic solver (common practice, no source).
-    FitProblem p = problem("multiband_5000K.toml", target_ansi_c78377(4500), FitObjective::ra);
+    FitProblem p = fit_problem("multiband_5000K.toml", target_ansi_c78377(4500), FitObjective::ra);
     const FitResult a = solve(p), b = solve(p);
     REQUIRE(a.mass_fractions.size() == b.mass_fractions.size());
     for (std::size_t i = 0; i < a.mass_fractions.size(); ++i) CHECK(a.mass_fractions[i] == b.mass_fractions[i]);
@@ -256,7 +246,7 @@ TEST_CASE("optimiser: results are reproducible run to run") {
 }
 
 TEST_CASE("optimiser: speed of one fit (reported, not checked: speed belongs to bench/)") {
-    FitProblem p = problem("led395_module.toml", target_cct(4000, 0.0), FitObjective::ra);
+    FitProblem p = fit_problem("led395_module.toml", target_cct(4000, 0.0), FitObjective::ra);
     (void)solve(p);  // tables loaded
     const auto t0 = std::chrono::steady_clock::now();
     const FitResult r = solve(p);
@@ -267,32 +257,26 @@ TEST_CASE("optimiser: speed of one fit (reported, not checked: speed belongs to 
 
 TEST_CASE("fit command: csv row, recipe out, infeasible exit code") {
     // The CLI contract of the issue (common practice, no source).
-    const std::string cli = LAMPWRIGHT_CLI;
-    const auto dir = std::filesystem::temp_directory_path();
-    const std::string out = (dir / "lampwright_fit_cli.toml").string(), csv = (dir / "lampwright_fit_cli.csv").string();
-    const std::string cmd = cli + " fit " + example("triband_4000K.toml") + " --cct 3500 --maximize ra --format csv --recipe-out " + out +
-                            " > " + csv + " 2>/dev/null";
-    REQUIRE(std::system(cmd.c_str()) == 0);
-    std::ifstream in(csv);
+    const TempDir dir;
+    const std::string out = dir.file("lampwright_fit_cli.toml");
+    const auto fit = run_cli("fit " + quote(example_recipe("triband_4000K.toml")) + " --cct 3500 --maximize ra --format csv --recipe-out " + quote(out));
+    REQUIRE(fit.exit_code == 0);
+    std::istringstream in(fit.out);
     std::string header, row;
     std::getline(in, header);
     std::getline(in, row);
     CHECK(header.find("cct_K") != std::string::npos);
     CHECK(header.find("fit_Y2O3:Eu3+") != std::string::npos);
     CHECK(std::count(header.begin(), header.end(), ',') == std::count(row.begin(), row.end(), ','));
-    const std::string blend = cli + " blend " + out + " > /dev/null 2>&1";
-    CHECK(std::system(blend.c_str()) == 0);
-    const std::string bad = cli + " fit " + example("triband_4000K.toml") + " --xy 0.45,0.20 > /dev/null 2>&1";
-    const int rc = std::system(bad.c_str());
-    CHECK(WEXITSTATUS(rc) == 1);
-    std::filesystem::remove(out);
-    std::filesystem::remove(csv);
+    CHECK(run_cli("blend " + quote(out)).exit_code == 0);
+    const auto bad = run_cli("fit " + quote(example_recipe("triband_4000K.toml")) + " --xy 0.45,0.20");
+    CHECK(bad.exit_code == 1);
 }
 
 TEST_CASE("optimiser: min_fraction and max_fraction from the recipe") {
     // Recipe keys of src/lampwright/recipe.hpp; errors name file, line and key (DEVELOPERS.md).
-    const auto dir = std::filesystem::temp_directory_path();
-    const auto path = (dir / "lampwright_fit_limits.toml").string();
+    const TempDir dir;
+    const std::string path = dir.file("lampwright_fit_limits.toml");
     auto write = [&](const std::string& extra) {
         std::ofstream out(path);
         out << "name = \"limits\"\nexcitation_nm = 253.7\n"
@@ -320,13 +304,12 @@ TEST_CASE("optimiser: min_fraction and max_fraction from the recipe") {
         CHECK(e.line() == 15);
         CHECK(std::string(e.what()).find("min_fraction") != std::string::npos);
     }
-    std::filesystem::remove(path);
 }
 
 TEST_CASE("optimiser: fraction sensitivity") {
     // Euler's theorem for a function unchanged when every fraction is scaled (the light depends
     // on w only through w / sum w): sum_i w_i dF/dw_i = 0. Common practice, no source.
-    const BlendInput b = load_recipe(example("multiband_5000K.toml")).blend;
+    const BlendInput b = load_recipe(example_recipe("multiband_5000K.toml")).blend;
     const auto rows = fraction_sensitivity(b);
     REQUIRE(rows.size() == b.components.size());
     REQUIRE(rows.size() >= 4);

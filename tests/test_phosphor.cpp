@@ -6,15 +6,14 @@
 #include "lampwright/blend.hpp"
 #include "lampwright/phosphor.hpp"
 
+#include "test_support.hpp"
+
 #include <doctest/doctest.h>
 
 #include <algorithm>
-#include <atomic>
-#include <chrono>
 #include <cmath>
 #include <cstdio>
 #include <filesystem>
-#include <fstream>
 #include <set>
 #include <string>
 #include <vector>
@@ -25,27 +24,7 @@ namespace {
 
 namespace fs = std::filesystem;
 
-// A fresh folder under the system temp folder, removed at the end of the test.
-struct TempDir {
-    fs::path path;
-    TempDir() {
-        static std::atomic<int> counter{0};
-        const auto stamp = std::chrono::steady_clock::now().time_since_epoch().count();
-        path = fs::temp_directory_path() /
-               ("lampwright_phosphor_test_" + std::to_string(stamp) + "_" + std::to_string(counter++));
-        fs::create_directories(path);
-    }
-    ~TempDir() {
-        std::error_code ec;
-        fs::remove_all(path, ec);
-    }
-    fs::path write(const std::string& name, const std::string& text) const {
-        const fs::path p = path / name;
-        fs::create_directories(p.parent_path());
-        std::ofstream(p) << text;
-        return p;
-    }
-};
+using lwtest::TempDir;
 
 // Spectral power per nm of the model (photons x photon energy, up to a constant).
 Spectrum power_of(const Phosphor& p) {

@@ -9,6 +9,8 @@
 #include "lampwright/recipe.hpp"
 #include "lampwright/spectrum_io.hpp"
 
+#include "test_support.hpp"
+
 #include <doctest/doctest.h>
 #include <fmt/format.h>
 
@@ -22,17 +24,7 @@ namespace fs = std::filesystem;
 
 namespace {
 
-fs::path scratch(const std::string& name) {
-    const fs::path p = fs::temp_directory_path() / fmt::format("lampwright_qc_{}_{}", name, ::getpid());
-    fs::remove_all(p);
-    fs::create_directories(p);
-    return p;
-}
-
-std::string write(const fs::path& p, const std::string& text) {
-    std::ofstream(p) << text;
-    return p.string();
-}
+using lwtest::TempDir;
 
 void write_spectrum(const fs::path& p, const Spectrum& s) {
     std::ofstream out(p);
@@ -42,16 +34,16 @@ void write_spectrum(const fs::path& p, const Spectrum& s) {
 }  // namespace
 
 TEST_CASE("qc spec: the three target kinds and the limits load") {
-    const auto dir = scratch("spec");
-    const auto f = load_qc_spec(write(dir / "a.toml", "name='F4100'\n[target]\nflamp='F4100'\nsteps=4\n[limits]\nra_min=80\nr9_min=0\ncct_min_K=3800\ncct_max_K=4300\n"));
+    const TempDir dir("lampwright_qc_spec");
+    const auto f = load_qc_spec(dir.write("a.toml", "name='F4100'\n[target]\nflamp='F4100'\nsteps=4\n[limits]\nra_min=80\nr9_min=0\ncct_min_K=3800\ncct_max_K=4300\n"));
     CHECK(f.region == QcSpec::Region::ellipse);
     CHECK(f.max_steps == 4);
     CHECK(f.centre.x == doctest::Approx(0.3818));  // ANSI C78.376 F4100 centre (from memory, shared/standards-facts.md)
     CHECK(*f.ra_min == 80);
-    const auto q = load_qc_spec(write(dir / "b.toml", "name='SSL 3500'\n[target]\nansi_class=3500\n"));
+    const auto q = load_qc_spec(dir.write("b.toml", "name='SSL 3500'\n[target]\nansi_class=3500\n"));
     CHECK(q.region == QcSpec::Region::ansi_quadrangle);
     CHECK(q.centre.x == doctest::Approx(0.4078));  // ANSI C78.377-2017 Table 1
-    const auto c = load_qc_spec(write(dir / "c.toml", "name='circle'\n[target]\nx=0.38\ny=0.38\nduv_prime_max=0.004\n"));
+    const auto c = load_qc_spec(dir.write("c.toml", "name='circle'\n[target]\nx=0.38\ny=0.38\nduv_prime_max=0.004\n"));
     CHECK(c.region == QcSpec::Region::circle);
     CHECK(c.max_duv_prime == 0.004);
 
@@ -64,7 +56,7 @@ TEST_CASE("qc spec: the three target kinds and the limits load") {
         {"name='x'\n[target]\nx=0.38\ny=0.38\nsteps=4\nduv_prime_max=0.004\n", "not both"},
     };
     for (const auto& b : bad) {
-        const std::string path = write(dir / "bad.toml", b[0]);
+        const std::string path = dir.write("bad.toml", b[0]);
         try {
             (void)load_qc_spec(path);
             FAIL("accepted: " << b[0]);
@@ -74,7 +66,6 @@ TEST_CASE("qc spec: the three target kinds and the limits load") {
             CHECK(e.line() > 0);
         }
     }
-    fs::remove_all(dir);
 }
 
 TEST_CASE("qc: a lamp is judged against every limit and the failures are named") {
@@ -146,34 +137,34 @@ TEST_CASE("qc: lot statistics, centroid and robust outliers") {
 }
 
 TEST_CASE("qc run: bad files are named, the rest of the lot is still judged, XML and multi-column files read") {
-    const auto dir = scratch("run");
-    write_spectrum(dir / "good1.csv", planckian(3950));
-    write_spectrum(dir / "good2.csv", planckian(4050));
-    write(dir / "nan.csv", "wavelength_nm,v\n380,1\n390,nan\n780,1\n");
-    write(dir / "short.csv", "wavelength_nm,v\n400,1\n500,1\n700,1\n");
-    write(dir / "text.csv", "this is not a spectrum\n");
+    const TempDir dir("lampwright_qc_run");
+    write_spectrum(dir.path / "good1.csv", planckian(3950));
+    write_spectrum(dir.path / "good2.csv", planckian(4050));
+    dir.write("nan.csv", "wavelength_nm,v\n380,1\n390,nan\n780,1\n");
+    dir.write("short.csv", "wavelength_nm,v\n400,1\n500,1\n700,1\n");
+    dir.write("text.csv", "this is not a spectrum\n");
     // Two lamps in one file (one spectrum per column, named by the header).
     {
-        std::ofstream out(dir / "pair.csv");
+        std::ofstream out(dir.path / "pair.csv");
         out << "wavelength_nm,lampA,lampB\n";
         const Spectrum a = planckian(3900), b = planckian(4100);
         for (std::size_t k = 0; k < a.values.size(); k += 5) out << a.first_nm + static_cast<int>(k) << ',' << a.values[k] << ',' << b.values[k] << '\n';
     }
     // IES TM-27-14 spectral XML.
     {
-        std::ofstream out(dir / "tm27.xml");
+        std::ofstream out(dir.path / "tm27.xml");
         out << "<?xml version=\"1.0\"?>\n<IESTM2714 xmlns=\"iestm2714\" version=\"1.0\">\n<Header><Description>test</Description></Header>\n<SpectralDistribution>\n";
         const Spectrum a = planckian(4000);
         for (std::size_t k = 0; k < a.values.size(); k += 5)
             out << "<SpectralData wavelength=\"" << a.first_nm + static_cast<int>(k) << "\">" << a.values[k] << "</SpectralData>\n";
         out << "</SpectralDistribution>\n</IESTM2714>\n";
     }
-    write(dir / "broken.xml", "<IESTM2714><SpectralDistribution><SpectralData wavelength=\"380\">1</SpectralData>\n<SpectralData wavelength=\"390\">x</SpectralData></SpectralDistribution></IESTM2714>\n");
+    dir.write("broken.xml", "<IESTM2714><SpectralDistribution><SpectralData wavelength=\"380\">1</SpectralData>\n<SpectralData wavelength=\"390\">x</SpectralData></SpectralDistribution></IESTM2714>\n");
     QcSpec spec;
     spec.centre = {0.3805, 0.3768};
     spec.step_ellipse = macadam_ellipse(spec.centre, 0.00313, 0.00134, 54.0);
     spec.max_steps = 7;
-    const QcRun run = run_qc(spec, {dir.string()}, 2);
+    const QcRun run = run_qc(spec, {dir.path.string()}, 2);
     CHECK(run.lamps.size() == 5);  // good1, good2, lampA, lampB, tm27
     REQUIRE(run.bad_files.size() == 4);
     for (const auto& b : run.bad_files) {
@@ -189,7 +180,6 @@ TEST_CASE("qc run: bad files are named, the rest of the lot is still judged, XML
         if (l.name == "tm27") tm27_read = std::abs(l.assessment.cct.cct_K - 4000) < 2;  // Planck 4000 K: CCT 4000 K by definition
     CHECK(tm27_read);
     CHECK(run.stats.count == 5);
-    fs::remove_all(dir);
 }
 
 TEST_CASE("qc correction: a drifted lot is brought back within half a step") {

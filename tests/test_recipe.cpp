@@ -4,14 +4,13 @@
 #include "lampwright/error.hpp"
 #include "lampwright/recipe.hpp"
 
+#include "test_support.hpp"
+
 #include <doctest/doctest.h>
 
-#include <atomic>
-#include <chrono>
 #include <cmath>
 #include <cstdio>
 #include <filesystem>
-#include <fstream>
 #include <string>
 #include <vector>
 
@@ -21,25 +20,7 @@ namespace {
 
 namespace fs = std::filesystem;
 
-struct TempDir {
-    fs::path path;
-    TempDir() {
-        static std::atomic<int> counter{0};
-        const auto stamp = std::chrono::steady_clock::now().time_since_epoch().count();
-        path = fs::temp_directory_path() / ("lampwright_recipe_test_" + std::to_string(stamp) + "_" + std::to_string(counter++));
-        fs::create_directories(path);
-    }
-    ~TempDir() {
-        std::error_code ec;
-        fs::remove_all(path, ec);
-    }
-    std::string write(const std::string& name, const std::string& text) const {
-        const fs::path p = path / name;
-        fs::create_directories(p.parent_path());
-        std::ofstream(p) << text;
-        return p.string();
-    }
-};
+using lwtest::TempDir;
 
 // A green band in relative power per nm (Gaussian, 530 nm, sigma 25 nm), 400-700 nm.
 std::string green_csv() {
@@ -52,7 +33,7 @@ std::string green_csv() {
     return s;
 }
 
-std::string example(const std::string& name) { return std::string(LAMPWRIGHT_SOURCE_DIR) + "/examples/recipes/" + name; }
+using lwtest::example_recipe;
 
 // Loads `text` as a recipe file and checks the refusal: an InputError naming the file, the line
 // and the key (and `extra` when given).
@@ -270,7 +251,7 @@ mass_fraction = 0.5
 TEST_CASE("recipe: example recipes load and blend") {
     for (const std::string name : {"triband_4000K.toml", "halophosphate_3000K.toml", "multiband_5000K.toml", "led395_module.toml"}) {
         CAPTURE(name);
-        const Recipe r = load_recipe(example(name));
+        const Recipe r = load_recipe(example_recipe(name));
         CHECK_FALSE(r.blend.name.empty());
         const BlendResult b = evaluate_blend(r.blend);
         // Emitted photons per absorbed photon cannot exceed one here (every QE <= 1), and the Stokes
@@ -383,7 +364,7 @@ TEST_CASE("recipe: recipe_to_toml round trip keeps components and fractions") {
     // common practice, no source).
     TempDir dir;
     SUBCASE("tri-band example") {
-        const Recipe a = load_recipe(example("triband_4000K.toml"));
+        const Recipe a = load_recipe(example_recipe("triband_4000K.toml"));
         const Recipe b = round_trip(a, dir);
         check_same_recipe(a, b);
         const BlendResult ra = evaluate_blend(a.blend), rb = evaluate_blend(b.blend);
@@ -391,7 +372,7 @@ TEST_CASE("recipe: recipe_to_toml round trip keeps components and fractions") {
         CHECK(rb.assessment.xy.y == doctest::Approx(ra.assessment.xy.y).epsilon(1e-12));
     }
     SUBCASE("LED example with absorbed fraction") {
-        const Recipe a = load_recipe(example("led395_module.toml"));
+        const Recipe a = load_recipe(example_recipe("led395_module.toml"));
         CHECK(a.blend.absorbed_fraction == doctest::Approx(0.98).epsilon(1e-12));
         check_same_recipe(a, round_trip(a, dir));
     }

@@ -3,9 +3,9 @@
 #include "lampwright/error.hpp"
 #include "lampwright/spectrum_io.hpp"
 
-#include <doctest/doctest.h>
+#include "test_support.hpp"
 
-#include <unistd.h>
+#include <doctest/doctest.h>
 
 #include <cmath>
 #include <filesystem>
@@ -43,11 +43,7 @@ InputError parse_error(const std::string& text, const std::string& source = "lam
     return InputError("", 0, "");
 }
 
-std::filesystem::path temp_dir() {
-    auto dir = std::filesystem::temp_directory_path() / ("lampwright_io_tests_" + std::to_string(::getpid()));
-    std::filesystem::create_directories(dir);
-    return dir;
-}
+using lwtest::TempDir;
 
 }  // namespace
 
@@ -159,7 +155,8 @@ TEST_CASE("spectrum text errors name the source and the line") {
 }
 
 TEST_CASE("read_spectrum_file: reads a file, names it by its stem, and reports missing files and folders") {
-    const auto dir = temp_dir();
+    const TempDir tmp("lampwright_io_tests");
+    const auto& dir = tmp.path;
     const auto good = dir / "warm_white.csv";
     {
         std::ofstream out(good);
@@ -185,7 +182,6 @@ TEST_CASE("read_spectrum_file: reads a file, names it by its stem, and reports m
     CHECK_THROWS_WITH_AS(read_spectrum_file((dir / "no_such_file.csv").string()),  // reader contract (spectrum_io.hpp); common practice, no source
                          doctest::Contains("no_such_file.csv"), InputError);
     CHECK_THROWS_WITH_AS(read_spectrum_file(dir.string()), doctest::Contains("folder"), InputError);  // reader contract (spectrum_io.hpp); common practice, no source
-    std::filesystem::remove_all(dir);
 }
 
 TEST_CASE("write_spectrum_csv writes a file parse_spectrum_text reads back") {

@@ -1,19 +1,32 @@
 #pragma once
 // Helpers shared by the test files: paths of the external reference data, a reader for
-// colord-data's CGATS-like spectral files, printed CIE values, and points off the Planckian locus.
+// colord-data's CGATS-like spectral files, printed CIE values, and points off the Planckian locus;
+// temporary folders, shell quoting, whole-file reads and runs of the lampwright command line
+// (LAMPWRIGHT_CLI); example recipes and fit problems built from them.
+#include "lampwright/assessment.hpp"
 #include "lampwright/colorimetry.hpp"
+#include "lampwright/optimiser.hpp"
+#include "lampwright/recipe.hpp"
 #include "lampwright/spectrum.hpp"
 #include "lampwright/spectrum_io.hpp"
+#include "lampwright/targets.hpp"
 #include "lampwright/temperature.hpp"
 
 #include <doctest/doctest.h>
 
+#include <sys/wait.h>
+#include <unistd.h>
+
+#include <atomic>
+#include <chrono>
 #include <cmath>
+#include <cstdlib>
 #include <filesystem>
 #include <fstream>
 #include <optional>
 #include <sstream>
 #include <string>
+#include <system_error>
 #include <vector>
 
 namespace lwtest {
@@ -152,6 +165,111 @@ inline double brute_force_cct(const lampwright::UV& p, double t_min = 900.0, dou
         }
     }
     return std::exp(0.5 * (lo + hi));
+}
+
+// A fresh folder under the system temp folder, removed at the end of the test.
+// (Removed with everything in it when the object goes out of scope; the name holds the process
+// id, a clock stamp and a counter, so tests running in parallel never share a folder.)
+struct TempDir {
+    std::filesystem::path path;
+    explicit TempDir(const std::string& prefix = "lampwright_test") {
+        static std::atomic<int> counter{0};
+        const auto stamp = std::chrono::steady_clock::now().time_since_epoch().count();
+        path = std::filesystem::temp_directory_path() /
+               (prefix + "_" + std::to_string(::getpid()) + "_" + std::to_string(stamp) + "_" + std::to_string(counter++));
+        std::filesystem::remove_all(path);
+        std::filesystem::create_directories(path);
+    }
+    ~TempDir() {
+        std::error_code ec;
+        std::filesystem::remove_all(path, ec);
+    }
+    TempDir(const TempDir&) = delete;
+    TempDir& operator=(const TempDir&) = delete;
+    // The path of `name` in the folder (nothing is created).
+    std::string file(const std::string& name) const { return (path / name).string(); }
+    // Writes `text` to `name` in the folder, making the sub-folders it names; returns its path.
+    std::string write(const std::string& name, const std::string& text) const {
+        const std::filesystem::path p = path / name;
+        std::filesystem::create_directories(p.parent_path());
+        std::ofstream(p) << text;
+        return p.string();
+    }
+};
+
+// `s` as one word for the POSIX shell: in single quotes, each ' written as '\''.
+inline std::string quote(const std::string& s) {
+    std::string q = "'";
+    for (char c : s) {
+        if (c == '\'') q += "'\\''";
+        else q += c;
+    }
+    return q + "'";
+}
+
+// The whole content of a file ("" when it cannot be read).
+inline std::string slurp(const std::filesystem::path& path) {
+    std::ifstream in(path);
+    std::ostringstream ss;
+    ss << in.rdbuf();
+    return ss.str();
+}
+
+// What a run of the lampwright command line gave.
+struct CliRun {
+    int exit_code = -1;    // -1 when the process did not exit normally
+    bool crashed = false;  // killed by a signal
+    std::string out, err;
+};
+
+// Runs `lampwright <args>` with stdout and stderr captured to files.
+// (LAMPWRIGHT_CLI, through the shell; the files are in a fresh temp folder. `args` go on the
+// command line as given: quote() what needs it. Standard input is `stdin_path` when given, else
+// the test's own.)
+inline CliRun run_cli(const std::string& args, const std::string& stdin_path = "") {
+    const TempDir dir("lampwright_cli");
+    const std::string out = dir.file("stdout.txt"), err = dir.file("stderr.txt");
+    std::string cmd = quote(LAMPWRIGHT_CLI) + " " + args + " >" + quote(out) + " 2>" + quote(err);
+    if (!stdin_path.empty()) cmd += " <" + quote(stdin_path);
+    const int status = std::system(cmd.c_str());
+    CliRun r;
+    if (status != -1 && WIFEXITED(status)) {
+        r.exit_code = WEXITSTATUS(status);
+        // The shell reports a child killed by signal N as exit status 128 + N.
+        r.crashed = r.exit_code > 128;
+    } else {
+        r.crashed = true;
+    }
+    r.out = slurp(out);
+    r.err = slurp(err);
+    return r;
+}
+
+// Runs lampwright with the arguments, each quoted for the shell, standard input empty.
+inline CliRun run_cli_args(const std::vector<std::string>& args) {
+    std::string line;
+    for (const auto& a : args) line += (line.empty() ? "" : " ") + quote(a);
+    return run_cli(line, "/dev/null");
+}
+
+// examples/recipes/<name> in the source tree.
+inline std::string example_recipe(const std::string& name) {
+    return std::string(LAMPWRIGHT_SOURCE_DIR) + "/examples/recipes/" + name;
+}
+
+// A fit problem on a shipped example recipe.
+inline lampwright::FitProblem fit_problem(const std::string& recipe, const lampwright::Target& t, lampwright::FitObjective o) {
+    lampwright::FitProblem p;
+    p.blend = lampwright::load_recipe(example_recipe(recipe)).blend;
+    p.target = t;
+    p.objective = o;
+    return p;
+}
+
+// CIE 1976 u'v' distance of an assessed light from a target chromaticity.
+inline double duv_prime(const lampwright::Assessment& a, const lampwright::Chromaticity& target) {
+    const lampwright::UV t = lampwright::uv_1976_from_xy(target);
+    return std::hypot(a.uv_prime.u - t.u, a.uv_prime.v - t.v);
 }
 
 }  // namespace lwtest

@@ -6,13 +6,13 @@
 #include "lampwright/targets.hpp"
 #include "lampwright/tolerance.hpp"
 
+#include "test_support.hpp"
+
 #include <doctest/doctest.h>
 
 #include <algorithm>
 #include <cmath>
 #include <cstdlib>
-#include <filesystem>
-#include <fstream>
 #include <numbers>
 #include <sstream>
 #include <string>
@@ -22,12 +22,14 @@ using namespace lampwright;
 
 namespace {
 
-std::string example(const std::string& name) { return std::string(LAMPWRIGHT_SOURCE_DIR) + "/examples/recipes/" + name; }
+using lwtest::example_recipe;
+using lwtest::quote;
+using lwtest::run_cli;
 
 // A production problem on a shipped recipe, the ellipse centred on its nominal chromaticity.
 ToleranceProblem production(const std::string& recipe, std::size_t draws) {
     ToleranceProblem t;
-    t.blend = load_recipe(example(recipe)).blend;
+    t.blend = load_recipe(example_recipe(recipe)).blend;
     const Chromaticity xy = evaluate_blend(t.blend).assessment.xy;
     t.ellipse = tolerance_ellipse(target_xy(xy.x, xy.y));
     t.steps = 4;
@@ -96,7 +98,7 @@ TEST_CASE("tolerance: yield matches the analytic case of one component with Gaus
     // order, so k = (steps(+h) + steps(-h)) / (2h)). The second-order terms change the share by
     // O((n/k)^2), about 1e-4 here, well below the standard error. Derivation: common practice,
     // no source.
-    const BlendInput tri = load_recipe(example("triband_4000K.toml")).blend;
+    const BlendInput tri = load_recipe(example_recipe("triband_4000K.toml")).blend;
     ToleranceProblem t;
     t.blend = tri;
     t.blend.components = {tri.components[0], tri.components[1]};
@@ -212,22 +214,15 @@ TEST_CASE("tolerance: bad problems are errors") {
 TEST_CASE("fit command: tolerance run, reproducible, and its usage errors") {
     // The CLI contract: exit 0, the same numbers for the same seed, exit 2 for usage errors
     // (common practice, no source).
-    const std::string cli = LAMPWRIGHT_CLI;
-    const std::string recipe = example("triband_4000K.toml");
-    const auto dir = std::filesystem::temp_directory_path();
-    auto run_json = [&](const std::string& file) {
-        const std::string out = (dir / file).string();
-        const std::string cmd = cli + " fit " + recipe +
-                                " --cct 4000 --tolerance-run --draws 20000 --weighing-sigma 0.005 --peak-sigma 0.5 --qe-sigma 0.01 --seed 1 "
-                                "--format json > " + out + " 2>/dev/null";
-        REQUIRE(std::system(cmd.c_str()) == 0);
-        std::ifstream in(out);
-        std::stringstream ss;
-        ss << in.rdbuf();
-        std::filesystem::remove(out);
-        return ss.str();
+    const std::string recipe = quote(example_recipe("triband_4000K.toml"));
+    auto run_json = [&]() {
+        const auto r = run_cli("fit " + recipe +
+                               " --cct 4000 --tolerance-run --draws 20000 --weighing-sigma 0.005 --peak-sigma 0.5 --qe-sigma 0.01 --seed 1 "
+                               "--format json");
+        REQUIRE(r.exit_code == 0);
+        return r.out;
     };
-    const std::string a = run_json("lampwright_tol_a.json"), b = run_json("lampwright_tol_b.json");
+    const std::string a = run_json(), b = run_json();
     const auto pos = a.find("\"tolerance\"");
     REQUIRE(pos != std::string::npos);
     // Everything but the timing is identical.
@@ -242,10 +237,7 @@ TEST_CASE("fit command: tolerance run, reproducible, and its usage errors") {
     CHECK(strip_time(a) == strip_time(b));
     CHECK(a.find("\"inside_share\"") != std::string::npos);
 
-    auto rc = [&](const std::string& args) {
-        const std::string c = cli + " fit " + recipe + " --cct 4000 " + args + " > /dev/null 2>&1";
-        return WEXITSTATUS(std::system(c.c_str()));
-    };
+    auto rc = [&](const std::string& args) { return run_cli("fit " + recipe + " --cct 4000 " + args).exit_code; };
     CHECK(rc("--draws 100") == 2);
     CHECK(rc("--tolerance-run --weighing-sigma 0.01 --draws 0") == 2);
     CHECK(rc("--tolerance-run --weighing-sigma -0.01") == 2);

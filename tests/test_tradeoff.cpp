@@ -6,12 +6,12 @@
 #include "lampwright/targets.hpp"
 #include "lampwright/tradeoff.hpp"
 
+#include "test_support.hpp"
+
 #include <doctest/doctest.h>
 
 #include <algorithm>
 #include <cmath>
-#include <cstdlib>
-#include <filesystem>
 #include <fstream>
 #include <sstream>
 #include <string>
@@ -21,15 +21,10 @@ using namespace lampwright;
 
 namespace {
 
-std::string example(const std::string& name) { return std::string(LAMPWRIGHT_SOURCE_DIR) + "/examples/recipes/" + name; }
-
-FitProblem problem(const std::string& recipe, const Target& t, FitObjective o) {
-    FitProblem p;
-    p.blend = load_recipe(example(recipe)).blend;
-    p.target = t;
-    p.objective = o;
-    return p;
-}
+using lwtest::example_recipe;
+using lwtest::fit_problem;
+using lwtest::quote;
+using lwtest::run_cli;
 
 BlendResult blend_of(const FitProblem& p, const std::vector<double>& w) {
     BlendInput b = p.blend;
@@ -40,11 +35,6 @@ BlendResult blend_of(const FitProblem& p, const std::vector<double>& w) {
             b.components.back().mass_fraction = w[i];
         }
     return evaluate_blend(b);
-}
-
-double duv_prime(const Assessment& a, const Chromaticity& target) {
-    const UV t = uv_1976_from_xy(target);
-    return std::hypot(a.uv_prime.u - t.u, a.uv_prime.v - t.v);
 }
 
 // Every point of a front, re-evaluated independently with evaluate_blend from its fractions,
@@ -65,7 +55,7 @@ void check_front_points(const FitProblem& p, const TradeoffFront& f) {
         REQUIRE(r.assessment.rendering);
         const double floor_figure = f.kind == FrontKind::ra_r9 ? r.assessment.rendering->ri[8] : r.assessment.rendering->ra;
         CHECK(floor_figure >= pt.floor);
-        CHECK(duv_prime(r.assessment, p.target.xy) <= p.tolerance_uv_prime);
+        CHECK(lwtest::duv_prime(r.assessment, p.target.xy) <= p.tolerance_uv_prime);
         const double objective = f.kind == FrontKind::ra_efficacy ? r.luminous_efficacy_absorbed
                                  : f.kind == FrontKind::ra_ler    ? r.assessment.ler_lm_per_W
                                                                   : r.assessment.rendering->ra;
@@ -91,7 +81,7 @@ TEST_CASE("tradeoff: the efficacy-Ra front is monotone and every point meets its
     // the feasible set, so the best efficacy cannot rise. Common practice, no source beyond that.
     // Four mercury-excited components at 4000 K: a real trade-off (the LED blend has its best Ra and
     // its best efficacy at the same blend, a front of one point).
-    const FitProblem p = problem("multiband_5000K.toml", target_cct(4000, 0.0), FitObjective::efficacy);
+    const FitProblem p = fit_problem("multiband_5000K.toml", target_cct(4000, 0.0), FitObjective::efficacy);
     const TradeoffFront f = tradeoff_front(p, FrontKind::ra_efficacy, 8);
     REQUIRE(f.points.size() == 8);
     check_front_points(p, f);
@@ -125,7 +115,7 @@ TEST_CASE("tradeoff: the efficacy-Ra front is monotone and every point meets its
 
 TEST_CASE("tradeoff: the Ra-R9 front on three components") {
     // Same monotonicity argument as above, R9 floor and Ra maximised (common practice, no source).
-    const FitProblem p = problem("triband_4000K.toml", target_cct(3500, 0.0), FitObjective::ra);
+    const FitProblem p = fit_problem("triband_4000K.toml", target_cct(3500, 0.0), FitObjective::ra);
     const TradeoffFront f = tradeoff_front(p, FrontKind::ra_r9, 5);
     check_front_points(p, f);
     for (std::size_t k = 1; k < f.points.size(); ++k) CHECK(f.points[k].objective <= f.points[k - 1].objective);
@@ -133,20 +123,20 @@ TEST_CASE("tradeoff: the Ra-R9 front on three components") {
 
 TEST_CASE("tradeoff: the front is reproducible and rejects a bad number of points") {
     // Deterministic solver (common practice, no source).
-    const FitProblem p = problem("triband_4000K.toml", target_cct(3500, 0.0), FitObjective::ra);
+    const FitProblem p = fit_problem("triband_4000K.toml", target_cct(3500, 0.0), FitObjective::ra);
     const TradeoffFront a = tradeoff_front(p, FrontKind::ra_ler, 4), b = tradeoff_front(p, FrontKind::ra_ler, 4);
     REQUIRE(a.points.size() == b.points.size());
     for (std::size_t k = 0; k < a.points.size(); ++k) CHECK(a.points[k].mass_fractions == b.points[k].mass_fractions);
     CHECK_THROWS_AS(tradeoff_front(p, FrontKind::ra_ler, 1), Error);
     CHECK_THROWS_AS(parse_front_kind("efficiency"), Error);
     // No blend on a target far outside the components' triangle: an error, not a front.
-    const FitProblem far = problem("triband_4000K.toml", target_xy(0.45, 0.20), FitObjective::ra);
+    const FitProblem far = fit_problem("triband_4000K.toml", target_xy(0.45, 0.20), FitObjective::ra);
     CHECK_THROWS_AS(tradeoff_front(far, FrontKind::ra_efficacy, 3), Error);
 }
 
 TEST_CASE("tradeoff: best k of n is at least as good as every subset solved alone") {
     // Exhaustive enumeration is the reference (common practice, no source).
-    const FitProblem p = problem("led395_module.toml", target_cct(4000, 0.0), FitObjective::ra);
+    const FitProblem p = fit_problem("led395_module.toml", target_cct(4000, 0.0), FitObjective::ra);
     const SubsetChoice c = choose_components(p, 3, {});
     REQUIRE(c.trials.size() == 4);  // C(4, 3)
     REQUIRE(c.found);
@@ -200,34 +190,22 @@ TEST_CASE("tradeoff: best k of n is at least as good as every subset solved alon
 
 TEST_CASE("fit command: front, choose and their usage errors") {
     // The CLI contract: exit 0 on success, 2 for usage errors (common practice, no source).
-    const std::string cli = LAMPWRIGHT_CLI;
-    const auto dir = std::filesystem::temp_directory_path();
-    const std::string csv = (dir / "lampwright_front_cli.csv").string(), svg = (dir / "lampwright_front_cli.svg").string();
-    const std::string recipe = example("triband_4000K.toml");
-    const std::string cmd = cli + " fit " + recipe + " --cct 3500 --front ra-efficacy --points 4 --front-csv " + csv + " --front-svg " + svg +
-                            " > /dev/null 2>&1";
-    REQUIRE(std::system(cmd.c_str()) == 0);
+    const lwtest::TempDir dir;
+    const std::string csv = dir.file("lampwright_front_cli.csv"), svg = dir.file("lampwright_front_cli.svg");
+    const std::string recipe = quote(example_recipe("triband_4000K.toml"));
+    REQUIRE(run_cli("fit " + recipe + " --cct 3500 --front ra-efficacy --points 4 --front-csv " + quote(csv) + " --front-svg " + quote(svg))
+                .exit_code == 0);
     std::ifstream in(csv);
     std::string header;
     std::getline(in, header);
     CHECK(header.rfind("min_Ra,", 0) == 0);
-    std::ifstream s(svg);
-    std::stringstream ss;
-    ss << s.rdbuf();
-    CHECK(ss.str().find("<svg") != std::string::npos);
-    std::filesystem::remove(csv);
-    std::filesystem::remove(svg);
+    CHECK(lwtest::slurp(svg).find("<svg") != std::string::npos);
 
-    const std::string choose = cli + " fit " + example("led395_module.toml") + " --cct 4000 --maximize ra --choose 3 > /dev/null 2>&1";
-    CHECK(std::system(choose.c_str()) == 0);
+    CHECK(run_cli("fit " + quote(example_recipe("led395_module.toml")) + " --cct 4000 --maximize ra --choose 3").exit_code == 0);
     // No single component reaches a white: every subset infeasible, listed, exit 1.
-    const std::string none = cli + " fit " + example("led395_module.toml") + " --cct 4000 --choose 1 > /dev/null 2>&1";
-    CHECK(WEXITSTATUS(std::system(none.c_str())) == 1);
+    CHECK(run_cli("fit " + quote(example_recipe("led395_module.toml")) + " --cct 4000 --choose 1").exit_code == 1);
 
-    auto rc = [&](const std::string& args) {
-        const std::string c = cli + " fit " + recipe + " " + args + " > /dev/null 2>&1";
-        return WEXITSTATUS(std::system(c.c_str()));
-    };
+    auto rc = [&](const std::string& args) { return run_cli("fit " + recipe + " " + args).exit_code; };
     CHECK(rc("--cct 3500 --front ra-efficacy --points 1") == 2);
     CHECK(rc("--cct 3500 --front efficiency") == 2);
     CHECK(rc("--cct 3500 --points 5") == 2);
