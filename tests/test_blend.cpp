@@ -23,7 +23,7 @@ const PhosphorLibrary& lib() { return PhosphorLibrary::builtin(); }
 BlendComponent component(const std::string& id, double w, std::optional<double> absorption = std::nullopt,
                          std::optional<double> qe = std::nullopt) {
     const Phosphor& p = lib().find(id);
-    return BlendComponent{p.id, p, w, absorption, qe};
+    return BlendComponent{p.id, p, w, absorption, qe, std::nullopt, std::nullopt};
 }
 
 BlendInput mercury_blend(std::vector<BlendComponent> comps, std::optional<double> line_fraction = 0.0) {
@@ -89,7 +89,7 @@ TEST_CASE("blend: one mercury-excited component reproduces its phosphor's spectr
     for (const auto& p : lib().all()) {
         if (!p.qe_254nm) continue;
         CAPTURE(p.id);
-        const BlendResult r = evaluate_blend(mercury_blend({BlendComponent{p.id, p, 0.7, std::nullopt, std::nullopt}}));
+        const BlendResult r = evaluate_blend(mercury_blend({BlendComponent{p.id, p, 0.7, std::nullopt, std::nullopt, std::nullopt, std::nullopt}}));
         REQUIRE(r.components.size() == 1);
         CHECK(r.components[0].photon_share == doctest::Approx(1.0).epsilon(1e-15));
         CHECK(r.components[0].mass_fraction == doctest::Approx(1.0).epsilon(1e-15));
@@ -353,7 +353,7 @@ TEST_CASE("blend: Stokes rule refuses emission above the pump photon energy") {
     BlendInput in;
     in.name = "uv under violet";
     in.excitation = Excitation::led(395.0, 12.0);
-    in.components = {BlendComponent{uv.id, uv, 1.0, std::nullopt, std::nullopt}};
+    in.components = {BlendComponent{uv.id, uv, 1.0, std::nullopt, std::nullopt, std::nullopt, std::nullopt}};
     CHECK_THROWS_WITH_AS((void)evaluate_blend(in), doctest::Contains("Stokes"), Error);
     CHECK_THROWS_WITH_AS((void)emission_for_excitation(uv, in.excitation), doctest::Contains("Stokes"), Error);
     // The same band under the 253.7 nm line is fine: every photon has less energy than the exciting one
