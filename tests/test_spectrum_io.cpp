@@ -202,3 +202,15 @@ TEST_CASE("file_stem drops folders and the extension") {
     CHECK(file_stem("/a/b/c.tar.txt") == "c.tar");  // reader contract (spectrum_io.hpp); common practice, no source
     CHECK(file_stem("plain") == "plain");  // reader contract (spectrum_io.hpp); common practice, no source
 }
+
+TEST_CASE("spectrum text: tab-separated rows with a decimal comma") {
+    // Spreadsheet exports in locales with a decimal comma use tabs or semicolons between columns
+    // (common practice, no source).
+    std::string text = "wavelength_nm\tW/nm\n";
+    for (int nm = 380; nm <= 780; nm += 10) text += std::to_string(nm) + "\t0," + std::to_string(nm) + "\n";
+    std::istringstream in(text);
+    const auto f = lampwright::parse_spectrum_text(in, "tabs.txt", "tabs");
+    REQUIRE(f.spectra.size() == 1);
+    CHECK(f.spectra[0].values.front() == doctest::Approx(0.380));
+    CHECK(f.spectra[0].values.back() == doctest::Approx(0.780));
+}

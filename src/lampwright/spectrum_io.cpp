@@ -35,8 +35,8 @@ enum class Separator { comma, semicolon, tab, space };
 
 Separator detect_separator(const std::string& line) {
     if (line.find(';') != std::string::npos) return Separator::semicolon;
+    if (line.find('\t') != std::string::npos) return Separator::tab;  // before ',' so "380<TAB>0,12" reads as a decimal comma
     if (line.find(',') != std::string::npos) return Separator::comma;
-    if (line.find('\t') != std::string::npos) return Separator::tab;
     return Separator::space;
 }
 
@@ -147,7 +147,7 @@ SpectrumFile parse_spectrum_text(std::istream& in, const std::string& source, co
         const std::string line = trim(raw);
         if (line.empty()) continue;
         if (!sep) sep = detect_separator(line);
-        const bool decimal_comma = *sep == Separator::semicolon;
+        const bool decimal_comma = *sep != Separator::comma;  // "0,123" is a decimal comma unless commas separate
         auto fields = split(line, *sep);
         if (fields.size() < 2)
             throw InputError(source, line_no, fmt::format("expected at least two columns (wavelength_nm and a value), found {}", fields.size()));

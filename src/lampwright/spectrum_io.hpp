@@ -4,7 +4,7 @@
 // Accepted layout: optional '#' comment lines (and trailing '# ...' comments), an optional header
 // row, then rows of numbers. The first column is the wavelength in nm; every further column is
 // one spectrum (named by the header, or by the file name). Separators: comma, semicolon, tab or
-// spaces; with ';' a decimal comma is accepted. Checks: numbers only, no NaN/Inf, strictly
+// spaces; unless commas separate the columns, a decimal comma is accepted. Checks: numbers only, no NaN/Inf, strictly
 // increasing wavelengths, 380-780 nm covered (CIE 15:2004 minimum colorimetric range), at least
 // one positive value. Negative values down to -1 % of the spectrum's maximum are measurement noise:
 // they are set to zero and counted in a warning; larger negative values are an error.
