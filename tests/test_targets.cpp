@@ -14,7 +14,7 @@ using namespace lampwright;
 
 TEST_CASE("targets: ANSI C78.377 table as published") {
     // ANSI C78.377-2017 Table 1 (shared/standards-facts.md, confirmed): nominal, target CCT,
-    // tolerance, Duv centre, centre x, y. The 3000 K x is stored as 0.4338: the transcription's
+    // tolerance, Duv centre, centre x, y. The 3000 K x is stored as 0.4338: the public copy's
     // 0.4439 contradicts the row's own CCT and Duv (see data/targets/README.md and the next test).
     struct Row {
         int nominal;
@@ -51,7 +51,7 @@ TEST_CASE("targets: ANSI C78.377 centres agree with their CCT and Duv") {
         CHECK(std::abs(p.y - c.centre.y) < 0.00015);
         CHECK(inside_ansi_c78377(c, c.centre));
     }
-    // The transcription's 3000 K x = 0.4439 is 0.01 away from the row's own CCT and Duv point and
+    // The public copy's 3000 K x = 0.4439 is 0.01 away from the row's own CCT and Duv point and
     // more than 100 K below the row's target CCT.
     const auto& c3 = ansi_c78377_class(3000);
     CHECK(std::abs(xy_from_cct_duv(c3.cct_K, c3.duv_centre).x - 0.4439) > 0.009);
