@@ -8,6 +8,7 @@
 #include "lampwright/qc.hpp"
 #include "lampwright/recipe.hpp"
 #include "lampwright/spectrum_io.hpp"
+#include "lampwright/statistics.hpp"
 
 #include "test_support.hpp"
 
@@ -206,4 +207,14 @@ TEST_CASE("qc correction: a drifted lot is brought back within half a step") {
     }
     CHECK(total == doctest::Approx(1.0));
     CHECK(c.new_fractions[0] < c.old_fractions[0]);  // less red than before
+}
+
+TEST_CASE("statistics: sample sd and type-7 quantiles") {
+    // Hyndman and Fan (1996) type 7 (R's default): quantile(1:4, 0.9) = 3.7, median(1:4) = 2.5;
+    // sample sd of 2,4,4,4,5,5,7,9 = sqrt(32/7) (textbook example, from memory).
+    CHECK(quantile_sorted({1, 2, 3, 4}, 0.9) == doctest::Approx(3.7));
+    CHECK(median({4, 1, 3, 2}) == doctest::Approx(2.5));
+    CHECK(sample_sd({2, 4, 4, 4, 5, 5, 7, 9}) == doctest::Approx(std::sqrt(32.0 / 7.0)));
+    CHECK(mean({2, 4, 4, 4, 5, 5, 7, 9}) == doctest::Approx(5.0));
+    CHECK(std::isnan(sample_sd({3.0})));
 }

@@ -1,5 +1,7 @@
 #include "lampwright/lot_history.hpp"
 
+#include "lampwright/statistics.hpp"
+
 #include "lampwright/assessment_report.hpp"
 #include "lampwright/error.hpp"
 #include "lampwright/svg_plot.hpp"
@@ -224,8 +226,8 @@ const LotStatistics::Summary* summary(const LotStatistics& st, const char* quant
         if (s.quantity == quantity) return &s;
     return nullptr;
 }
-double mean_of(const LotStatistics& st, const char* q) { const auto* s = summary(st, q); return s ? s->mean : NAN; }
-double sd_of(const LotStatistics& st, const char* q) { const auto* s = summary(st, q); return s ? s->sd : NAN; }
+double stat_mean(const LotStatistics& st, const char* q) { const auto* s = summary(st, q); return s ? s->mean : NAN; }
+double stat_sd(const LotStatistics& st, const char* q) { const auto* s = summary(st, q); return s ? s->sd : NAN; }
 
 nlohmann::ordered_json number_or_null(double v) { return std::isfinite(v) ? nlohmann::ordered_json(v) : nlohmann::ordered_json(nullptr); }
 
@@ -273,8 +275,8 @@ RecordOutcome record_lot(const std::string& db_path, const QcRun& run, const std
         ins.real(13, st.pass_rate).real(14, st.centroid.x).real(15, st.centroid.y).real(16, st.centroid_steps);
         int i = 17;
         for (const char* q : {"x", "y", "cct_K", "duv", "Ra", "R9", "steps"}) {
-            ins.real(i++, mean_of(st, q));
-            ins.real(i++, sd_of(st, q));
+            ins.real(i++, stat_mean(st, q));
+            ins.real(i++, stat_sd(st, q));
         }
         ins.text(31, caps.dump());
         ins.run("recording the lot");
@@ -390,16 +392,10 @@ std::vector<ControlChart> control_charts(const std::vector<LotRecord>& lots) {
         // standard deviation (n - 1) over lots (Montgomery, Introduction to Statistical Quality
         // Control). A lower limit below zero is set to zero for a non-negative quantity, as for
         // the R and s charts there.
-        c.centre = c.lower = c.upper = NAN;
-        if (!finite.empty()) {
-            double sum = 0;
-            for (double v : finite) sum += v;
-            c.centre = sum / static_cast<double>(finite.size());
-        }
+        c.centre = mean(finite);
+        c.lower = c.upper = NAN;
         if (finite.size() >= 2) {
-            double ss = 0;
-            for (double v : finite) ss += (v - c.centre) * (v - c.centre);
-            const double sd = std::sqrt(ss / static_cast<double>(finite.size() - 1));
+            const double sd = sample_sd(finite);
             c.lower = c.centre - 3 * sd;
             c.upper = c.centre + 3 * sd;
             if (q.non_negative && c.lower < 0) c.lower = 0;

@@ -3,6 +3,7 @@
 #include "lampwright/illuminants.hpp"
 #include "lampwright/interpolation.hpp"
 #include "lampwright/spectrum_io.hpp"
+#include "lampwright/statistics.hpp"
 #include "lampwright/toml_access.hpp"
 
 #include <fmt/format.h>
@@ -20,23 +21,6 @@ namespace lampwright {
 
 namespace {
 
-
-double mean_of(const std::vector<double>& v) { return v.empty() ? NAN : std::accumulate(v.begin(), v.end(), 0.0) / static_cast<double>(v.size()); }
-
-double sd_of(const std::vector<double>& v) {
-    if (v.size() < 2) return NAN;
-    const double m = mean_of(v);
-    double s = 0;
-    for (double x : v) s += (x - m) * (x - m);
-    return std::sqrt(s / static_cast<double>(v.size() - 1));
-}
-
-double median_of(std::vector<double> v) {
-    if (v.empty()) return NAN;
-    std::sort(v.begin(), v.end());
-    const std::size_t n = v.size();
-    return n % 2 ? v[n / 2] : 0.5 * (v[n / 2 - 1] + v[n / 2]);
-}
 
 bool is_spectrum_file(const std::filesystem::path& p) {
     const auto e = p.extension().string();
@@ -268,16 +252,16 @@ LotStatistics lot_statistics(const QcSpec& spec, std::vector<LampResult>& lamps)
         std::vector<double> v;
         for (const auto& l : lamps)
             if (const double x = q.get(l); std::isfinite(x)) v.push_back(x);
-        LotStatistics::Summary s{q.name, mean_of(v), sd_of(v), v.empty() ? NAN : *std::min_element(v.begin(), v.end()),
+        LotStatistics::Summary s{q.name, mean(v), sample_sd(v), v.empty() ? NAN : *std::min_element(v.begin(), v.end()),
                                  v.empty() ? NAN : *std::max_element(v.begin(), v.end())};
         st.summaries.push_back(s);
         if (q.lower || q.upper) st.capabilities.push_back({q.name, s.mean, s.sd, q.lower, q.upper, process_capability(s.mean, s.sd, q.lower, q.upper)});
         // Robust z-score (Iglewicz and Hoaglin 1993): 0.6745 (x - median) / MAD, outlier beyond 3.5.
         if (v.size() >= 5) {
-            const double med = median_of(v);
+            const double med = median(v);
             std::vector<double> dev;
             for (double x : v) dev.push_back(std::abs(x - med));
-            const double mad = median_of(dev);
+            const double mad = median(dev);
             if (mad > 0)
                 for (std::size_t i = 0; i < lamps.size(); ++i) {
                     const double x = q.get(lamps[i]);

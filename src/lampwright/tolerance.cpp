@@ -1,5 +1,7 @@
 #include "lampwright/tolerance.hpp"
 
+#include "lampwright/statistics.hpp"
+
 #include "lampwright/colorimetry.hpp"
 #include "lampwright/error.hpp"
 
@@ -30,14 +32,6 @@ std::vector<double> per_component(const std::vector<double>& v, std::size_t n, c
 
 std::array<double, 3> xyz_array(const XYZ& c) { return {c.X, c.Y, c.Z}; }
 
-// Quantile (linear between order statistics, the usual "type 7") of sorted values.
-double quantile(const std::vector<double>& sorted, double p) {
-    if (sorted.empty()) return 0;
-    const double h = p * static_cast<double>(sorted.size() - 1);
-    const auto lo = static_cast<std::size_t>(std::floor(h));
-    const std::size_t hi = std::min(lo + 1, sorted.size() - 1);
-    return sorted[lo] + (h - static_cast<double>(lo)) * (sorted[hi] - sorted[lo]);
-}
 
 }  // namespace
 
@@ -234,10 +228,10 @@ ToleranceResult run_tolerance(const ToleranceProblem& p, const ToleranceProgress
     r.yield_standard_error = std::sqrt(r.yield * (1 - r.yield) / N);
     if (keep_steps) r.steps = steps;
     std::sort(steps.begin(), steps.end());
-    r.p50 = quantile(steps, 0.50);
-    r.p90 = quantile(steps, 0.90);
-    r.p95 = quantile(steps, 0.95);
-    r.p99 = quantile(steps, 0.99);
+    r.p50 = quantile_sorted(steps, 0.50);
+    r.p90 = quantile_sorted(steps, 0.90);
+    r.p95 = quantile_sorted(steps, 0.95);
+    r.p99 = quantile_sorted(steps, 0.99);
     r.max_steps = steps.back();
     return r;
 }
