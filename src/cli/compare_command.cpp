@@ -54,7 +54,7 @@ std::vector<Entry> load_entries(const std::string& path, const std::vector<std::
     return out;
 }
 
-std::string cell(double v, int decimals) { return std::isfinite(v) ? fmt::format("{:.{}f}", v, decimals) : "-"; }
+std::string cell(double v, int decimals) { return format_fixed(v, decimals, "-"); }
 
 std::string comparison_svg(const std::vector<Entry>& entries) {
     std::vector<SvgSeries> spectra, points;

@@ -8,10 +8,6 @@ namespace lampwright {
 
 namespace {
 
-std::string num(double v, int decimals) {
-    if (!std::isfinite(v)) return "";
-    return fmt::format("{:.{}f}", v, decimals);
-}
 
 const char* reference_name(ReferenceIlluminant r) { return r == ReferenceIlluminant::planckian ? "planckian" : "daylight"; }
 const char* observer_name(Observer o) { return o == Observer::cie1931_2deg ? "2" : "10"; }
@@ -28,29 +24,29 @@ std::vector<std::string> assessment_columns() {
 }
 
 std::vector<std::string> assessment_values(const Assessment& a) {
-    std::vector<std::string> v{a.name, num(a.xy.x, 5), num(a.xy.y, 5), num(a.uv_prime.u, 5), num(a.uv_prime.v, 5)};
-    v.push_back(a.cct.valid ? num(a.cct.cct_K, 1) : "");
-    v.push_back(num(a.cct.duv, 5));
+    std::vector<std::string> v{a.name, format_fixed(a.xy.x, 5), format_fixed(a.xy.y, 5), format_fixed(a.uv_prime.u, 5), format_fixed(a.uv_prime.v, 5)};
+    v.push_back(a.cct.valid ? format_fixed(a.cct.cct_K, 1) : "");
+    v.push_back(format_fixed(a.cct.duv, 5));
     if (a.rendering) {
-        v.push_back(num(a.rendering->ra, 2));
-        for (double r : a.rendering->ri) v.push_back(num(r, 2));
+        v.push_back(format_fixed(a.rendering->ra, 2));
+        for (double r : a.rendering->ri) v.push_back(format_fixed(r, 2));
     } else {
         v.insert(v.end(), 15, "");
     }
-    v.push_back(num(a.ler_lm_per_W, 2));
+    v.push_back(format_fixed(a.ler_lm_per_W, 2));
     const double y = a.xyz.Y;  // X, Y, Z scaled to Y = 100
-    v.push_back(num(100 * a.xyz.X / y, 4));
-    v.push_back(num(100.0, 4));
-    v.push_back(num(100 * a.xyz.Z / y, 4));
-    v.push_back(num(a.uv1960.u, 5));
-    v.push_back(num(a.uv1960.v, 5));
-    v.push_back(a.rendering ? num(a.rendering->dc, 5) : "");
+    v.push_back(format_fixed(100 * a.xyz.X / y, 4));
+    v.push_back(format_fixed(100.0, 4));
+    v.push_back(format_fixed(100 * a.xyz.Z / y, 4));
+    v.push_back(format_fixed(a.uv1960.u, 5));
+    v.push_back(format_fixed(a.uv1960.v, 5));
+    v.push_back(a.rendering ? format_fixed(a.rendering->dc, 5) : "");
     v.push_back(a.rendering ? reference_name(a.rendering->reference) : "");
-    v.push_back(num(a.features.peak_nm, 1));
-    v.push_back(num(a.features.centroid_nm, 1));
-    v.push_back(num(a.features.fwhm_nm, 1));
-    v.push_back(num(a.features.dominant_nm, 1));
-    v.push_back(num(a.features.purity, 4));
+    v.push_back(format_fixed(a.features.peak_nm, 1));
+    v.push_back(format_fixed(a.features.centroid_nm, 1));
+    v.push_back(format_fixed(a.features.fwhm_nm, 1));
+    v.push_back(format_fixed(a.features.dominant_nm, 1));
+    v.push_back(format_fixed(a.features.purity, 4));
     v.push_back(observer_name(a.observer));
     return v;
 }
@@ -99,6 +95,11 @@ std::string assessment_text(const Assessment& a) {
                          f.dominant_nm < 0 ? " (complementary)" : "", f.purity);
     for (const auto& w : a.warnings) o += fmt::format("  note: {}\n", w);
     return o;
+}
+
+std::string format_fixed(double v, int decimals, const char* missing) {
+    if (!std::isfinite(v)) return missing;
+    return fmt::format("{:.{}f}", v, decimals);
 }
 
 std::string csv_line(const std::vector<std::string>& cells) {

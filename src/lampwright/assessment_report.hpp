@@ -16,6 +16,9 @@ std::vector<std::string> assessment_values(const Assessment& a);  // CSV cells; 
 nlohmann::ordered_json assessment_json(const Assessment& a);
 std::string assessment_text(const Assessment& a);
 
+// A number with fixed decimals for tables and CSV; `missing` where it is not finite (undefined).
+std::string format_fixed(double v, int decimals, const char* missing = "");
+
 // One CSV row from cells: quotes a cell holding a comma, quote or newline (RFC 4180).
 std::string csv_line(const std::vector<std::string>& cells);
 

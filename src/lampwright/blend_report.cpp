@@ -8,12 +8,6 @@
 
 namespace lampwright {
 
-namespace {
-
-std::string num(double v, int decimals) { return std::isfinite(v) ? fmt::format("{:.{}f}", v, decimals) : ""; }
-
-}  // namespace
-
 std::vector<std::string> blend_columns(const BlendResult& r) {
     auto c = assessment_columns();
     for (const char* k : {"quantum_yield", "stokes_efficiency", "radiant_efficiency", "efficacy_lm_per_W_absorbed",
@@ -27,19 +21,19 @@ std::vector<std::string> blend_columns(const BlendResult& r) {
 
 std::vector<std::string> blend_values(const BlendResult& r) {
     auto v = assessment_values(r.assessment);
-    v.push_back(num(r.quantum_yield, 5));
-    v.push_back(num(r.stokes_efficiency, 5));
-    v.push_back(num(r.radiant_efficiency, 5));
-    v.push_back(num(r.luminous_efficacy_absorbed, 2));
-    v.push_back(num(r.mercury_line_fraction, 4));
-    v.push_back(num(r.pump_leak_W_per_W, 5));
+    v.push_back(format_fixed(r.quantum_yield, 5));
+    v.push_back(format_fixed(r.stokes_efficiency, 5));
+    v.push_back(format_fixed(r.radiant_efficiency, 5));
+    v.push_back(format_fixed(r.luminous_efficacy_absorbed, 2));
+    v.push_back(format_fixed(r.mercury_line_fraction, 4));
+    v.push_back(format_fixed(r.pump_leak_W_per_W, 5));
     for (const auto& c : r.components) {
         v.push_back(c.label);
-        v.push_back(num(c.mass_fraction, 6));
-        v.push_back(num(c.photon_share, 6));
-        v.push_back(num(c.radiant_share, 6));
-        v.push_back(num(c.luminous_share, 6));
-        v.push_back(num(c.stokes_efficiency, 5));
+        v.push_back(format_fixed(c.mass_fraction, 6));
+        v.push_back(format_fixed(c.photon_share, 6));
+        v.push_back(format_fixed(c.radiant_share, 6));
+        v.push_back(format_fixed(c.luminous_share, 6));
+        v.push_back(format_fixed(c.stokes_efficiency, 5));
     }
     return v;
 }
@@ -96,9 +90,9 @@ std::vector<std::string> phosphor_values(const Phosphor& p) {
     auto opt = [](std::optional<double> v, int d) { return v ? fmt::format("{:.{}f}", *v, d) : std::string(); };
     std::string source = "emission: " + p.emission_source;
     if (!p.qe_source.empty()) source += " | QE: " + p.qe_source;
-    return {p.id, p.abbreviation, use, p.emission_model, num(s.peak_nm, 1), num(s.fwhm_nm, 1), opt(absorption_at(p, 253.7), 3),
+    return {p.id, p.abbreviation, use, p.emission_model, format_fixed(s.peak_nm, 1), format_fixed(s.fwhm_nm, 1), opt(absorption_at(p, 253.7), 3),
             opt(absorption_at(p, 405.0), 3), opt(p.qe_254nm, 2), opt(p.qe_365_405nm, 2),
-            p.density_g_per_cm3 > 0 ? num(p.density_g_per_cm3, 2) : "", p.body_colour, source};
+            p.density_g_per_cm3 > 0 ? format_fixed(p.density_g_per_cm3, 2) : "", p.body_colour, source};
 }
 
 nlohmann::ordered_json phosphor_json(const Phosphor& p) {

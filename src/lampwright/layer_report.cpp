@@ -8,10 +8,6 @@
 
 namespace lampwright {
 
-namespace {
-std::string num(double v, int decimals) { return std::isfinite(v) ? fmt::format("{:.{}f}", v, decimals) : ""; }
-}  // namespace
-
 LayerReport layer_report(const LayerDesign& d, const AssessOptions& options) {
     LayerReport r{d, evaluate_layer(d, kRoomTemperatureC, options), evaluate_layer(d, d.temperature_C, options), 0};
     r.shift_steps = chromaticity_shift_steps(r.room.assessment.xy, r.operating.assessment.xy);
@@ -34,7 +30,7 @@ std::vector<std::string> layer_values(const LayerReport& rep) {
                      r.leaked_pump_W, r.leaked_uv_violet_W, r.converted_W, r.stokes_loss_W, r.quantum_loss_W,
                      r.pump_photons_leaked, r.photons_escaping, r.photons_lost, rep.room.assessment.xy.x, rep.room.assessment.xy.y,
                      rep.shift_steps})
-        v.push_back(num(x, 6));
+        v.push_back(format_fixed(x, 6));
     return v;
 }
 

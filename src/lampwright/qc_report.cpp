@@ -25,10 +25,6 @@ constexpr const char* kCautions =
     "lamp circuits carry mains voltage. These figures do not certify a product: follow local codes, "
     "the applicable safety standards and licensed practice.";
 
-std::string num(double v, int decimals, const char* missing = "") {
-    if (!std::isfinite(v)) return missing;
-    return fmt::format("{:.{}f}", v, decimals);
-}
 
 double ra_of(const LampResult& l) { return l.assessment.rendering ? l.assessment.rendering->ra : NAN; }
 double r9_of(const LampResult& l) { return l.assessment.rendering ? l.assessment.rendering->ri[8] : NAN; }
@@ -89,7 +85,7 @@ std::string limits_text(const QcSpec& s) {
     return l.empty() ? "none besides the chromaticity region" : join(l, ", ");
 }
 
-std::string limit_text(const std::optional<double>& v, int decimals) { return v ? num(*v, decimals) : ""; }
+std::string limit_text(const std::optional<double>& v, int decimals) { return v ? format_fixed(*v, decimals) : ""; }
 
 nlohmann::ordered_json opt_json(const std::optional<double>& v) {
     return v && std::isfinite(*v) ? nlohmann::ordered_json(*v) : nlohmann::ordered_json(nullptr);
@@ -115,8 +111,8 @@ double nice_bin(double range, double n, double smallest) {
 
 std::string lamp_tooltip(const LampResult& l) {
     const auto& a = l.assessment;
-    return fmt::format("{}: x {:.4f}, y {:.4f}, CCT {} K, Duv {}, Ra {}, R9 {}, {:.2f} steps, {}{}", l.name, a.xy.x, a.xy.y, num(cct_of(l), 0, "-"),
-                       num(a.cct.duv, 4, "-"), num(ra_of(l), 1, "-"), num(r9_of(l), 1, "-"), l.steps, l.pass() ? "PASS" : "FAIL",
+    return fmt::format("{}: x {:.4f}, y {:.4f}, CCT {} K, Duv {}, Ra {}, R9 {}, {:.2f} steps, {}{}", l.name, a.xy.x, a.xy.y, format_fixed(cct_of(l), 0, "-"),
+                       format_fixed(a.cct.duv, 4, "-"), format_fixed(ra_of(l), 1, "-"), format_fixed(r9_of(l), 1, "-"), l.steps, l.pass() ? "PASS" : "FAIL",
                        l.pass() ? "" : " (" + join(l.failures, "; ") + ")");
 }
 
@@ -364,7 +360,7 @@ std::vector<std::string> qc_lamp_columns() {
 std::vector<std::string> qc_lamp_values(const LampResult& l) {
     auto v = assessment_values(l.assessment);
     v.push_back(l.file);
-    v.push_back(num(l.steps, 3));
+    v.push_back(format_fixed(l.steps, 3));
     v.push_back(l.inside_region ? "true" : "false");
     v.push_back(l.pass() ? "true" : "false");
     v.push_back(join(l.failures, "; "));
@@ -390,8 +386,8 @@ std::string qc_text(const QcRun& run) {
         o += fmt::format("\n  {:<{}}  {:>7} {:>7} {:>6} {:>8} {:>6} {:>6} {:>6}  result\n", "lamp", w, "x", "y", "CCT K", "Duv", "Ra", "R9", "steps");
         for (const auto& l : run.lamps) {
             const auto& a = l.assessment;
-            o += fmt::format("  {:<{}}  {:>7.4f} {:>7.4f} {:>6} {:>8} {:>6} {:>6} {:>6.2f}  {}", l.name, w, a.xy.x, a.xy.y, num(cct_of(l), 0, "-"),
-                             a.cct.valid ? fmt::format("{:+.4f}", a.cct.duv) : "-", num(ra_of(l), 1, "-"), num(r9_of(l), 1, "-"), l.steps,
+            o += fmt::format("  {:<{}}  {:>7.4f} {:>7.4f} {:>6} {:>8} {:>6} {:>6} {:>6.2f}  {}", l.name, w, a.xy.x, a.xy.y, format_fixed(cct_of(l), 0, "-"),
+                             a.cct.valid ? fmt::format("{:+.4f}", a.cct.duv) : "-", format_fixed(ra_of(l), 1, "-"), format_fixed(r9_of(l), 1, "-"), l.steps,
                              l.pass() ? "PASS" : "FAIL");
             if (!l.pass()) o += "  " + join(l.failures, "; ");
             if (l.outlier) o += fmt::format("  [outlier: {}]", l.outlier_note);
@@ -409,8 +405,8 @@ std::string qc_text(const QcRun& run) {
         o += fmt::format("    {:<14} {:>11} {:>11} {:>11} {:>11}\n", "quantity", "mean", "sd", "min", "max");
         for (const auto& q : st.summaries) {
             const auto f = quantity_format(q.quantity);
-            o += fmt::format("    {:<14} {:>11} {:>11} {:>11} {:>11}\n", f.label, num(q.mean, f.decimals, "-"), num(q.sd, f.decimals + 1, "-"),
-                             num(q.min, f.decimals, "-"), num(q.max, f.decimals, "-"));
+            o += fmt::format("    {:<14} {:>11} {:>11} {:>11} {:>11}\n", f.label, format_fixed(q.mean, f.decimals, "-"), format_fixed(q.sd, f.decimals + 1, "-"),
+                             format_fixed(q.min, f.decimals, "-"), format_fixed(q.max, f.decimals, "-"));
         }
         const UV cu = uv_1976_from_xy(st.centroid);
         o += fmt::format("  centroid     x {:.4f}  y {:.4f}   u' {:.4f}  v' {:.4f}   {:.2f} MacAdam steps from the target centre\n", st.centroid.x,
@@ -421,8 +417,8 @@ std::string qc_text(const QcRun& run) {
             for (const auto& c : st.capabilities) {
                 const auto f = quantity_format(c.quantity);
                 o += fmt::format("    {:<14} {:>9} {:>9} {:>11} {:>11} {:>7}\n", f.label, c.lower ? fmt::format("{:g}", *c.lower) : "-",
-                                 c.upper ? fmt::format("{:g}", *c.upper) : "-", num(c.mean, f.decimals, "-"), num(c.sd, f.decimals + 1, "-"),
-                                 num(c.cpk, 2, "n/a"));
+                                 c.upper ? fmt::format("{:g}", *c.upper) : "-", format_fixed(c.mean, f.decimals, "-"), format_fixed(c.sd, f.decimals + 1, "-"),
+                                 format_fixed(c.cpk, 2, "n/a"));
             }
         }
     }
@@ -541,8 +537,8 @@ std::string qc_html_report(const QcRun& run, const std::string& extra_html) {
                          "<td>{:.4f}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{:.2f}</td><td class=\"text result\">{}</td>"
                          "<td class=\"notes\">{}</td></tr>\n",
                          l.pass() ? "pass" : "fail", l.outlier ? " outlier" : "", i + 1, e(l.name), e(l.file), a.xy.x, a.xy.y, a.uv_prime.u, a.uv_prime.v,
-                         num(cct_of(l), 0, "-"), a.cct.valid ? fmt::format("{:+.4f}", a.cct.duv) : "-", num(ra_of(l), 1, "-"), num(r9_of(l), 1, "-"),
-                         num(a.ler_lm_per_W, 1, "-"), l.steps, l.pass() ? "PASS" : "FAIL", e(notes));
+                         format_fixed(cct_of(l), 0, "-"), a.cct.valid ? fmt::format("{:+.4f}", a.cct.duv) : "-", format_fixed(ra_of(l), 1, "-"), format_fixed(r9_of(l), 1, "-"),
+                         format_fixed(a.ler_lm_per_W, 1, "-"), l.steps, l.pass() ? "PASS" : "FAIL", e(notes));
     }
     o += "</tbody>\n</table>\n";
 
@@ -552,16 +548,16 @@ std::string qc_html_report(const QcRun& run, const std::string& extra_html) {
         const auto f = quantity_format(q.quantity);
         const Capability* c = capability_of(st, q.quantity);
         o += fmt::format("<tr data-quantity=\"{}\"><th class=\"text\">{}</th><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td></tr>\n",
-                         e(q.quantity), e(f.label), num(q.mean, f.decimals, "-"), num(q.sd, f.decimals + 1, "-"), num(q.min, f.decimals, "-"),
-                         num(q.max, f.decimals, "-"), c ? limit_text(c->lower, f.decimals) : "", c ? limit_text(c->upper, f.decimals) : "",
-                         c ? num(c->cpk, 2, "n/a") : "");
+                         e(q.quantity), e(f.label), format_fixed(q.mean, f.decimals, "-"), format_fixed(q.sd, f.decimals + 1, "-"), format_fixed(q.min, f.decimals, "-"),
+                         format_fixed(q.max, f.decimals, "-"), c ? limit_text(c->lower, f.decimals) : "", c ? limit_text(c->upper, f.decimals) : "",
+                         c ? format_fixed(c->cpk, 2, "n/a") : "");
     }
     o += "</tbody>\n</table>\n";
     const UV cu = uv_1976_from_xy(st.centroid);
     o += fmt::format("<p id=\"centroid-text\">Lot centroid: x {}, y {} (u' {}, v' {}), {} MacAdam steps from the target centre. "
                      "Cpk = min(USL − mean, mean − LSL) / (3 sd), one-sided where the spec gives one limit (Montgomery, Introduction to "
                      "Statistical Quality Control, ch. 8).</p>\n",
-                     num(st.centroid.x, 4, "-"), num(st.centroid.y, 4, "-"), num(cu.u, 4, "-"), num(cu.v, 4, "-"), num(st.centroid_steps, 2, "-"));
+                     format_fixed(st.centroid.x, 4, "-"), format_fixed(st.centroid.y, 4, "-"), format_fixed(cu.u, 4, "-"), format_fixed(cu.v, 4, "-"), format_fixed(st.centroid_steps, 2, "-"));
     if (st.outliers) {
         o += "<p id=\"outliers\">Outliers (robust z-score |0.6745 (v − median) / MAD| &gt; 3.5, Iglewicz and Hoaglin 1993): ";
         std::vector<std::string> names;
