@@ -14,10 +14,6 @@ namespace {
 
 constexpr double kStokesTolerance = 0.01;  // share of model photons allowed on the short side
 
-Spectrum zero_grid(const std::string& name) {
-    return {name, kEmissionFirstNm, std::vector<double>(kEmissionLastNm - kEmissionFirstNm + 1, 0.0)};
-}
-
 double sum_of(const Spectrum& s) { return integrate_1nm(s.values); }
 
 double visible_power(const Spectrum& s) {
@@ -51,7 +47,7 @@ Spectrum mercury_visible_lines(double power) {
     static constexpr std::array<std::pair<double, double>, 5> lines{{{404.7, 0.4}, {435.8, 1.0}, {546.1, 0.9}, {577.0, 0.1}, {579.1, 0.1}}};
     double total = 0;
     for (const auto& l : lines) total += l.second;
-    Spectrum s = zero_grid("mercury lines");
+    Spectrum s = emission_grid("mercury lines");
     for (const auto& [nm, rel] : lines) {
         const int lo = static_cast<int>(std::floor(nm));
         const double t = nm - lo;
@@ -68,7 +64,7 @@ BlendBasis blend_basis(const BlendInput& in) {
     BlendBasis b;
     const Excitation& e = in.excitation;
     const double inv_lambda_exc = mean_inverse_wavelength(e);
-    Spectrum leak = zero_grid("leak");
+    Spectrum leak = emission_grid("leak");
     if (e.kind == Excitation::Kind::mercury) {
         b.mercury_line_fraction = in.mercury_line_fraction.value_or(kDefaultMercuryLineFraction);
         if (b.mercury_line_fraction < 0 || b.mercury_line_fraction >= 1)
@@ -76,19 +72,16 @@ BlendBasis blend_basis(const BlendInput& in) {
     } else if (in.absorbed_fraction < 1) {
         // Unabsorbed pump light leaves the lamp; per W absorbed, (1 - f) / f W leak. It does not
         // depend on the shares, and the shares sum to one, so each component carries all of it.
-        const Spectrum p = pump_photons(e);
+        const Spectrum p = power_from_photons(pump_photons(e));
         b.pump_leak_W_per_W = (1 - in.absorbed_fraction) / in.absorbed_fraction;
-        double norm = 0;
-        for (std::size_t k = 0; k < p.values.size(); ++k) norm += p.values[k] / (p.first_nm + static_cast<double>(k));
-        for (std::size_t k = 0; k < p.values.size(); ++k)
-            leak.values[k] = b.pump_leak_W_per_W * p.values[k] / (p.first_nm + static_cast<double>(k)) / norm;
+        for (std::size_t k = 0; k < p.values.size(); ++k) leak.values[k] = b.pump_leak_W_per_W * p.values[k];
     }
     for (const auto& c : in.components) {
         const double a = c.absorption ? *c.absorption : absorption_for(c.phosphor, e);
         const double qe = c.quantum_efficiency ? *c.quantum_efficiency : quantum_efficiency_for(c.phosphor, e);
         if (a < 0) throw Error(fmt::format("component '{}': absorption must not be negative", c.label));
         const Spectrum n = emission_for_excitation(c.phosphor, e);
-        Spectrum power = zero_grid(c.label);
+        Spectrum power = emission_grid(c.label);
         double energy_ratio = 0;
         for (std::size_t k = 0; k < n.values.size(); ++k) {
             // Photons of wavelength l carry (1/l) / <1/l_exc> of the exciting photon's energy.
@@ -147,8 +140,8 @@ BlendResult evaluate_blend(const BlendInput& in, const AssessOptions& options) {
     if (!(absorption_total > 0))
         throw Error(fmt::format("no component of blend '{}' absorbs the {}", in.name, in.excitation.describe()));
 
-    r.phosphor_spectrum = zero_grid(in.name);
-    r.spectrum = zero_grid(in.name);
+    r.phosphor_spectrum = emission_grid(in.name);
+    r.spectrum = emission_grid(in.name);
     for (std::size_t i = 0; i < in.components.size(); ++i) {
         auto& cr = r.components[i];
         cr.photon_share = cr.mass_fraction * cr.absorption / absorption_total;

@@ -14,7 +14,7 @@ std::string Excitation::describe() const {
 }
 
 Spectrum pump_photons(const Excitation& e) {
-    Spectrum s{"pump", kEmissionFirstNm, std::vector<double>(kEmissionLastNm - kEmissionFirstNm + 1, 0.0)};
+    Spectrum s = emission_grid("pump");
     if (e.kind != Excitation::Kind::led) return s;
     const double sigma = e.fwhm_nm / (2 * std::sqrt(2 * std::log(2.0)));
     double sum = 0;
@@ -29,10 +29,7 @@ Spectrum pump_photons(const Excitation& e) {
 
 double mean_inverse_wavelength(const Excitation& e) {
     if (e.kind == Excitation::Kind::mercury) return 1.0 / e.peak_nm;
-    const Spectrum p = pump_photons(e);
-    double m = 0;
-    for (std::size_t i = 0; i < p.values.size(); ++i) m += p.values[i] / (p.first_nm + static_cast<double>(i));
-    return m;
+    return mean_inverse_wavelength(pump_photons(e));
 }
 
 double absorption_for(const Phosphor& p, const Excitation& e) {

@@ -13,27 +13,13 @@ namespace lampwright {
 
 namespace {
 
-constexpr int kGridSize = kEmissionLastNm - kEmissionFirstNm + 1;
+constexpr int kGridSize = kEmissionGridSize;
 constexpr double kUvVioletLimitNm = 420.0;
 
 double grid_nm(std::size_t k) { return kEmissionFirstNm + static_cast<double>(k); }
 
-Spectrum zero_grid(const std::string& name) { return {name, kEmissionFirstNm, std::vector<double>(kGridSize, 0.0)}; }
-
-// Pump photons (sum 1) from the Gaussian model or the measured pump power (N ~ P l).
-std::vector<double> pump_photon_shape(const LayerDesign& d) {
-    if (!d.pump_spectrum) return pump_photons(d.pump).values;
-    std::vector<double> n(kGridSize, 0.0);
-    double sum = 0;
-    for (std::size_t k = 0; k < n.size(); ++k) {
-        const int nm = static_cast<int>(grid_nm(k));
-        if (d.pump_spectrum->covers(nm)) n[k] = std::max(0.0, d.pump_spectrum->values[static_cast<std::size_t>(nm - d.pump_spectrum->first_nm)]) * nm;
-        sum += n[k];
-    }
-    if (!(sum > 0)) throw Error("the pump spectrum has no power on 300-900 nm");
-    for (double& v : n) v /= sum;
-    return n;
-}
+// Pump photons (sum 1) from the Gaussian model or the measured pump power.
+Spectrum pump_photon_shape(const LayerDesign& d) { return d.pump_spectrum ? photons_from_power(*d.pump_spectrum) : pump_photons(d.pump); }
 
 // Mixture density from the loadings (volumes add): 1/rho = sum w_i / rho_i + w_b / rho_b.
 double layer_density(const LayerDesign& d) {
@@ -82,7 +68,8 @@ LayerResult evaluate_layer(const LayerDesign& d, std::optional<double> temperatu
     const std::size_t n = d.components.size();
     const double rho = layer_density(d);
     const double d_cm = d.thickness_um * 1e-4;
-    const std::vector<double> pump = pump_photon_shape(d);
+    const Spectrum pump_spectrum = pump_photon_shape(d);
+    const std::vector<double>& pump = pump_spectrum.values;
 
     // alpha_i(l) in 1/cm.
     std::vector<std::vector<double>> alpha(n);
@@ -161,14 +148,9 @@ LayerResult evaluate_layer(const LayerDesign& d, std::optional<double> temperatu
     const Eigen::VectorXd emitted = q.cwiseProduct(absorbed);
 
     // Escaping light and the energy bookkeeping.
-    const double pump_mean_inv = [&] {
-        double m = 0;
-        for (std::size_t k = 0; k < kGridSize; ++k) m += pump[k] / grid_nm(k);
-        return m;
-    }();
-    const double photons_per_W = 1.0 / pump_mean_inv;  // pump photons (h c = 1 units) per W of pump
-    r.converted_spectrum = zero_grid(d.name + " converted");
-    r.leaked_pump_spectrum = zero_grid(d.name + " leaked pump");
+    const double photons_per_W = 1.0 / mean_inverse_wavelength(pump_spectrum);  // pump photons (h c = 1 units) per W of pump
+    r.converted_spectrum = emission_grid(d.name + " converted");
+    r.leaked_pump_spectrum = emission_grid(d.name + " leaked pump");
     for (std::size_t i = 0; i < n; ++i) {
         for (std::size_t j = 0; j < n; ++j) absorbed_energy[j] += emitted(static_cast<Eigen::Index>(i)) * energy_per_absorbed[i][j];
         LayerComponentResult cr;

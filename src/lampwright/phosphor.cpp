@@ -20,10 +20,6 @@ namespace {
 
 constexpr double kFwhmToSigma = 2.0 * 1.1774100225154747;  // FWHM = 2 sqrt(2 ln 2) sigma
 
-Spectrum empty_grid(const std::string& name) {
-    return {name, kEmissionFirstNm, std::vector<double>(kEmissionLastNm - kEmissionFirstNm + 1, 0.0)};
-}
-
 void add_normalised(Spectrum& total, const std::vector<double>& shape, double weight) {
     double sum = 0;
     for (double v : shape) sum += v;
@@ -60,17 +56,46 @@ void require_positive(const TomlDoc& doc, const toml::table& t, const std::strin
 
 }  // namespace
 
+Spectrum emission_grid(const std::string& name) { return {name, kEmissionFirstNm, std::vector<double>(kEmissionGridSize, 0.0)}; }
+
+Spectrum photons_from_power(const Spectrum& power) {
+    Spectrum n = emission_grid(power.name);
+    double sum = 0;
+    for (int nm = kEmissionFirstNm; nm <= kEmissionLastNm; ++nm) {
+        if (!power.covers(nm)) continue;
+        const double v = std::max(0.0, power.values[static_cast<std::size_t>(nm - power.first_nm)]) * nm;
+        n.values[static_cast<std::size_t>(nm - kEmissionFirstNm)] = v;
+        sum += v;
+    }
+    if (!(sum > 0)) throw Error(fmt::format("spectrum '{}' has no power on {}-{} nm", power.name, kEmissionFirstNm, kEmissionLastNm));
+    for (double& v : n.values) v /= sum;
+    return n;
+}
+
+double mean_inverse_wavelength(const Spectrum& photons) {
+    double m = 0;
+    for (std::size_t k = 0; k < photons.values.size(); ++k) m += photons.values[k] / (photons.first_nm + static_cast<double>(k));
+    return m;
+}
+
+Spectrum power_from_photons(const Spectrum& photons) {
+    Spectrum p = photons;
+    const double total = mean_inverse_wavelength(photons);
+    for (std::size_t k = 0; k < p.values.size(); ++k) p.values[k] = photons.values[k] / (photons.first_nm + static_cast<double>(k)) / total;
+    return p;
+}
+
 Spectrum emission_photons(const Phosphor& p, double shift_nm) {
-    Spectrum out = empty_grid(p.id);
+    if (p.emission_model == "measured") {
+        Spectrum n = photons_from_power(p.measured_power);
+        n.name = p.id;
+        return n;
+    }
+    Spectrum out = emission_grid(p.id);
     if (p.emission_model == "bands") {
         for (const auto& b : p.bands) add_normalised(out, band_photons_per_nm(b, shift_nm), b.weight);
     } else if (p.emission_model == "lines") {
         for (const auto& l : p.lines) add_normalised(out, line_photons_per_nm(l.nm + shift_nm, p.line_fwhm_nm), l.weight);
-    } else {
-        std::vector<double> photons;
-        for (int nm = kEmissionFirstNm; nm <= kEmissionLastNm; ++nm)
-            photons.push_back(p.measured_power.covers(nm) ? p.measured_power.values[static_cast<std::size_t>(nm - p.measured_power.first_nm)] * nm : 0.0);
-        add_normalised(out, photons, 1.0);
     }
     double sum = 0;
     for (double v : out.values) sum += v;
@@ -89,8 +114,7 @@ double thermal_factor(const Phosphor& p, double temperature_C) {
 }
 
 EmissionSummary emission_summary(const Phosphor& p) {
-    Spectrum power = emission_photons(p);
-    for (std::size_t i = 0; i < power.values.size(); ++i) power.values[i] /= (power.first_nm + static_cast<double>(i));
+    const Spectrum power = power_from_photons(emission_photons(p));
     const auto f = spectral_features(power, chromaticity(tristimulus(power)));
     return {f.peak_nm, f.fwhm_nm, f.centroid_nm};
 }

@@ -14,6 +14,19 @@ namespace lampwright {
 inline constexpr int kEmissionFirstNm = 300;
 inline constexpr int kEmissionLastNm = 900;
 
+inline constexpr int kEmissionGridSize = kEmissionLastNm - kEmissionFirstNm + 1;
+
+// An all-zero spectrum on the emission grid.
+Spectrum emission_grid(const std::string& name);
+// Photons per nm (summing to one) on the emission grid from a spectral power distribution:
+// N(l) ~ P(l) l, since a photon carries h c / l (zero where the power is not given).
+// Throws Error when there is no power on the grid.
+Spectrum photons_from_power(const Spectrum& power);
+// Mean of 1/l (1/nm) over a photon distribution summing to one: mean photon energy = h c <1/l>.
+double mean_inverse_wavelength(const Spectrum& photons);
+// Spectral power (summing to one) of a photon distribution: P(l) ~ N(l) / l.
+Spectrum power_from_photons(const Spectrum& photons);
+
 struct EmissionBand {
     double peak_nm = 0, fwhm_nm = 0, weight = 1;  // peak and FWHM of the power-per-nm curve
 };
