@@ -2,6 +2,7 @@
 
 #include "lampwright/error.hpp"
 #include "lampwright/interpolation.hpp"
+#include "lampwright/text_file.hpp"
 
 #include <fmt/format.h>
 
@@ -231,13 +232,7 @@ SpectrumFile parse_spectrum_bytes(const std::string& bytes, const std::string& s
 }
 
 SpectrumFile read_spectrum_file(const std::string& path, const SpectrumReadOptions& options) {
-    std::error_code ec;
-    if (std::filesystem::is_directory(path, ec)) throw InputError(path, 0, "is a folder, not a spectrum file");
-    std::ifstream in(path, std::ios::binary);
-    if (!in) throw InputError(path, 0, "cannot be opened (missing or unreadable)");
-    std::ostringstream ss;
-    ss << in.rdbuf();
-    return parse_spectrum_bytes(ss.str(), path, options);
+    return parse_spectrum_bytes(read_text_file(path), path, options);
 }
 
 Spectrum read_single_spectrum(const std::string& path) {

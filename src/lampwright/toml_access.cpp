@@ -39,15 +39,6 @@ TomlDoc::TomlDoc(const std::string& text, std::string source) : source_(std::mov
     }
 }
 
-std::string read_text_file(const std::string& path) {
-    std::error_code ec;
-    if (std::filesystem::is_directory(path, ec)) throw InputError(path, 0, "is a folder, not a file");
-    std::ifstream in(path, std::ios::binary);
-    if (!in) throw InputError(path, 0, "cannot be opened (missing or unreadable)");
-    std::ostringstream ss;
-    ss << in.rdbuf();
-    return ss.str();
-}
 
 TomlDoc TomlDoc::from_file(const std::string& path) { return TomlDoc(read_text_file(path), path); }
 

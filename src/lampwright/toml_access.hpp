@@ -2,6 +2,7 @@
 // Reading TOML documents (recipes, designs, specs, phosphors) with errors that name the file,
 // the line and the key. Built on toml++.
 #include "lampwright/error.hpp"
+#include "lampwright/text_file.hpp"
 
 #include <toml++/toml.h>
 
@@ -41,9 +42,6 @@ private:
     toml::table table_;
     std::string source_;
 };
-
-// The whole content of a file; InputError when it cannot be read.
-std::string read_text_file(const std::string& path);
 
 // A TOML basic string, quoted, with quote, backslash and control characters escaped.
 std::string toml_quote(const std::string& s);
