@@ -10,7 +10,6 @@
 #include <fmt/format.h>
 
 #include <chrono>
-#include <ctime>
 #include <fstream>
 #include <iostream>
 #include <unistd.h>
@@ -27,14 +26,6 @@ constexpr int kQcBadFiles = 1;
 constexpr int kQcLampsFailed = 3;
 constexpr int kQcBoth = 4;
 
-std::string default_lot_id() {
-    const auto now = std::chrono::system_clock::to_time_t(std::chrono::system_clock::now());
-    std::tm tm{};
-    gmtime_r(&now, &tm);
-    char buf[32];
-    std::strftime(buf, sizeof buf, "lot-%Y%m%d-%H%M%S", &tm);
-    return buf;
-}
 
 void write_file(const std::string& path, const std::string& content) {
     std::ofstream out(path, std::ios::binary);
@@ -64,7 +55,7 @@ failed (every file read); 4 both; 2 usage error.
         ("report", po::value(&report), "write a self-contained HTML report to this file")
         ("record", po::bool_switch(&record), "record the lot in the history database")
         ("db", po::value(&db), "history database (default lampwright.db in this folder); implies --record")
-        ("lot", po::value(&lot_id), "lot id for the history (default: date and time)")
+        ("lot", po::value(&lot_id), "lot id for the history (default: lot- and the UTC date and time)")
         ("recipe", po::value(&recipe), "the recipe this lot was made with: print a corrected recipe")
         ("threads", po::value(&threads), "worker threads (default: all cores)");
     po::variables_map vm;
@@ -100,7 +91,7 @@ failed (every file read); 4 both; 2 usage error.
     if (!report.empty()) write_file(report, qc_html_report(run, correction_html));
     if (record || !db.empty()) {
         const std::string path = db.empty() ? kDefaultHistoryDb : db;
-        const RecordOutcome o = record_lot(path, run, lot_id.empty() ? default_lot_id() : lot_id, recipe);
+        const RecordOutcome o = record_lot(path, run, lot_id, recipe);
         if (o.recorded)
             std::cerr << fmt::format("lampwright qc: lot {} recorded in {} ({} lamps new, {} already there)\n", o.lot_id, path, o.lamps_added,
                                      o.lamps_skipped);
