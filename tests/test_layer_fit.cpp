@@ -47,6 +47,20 @@ TEST_CASE("layer fit: maximising Ra does no worse than the closest fit and keeps
     CHECK(best.distance_uv_prime <= kDefaultFitToleranceUvPrime * 1.001);
 }
 
+TEST_CASE("layer fit: a lamp-colour target is met inside its MacAdam ellipse") {
+    // ANSI C78.376 F4100 with its 4-step ellipse (centre and ellipse from memory, data/targets);
+    // the constraint is the ellipse, not the u'v' circle (as for blend fits).
+    LayerFitProblem p;
+    p.design = load_layer_design(LAMPWRIGHT_SOURCE_DIR "/examples/layers/module395_150um.toml");
+    p.target = target_ansi_c78376("F4100", 4.0);
+    const LayerFitResult r = fit_layer(p);
+    REQUIRE(r.feasible);
+    REQUIRE(r.macadam_steps.has_value());
+    const double steps = macadam_steps(*p.target.ellipse, layer_report(r.design).operating.assessment.xy);
+    CHECK(steps <= 4.0 * 1.001);
+    CHECK(steps == doctest::Approx(*r.macadam_steps).epsilon(1e-9));
+}
+
 TEST_CASE("layer fit: an unreachable target is reported, not faked") {
     LayerFitProblem p;
     p.design = load_layer_design(LAMPWRIGHT_SOURCE_DIR "/examples/layers/module395_150um.toml");

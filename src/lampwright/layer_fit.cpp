@@ -18,7 +18,6 @@ constexpr double kToleranceMargin = 0.98;
 
 struct Context {
     const LayerFitProblem* p;
-    UV target_uv;
     int evaluations = 0;
     bool phase_two = false;
 };
@@ -31,7 +30,8 @@ LayerDesign design_from(const LayerFitProblem& p, const std::vector<double>& z) 
 }
 
 struct Figures {
-    double distance = 1e3, objective = 0, ra = -1e3, r9 = -1e3, total_loading = 0;
+    double ratio = 1e3;  // distance from the target / tolerance (target_distance_ratio2)
+    double objective = 0, ra = -1e3, r9 = -1e3, total_loading = 0;
 };
 
 Figures figures(Context& c, const std::vector<double>& z) {
@@ -49,22 +49,11 @@ Figures figures(Context& c, const std::vector<double>& z) {
     } catch (const Error&) {
         return f;
     }
-    const UV uv = r.assessment.uv_prime;
-    f.distance = std::hypot(uv.u - c.target_uv.u, uv.v - c.target_uv.v);
+    f.ratio = std::sqrt(target_distance_ratio2(p.target, p.tolerance_uv_prime, r.assessment));
     if (r.assessment.rendering) f.ra = r.assessment.rendering->ra, f.r9 = r.assessment.rendering->ri[8];
-    switch (p.objective) {
-        case FitObjective::ra: f.objective = f.ra; break;
-        case FitObjective::r9: f.objective = f.r9; break;
-        case FitObjective::ra_r9: f.objective = (1 - p.r9_weight) * f.ra + p.r9_weight * f.r9; break;
-        case FitObjective::ler: f.objective = r.assessment.ler_lm_per_W; break;
-        case FitObjective::efficacy: f.objective = r.efficacy_lm_per_W_pump; break;
-        case FitObjective::closest_to_start: {
-            double change = 0;
-            for (std::size_t i = 0; i < d.components.size(); ++i) change += std::abs(d.components[i].loading - p.design.components[i].loading);
-            f.objective = -change;
-            break;
-        }
-    }
+    double change = 0;
+    for (std::size_t i = 0; i < d.components.size(); ++i) change += std::abs(d.components[i].loading - p.design.components[i].loading);
+    f.objective = objective_figure(p.objective, p.r9_weight, r.assessment, r.efficacy_lm_per_W_pump, change);
     return f;
 }
 
@@ -76,7 +65,7 @@ struct Constraint {
 double objective_fn(unsigned n, const double* z, double*, void* data) {
     auto* c = static_cast<Context*>(data);
     const Figures f = figures(*c, std::vector<double>(z, z + n));
-    return c->phase_two ? -f.objective : f.distance * f.distance * 1e6;
+    return c->phase_two ? -f.objective : f.ratio * f.ratio;
 }
 
 double constraint_fn(unsigned n, const double* z, double*, void* data) {
@@ -84,7 +73,7 @@ double constraint_fn(unsigned n, const double* z, double*, void* data) {
     const Figures f = figures(*k->c, std::vector<double>(z, z + n));
     const LayerFitProblem& p = *k->c->p;
     switch (k->which) {
-        case 0: return (f.distance - kToleranceMargin * p.tolerance_uv_prime) * 1e3;
+        case 0: return f.ratio - kToleranceMargin;
         case 1: return f.total_loading - p.max_total_loading;
         case 2: return *p.min_ra - f.ra;
         default: return *p.min_r9 - f.r9;
@@ -96,7 +85,7 @@ double constraint_fn(unsigned n, const double* z, double*, void* data) {
 LayerFitResult fit_layer(const LayerFitProblem& p, int max_evaluations) {
     const std::size_t n = p.design.components.size();
     if (n == 0) throw Error("the design has no components to fit");
-    Context ctx{&p, uv_1976_from_xy(p.target.xy)};
+    Context ctx{&p};
     const unsigned m = static_cast<unsigned>(n + (p.fit_thickness ? 1 : 0));
     std::vector<double> lower(m, std::log(1e-5)), upper(m, std::log(p.max_total_loading));
     if (p.fit_thickness) lower.back() = std::log(p.min_thickness_um), upper.back() = std::log(p.max_thickness_um);
@@ -133,14 +122,14 @@ LayerFitResult fit_layer(const LayerFitProblem& p, int max_evaluations) {
         } catch (const std::invalid_argument&) {
         }
         value = objective_fn(m, z.data(), nullptr, &ctx);
-        if (std::sqrt(value / 1e6) <= kToleranceMargin * p.tolerance_uv_prime) on_target.push_back(z);
+        if (std::sqrt(value) <= kToleranceMargin) on_target.push_back(z);
         if (value < best_value) best_value = value, best = z;
-        if (std::sqrt(best_value / 1e6) < 0.2 * p.tolerance_uv_prime && p.objective == FitObjective::closest_to_start) break;
+        if (std::sqrt(best_value) < 0.2 && p.objective == FitObjective::closest_to_start) break;
     }
 
     // Phase 2: the objective within the tolerance, from every phase-1 end point on the target
     // (the objective has several local optima; the best is kept).
-    if (on_target.empty() && std::sqrt(best_value / 1e6) <= p.tolerance_uv_prime) on_target.push_back(best);
+    if (on_target.empty() && std::sqrt(best_value) <= 1.0) on_target.push_back(best);
     if (!on_target.empty()) {
         ctx.phase_two = true;
         Figures best_f = figures(ctx, on_target.front());
@@ -169,7 +158,7 @@ LayerFitResult fit_layer(const LayerFitProblem& p, int max_evaluations) {
             } catch (const std::invalid_argument&) {
             }
             const Figures f = figures(ctx, z);
-            const bool ok = f.distance <= kToleranceMargin * p.tolerance_uv_prime * (1 + 1e-6) && f.total_loading <= p.max_total_loading &&
+            const bool ok = f.ratio <= kToleranceMargin * (1 + 1e-6) && f.total_loading <= p.max_total_loading &&
                             (!p.min_ra || f.ra >= *p.min_ra) && (!p.min_r9 || f.r9 >= *p.min_r9);
             if (ok && f.objective > best_f.objective) best_f = f, best = z;
         }
@@ -181,8 +170,8 @@ LayerFitResult fit_layer(const LayerFitProblem& p, int max_evaluations) {
     for (auto& c : r.design.components) c.loading = std::round(c.loading * 1e6) / 1e6;  // as written to a design file
     r.report = layer_report(r.design);
     const auto& a = r.report.operating.assessment;
-    const UV uv = a.uv_prime;
-    r.distance_uv_prime = std::hypot(uv.u - ctx.target_uv.u, uv.v - ctx.target_uv.v);
+    const UV uv = a.uv_prime, target_uv = uv_1976_from_xy(p.target.xy);
+    r.distance_uv_prime = std::hypot(uv.u - target_uv.u, uv.v - target_uv.v);
     if (p.target.ellipse) r.macadam_steps = macadam_steps(*p.target.ellipse, a.xy);
     const double ra = a.rendering ? a.rendering->ra : NAN, r9 = a.rendering ? a.rendering->ri[8] : NAN;
     double total = 0;
@@ -190,8 +179,12 @@ LayerFitResult fit_layer(const LayerFitProblem& p, int max_evaluations) {
     auto add = [&](const std::string& name, double value, double limit, bool ok, bool active) {
         r.constraints.push_back({name, value, limit, ok, active, fmt::format("{:<6} {} {:.5g}, limit {:.5g}{}", ok ? "ok" : "FAILED", name, value, limit, active ? "  [active]" : "")});
     };
-    add("delta u'v' from the target", r.distance_uv_prime, p.tolerance_uv_prime, r.distance_uv_prime <= p.tolerance_uv_prime * 1.001,
-        r.distance_uv_prime > 0.95 * p.tolerance_uv_prime);
+    if (r.macadam_steps)
+        add("MacAdam steps from the target", *r.macadam_steps, p.target.ellipse_steps, *r.macadam_steps <= p.target.ellipse_steps * 1.001,
+            *r.macadam_steps > 0.95 * p.target.ellipse_steps);
+    else
+        add("delta u'v' from the target", r.distance_uv_prime, p.tolerance_uv_prime, r.distance_uv_prime <= p.tolerance_uv_prime * 1.001,
+            r.distance_uv_prime > 0.95 * p.tolerance_uv_prime);
     add("total loading", total, p.max_total_loading, total <= p.max_total_loading, total > 0.99 * p.max_total_loading);
     if (p.min_ra) add("Ra minimum", ra, *p.min_ra, ra >= *p.min_ra - 1e-6, std::abs(ra - *p.min_ra) < 0.05);
     if (p.min_r9) add("R9 minimum", r9, *p.min_r9, r9 >= *p.min_r9 - 1e-6, std::abs(r9 - *p.min_r9) < 0.05);
@@ -200,9 +193,11 @@ LayerFitResult fit_layer(const LayerFitProblem& p, int max_evaluations) {
     const Figures f = figures(ctx, best);
     r.objective_value = f.objective;
     r.message = r.feasible ? fmt::format("feasible: {} at {:g} degC, {} evaluations", fit_objective_name(p.objective), r.design.temperature_C, r.evaluations)
-                           : fmt::format("no feasible layer: the closest reached is {:.4f} from the target in u'v' (tolerance {:g}); "
+                           : fmt::format("no feasible layer: the closest reached is {:.4f} from the target in u'v'{}; "
                                          "try other phosphors, fitting the thickness, or a larger loading limit",
-                                         r.distance_uv_prime, p.tolerance_uv_prime);
+                                         r.distance_uv_prime,
+                                         r.macadam_steps ? fmt::format(" ({:.2f} MacAdam steps, limit {:g})", *r.macadam_steps, p.target.ellipse_steps)
+                                                         : fmt::format(" (tolerance {:g})", p.tolerance_uv_prime));
     return r;
 }
 

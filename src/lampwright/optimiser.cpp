@@ -70,33 +70,14 @@ private:
 
 double objective_of(const FitProblem& p, const Assessment& a, double efficacy, const std::vector<double>& w,
                     const std::vector<double>& w0) {
-    switch (p.objective) {
-        case FitObjective::closest_to_start: {
-            double d = 0;
-            for (std::size_t i = 0; i < w.size(); ++i) d += std::abs(w[i] - w0[i]);
-            return -d;
-        }
-        case FitObjective::ler: return a.ler_lm_per_W;
-        case FitObjective::efficacy: return efficacy;
-        default: break;
-    }
-    if (!a.rendering) return -kPenalty;
-    const double ra = a.rendering->ra, r9 = a.rendering->ri[8];
-    if (p.objective == FitObjective::ra) return ra;
-    if (p.objective == FitObjective::r9) return r9;
-    return (1 - p.r9_weight) * ra + p.r9_weight * r9;
+    double change = 0;
+    if (p.objective == FitObjective::closest_to_start)
+        for (std::size_t i = 0; i < w.size(); ++i) change += std::abs(w[i] - w0[i]);
+    return objective_figure(p.objective, p.r9_weight, a, efficacy, change);
 }
 
 // Chromaticity constraint value: (distance / tolerance)^2, <= 1 inside.
-double chromaticity_ratio2(const FitProblem& p, const Assessment& a) {
-    if (p.target.ellipse) {
-        const double st = macadam_steps(*p.target.ellipse, a.xy) / p.target.ellipse_steps;
-        return st * st;
-    }
-    const UV t = uv_1976_from_xy(p.target.xy);
-    const double du = a.uv_prime.u - t.u, dv = a.uv_prime.v - t.v;
-    return (du * du + dv * dv) / (p.tolerance_uv_prime * p.tolerance_uv_prime);
-}
+double chromaticity_ratio2(const FitProblem& p, const Assessment& a) { return target_distance_ratio2(p.target, p.tolerance_uv_prime, a); }
 
 struct Limits {
     std::vector<double> lo, hi;
@@ -503,6 +484,30 @@ void finish(const FitProblem& p, FitResult& r, const std::vector<double>& w_raw)
 }
 
 }  // namespace
+
+double objective_figure(FitObjective o, double r9_weight, const Assessment& a, double efficacy, double change) {
+    switch (o) {
+        case FitObjective::closest_to_start: return -change;
+        case FitObjective::ler: return a.ler_lm_per_W;
+        case FitObjective::efficacy: return efficacy;
+        default: break;
+    }
+    if (!a.rendering) return -kPenalty;
+    const double ra = a.rendering->ra, r9 = a.rendering->ri[8];
+    if (o == FitObjective::ra) return ra;
+    if (o == FitObjective::r9) return r9;
+    return (1 - r9_weight) * ra + r9_weight * r9;
+}
+
+double target_distance_ratio2(const Target& t, double tolerance_uv_prime, const Assessment& a) {
+    if (t.ellipse) {
+        const double st = macadam_steps(*t.ellipse, a.xy) / t.ellipse_steps;
+        return st * st;
+    }
+    const UV c = uv_1976_from_xy(t.xy);
+    const double du = a.uv_prime.u - c.u, dv = a.uv_prime.v - c.v;
+    return (du * du + dv * dv) / (tolerance_uv_prime * tolerance_uv_prime);
+}
 
 FitObjective parse_fit_objective(const std::string& name) {
     if (name == "change") return FitObjective::closest_to_start;

@@ -88,6 +88,15 @@ struct FitResult {
     int starts = 0;
 };
 
+// The figure an objective maximises, on assessed light: Ra, R9, (1 - k) Ra + k R9, LER, the
+// efficacy given (lm per W of absorbed excitation for a blend, per W of pump for a layer), or
+// minus `change` (sum of |fraction changes| from the start). Ra/R9 objectives without colour
+// rendering (no CCT) give a large negative penalty. Shared by the blend and layer fits.
+double objective_figure(FitObjective o, double r9_weight, const Assessment& a, double efficacy, double change);
+// (distance from the target / tolerance)^2, <= 1 inside: in MacAdam steps of the target's ellipse
+// when it has one, else in u'v' against `tolerance_uv_prime`.
+double target_distance_ratio2(const Target& t, double tolerance_uv_prime, const Assessment& a);
+
 // Solves the problem; never throws for an infeasible target (feasible = false, message says why).
 // Throws Error for a malformed problem (no components, bad limits, a component that absorbs nothing).
 FitResult solve(const FitProblem& problem, const FitOptions& options = {});
