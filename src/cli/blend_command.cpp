@@ -34,14 +34,7 @@ efficiency, radiant efficiency and efficacy per W of absorbed excitation. See RE
     if (recipes.size() != 1) throw UsageError{"blend: give exactly one recipe file (see lampwright blend --help)"};
 
     const Recipe recipe = load_recipe(recipes.front(), folders);
-    BlendResult result;
-    try {
-        result = evaluate_blend(recipe.blend);
-    } catch (const InputError&) {
-        throw;
-    } catch (const Error& e) {
-        throw InputError(recipe.path, 0, e.what());
-    }
+    const BlendResult result = naming_input(recipe.path, [&] { return evaluate_blend(recipe.blend); });
     for (const auto& w : result.assessment.warnings) print_warning(fmt::format("{}: {}", result.name, w));
     if (!spectrum_out.empty()) {
         std::ofstream out(spectrum_out);

@@ -1,6 +1,12 @@
 #include "cli_common.hpp"
 
+#include <fmt/format.h>
+
+#include <chrono>
 #include <iostream>
+#include <memory>
+
+#include <unistd.h>
 
 namespace lampwright::cli {
 
@@ -41,6 +47,20 @@ bool parse_command_line(int argc, char** argv, const boost::program_options::opt
         return false;
     }
     return true;
+}
+
+std::function<void(std::size_t, std::size_t)> terminal_progress(const std::string& label, const std::string& unit, std::size_t min_total) {
+    if (isatty(STDERR_FILENO) == 0) return {};
+    auto last = std::make_shared<std::chrono::steady_clock::time_point>(std::chrono::steady_clock::now());
+    return [=](std::size_t done, std::size_t total) {
+        if (total < min_total) return;
+        const auto now = std::chrono::steady_clock::now();
+        if (done != total && now - *last < std::chrono::milliseconds(100)) return;
+        *last = now;
+        std::cerr << fmt::format("\rlampwright {}: {}/{} {} ({:.0f} %)", label, done, total, unit,
+                                 100.0 * static_cast<double>(done) / static_cast<double>(total))
+                  << (done == total ? "\n" : "") << std::flush;
+    };
 }
 
 void print_error(const std::string& message) { std::cerr << "lampwright: error: " << message << '\n'; }

@@ -1,7 +1,10 @@
 #pragma once
 // Shared pieces of the command-line front end: exit codes, output formats, messages.
+#include "lampwright/error.hpp"
+
 #include <boost/program_options.hpp>
 
+#include <functional>
 #include <iosfwd>
 #include <string>
 #include <vector>
@@ -24,6 +27,23 @@ Format parse_format(const std::string& s);  // throws UsageError
 struct UsageError {
     std::string message;
 };
+
+// Runs `work`; a lampwright::Error it throws (other than an InputError, which already names its
+// file) becomes an InputError naming `path`, so the message says which input was impossible.
+template <class Work>
+auto naming_input(const std::string& path, Work&& work, const std::string& what = "") -> decltype(work()) {
+    try {
+        return work();
+    } catch (const InputError&) {
+        throw;
+    } catch (const Error& e) {
+        throw InputError(path, 0, what + e.what());
+    }
+}
+
+// A progress line on standard error for long runs ("\rlampwright qc: 120/400 files (30 %)"), shown
+// only on a terminal and only when the run has at least `min_total` steps; at most ten updates a second.
+std::function<void(std::size_t, std::size_t)> terminal_progress(const std::string& label, const std::string& unit, std::size_t min_total);
 
 void print_error(const std::string& message);
 void print_warning(const std::string& message);

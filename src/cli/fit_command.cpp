@@ -20,7 +20,6 @@
 #include <iostream>
 #include <sstream>
 
-#include <unistd.h>
 
 namespace po = boost::program_options;
 
@@ -406,14 +405,7 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     auto elapsed_ms = [&] { return std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - t0).count(); };
 
     if (front_kind) {
-        TradeoffFront tf;
-        try {
-            tf = tradeoff_front(p, *front_kind, points, options);
-        } catch (const InputError&) {
-            throw;
-        } catch (const Error& e) {
-            throw InputError(recipe.path, 0, e.what());
-        }
+        const TradeoffFront tf = naming_input(recipe.path, [&] { return tradeoff_front(p, *front_kind, points, options); });
         const double fms = elapsed_ms();
         switch (f) {
             case Format::text: std::cout << front_text(p, tf, fms); break;
@@ -434,7 +426,7 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     }
 
     std::optional<SubsetChoice> subsets;
-    try {
+    naming_input(recipe.path, [&] {
         if (vm.count("choose")) {
             subsets = choose_components(p, choose, options);
             r = subsets->result;
@@ -445,11 +437,7 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
         } else {
             r = solve(p, options);
         }
-    } catch (const InputError&) {
-        throw;
-    } catch (const Error& e) {
-        throw InputError(recipe.path, 0, e.what());
-    }
+    });
     const double ms = elapsed_ms();
     if (subsets && !subsets->found) {
         std::cerr << subsets_text(*subsets, n_components);
@@ -480,25 +468,9 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
         tp->qe_sigma = fitted(sq);
         tp->draws = static_cast<std::size_t>(draws);
         tp->seed = static_cast<std::uint64_t>(seed);
-        const bool show_progress = isatty(STDERR_FILENO) != 0;
-        auto last = std::chrono::steady_clock::now();
-        const ToleranceProgress progress = [&](std::size_t done, std::size_t total) {
-            if (!show_progress || total < 20000) return;
-            const auto now = std::chrono::steady_clock::now();
-            if (done != total && now - last < std::chrono::milliseconds(100)) return;
-            last = now;
-            std::cerr << fmt::format("\rlampwright fit: tolerance run {}/{} draws ({:.0f} %)", done, total,
-                                     100.0 * static_cast<double>(done) / static_cast<double>(total))
-                      << (done == total ? "\n" : "") << std::flush;
-        };
+        const ToleranceProgress progress = terminal_progress("fit", "tolerance draws", 20000);
         const auto t1 = std::chrono::steady_clock::now();
-        try {
-            tr = run_tolerance(*tp, progress);
-        } catch (const InputError&) {
-            throw;
-        } catch (const Error& e) {
-            throw InputError(recipe.path, 0, std::string("tolerance run: ") + e.what());
-        }
+        tr = naming_input(recipe.path, [&] { return run_tolerance(*tp, progress); }, "tolerance run: ");
         tms = std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - t1).count();
     }
     for (const auto& w : r.result.assessment.warnings) print_warning(fmt::format("{}: {}", r.result.name, w));

@@ -39,14 +39,7 @@ local codes and licensed practice.
     if (designs.size() != 1) throw UsageError{"layer: give exactly one design file (see lampwright layer --help)"};
 
     const LayerDesign design = load_layer_design(designs.front(), folders);
-    LayerReport rep;
-    try {
-        rep = layer_report(design);
-    } catch (const InputError&) {
-        throw;
-    } catch (const Error& e) {
-        throw InputError(designs.front(), 0, e.what());
-    }
+    const LayerReport rep = naming_input(designs.front(), [&] { return layer_report(design); });
     for (const auto& w : rep.operating.assessment.warnings) print_warning(fmt::format("{}: {}", design.name, w));
     const std::string caution = layer_caution(rep);
     if (!caution.empty() && f != Format::text) std::cerr << "lampwright: CAUTION: " << caution << '\n';

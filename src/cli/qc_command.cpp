@@ -9,10 +9,8 @@
 
 #include <fmt/format.h>
 
-#include <chrono>
 #include <fstream>
 #include <iostream>
-#include <unistd.h>
 
 namespace po = boost::program_options;
 
@@ -65,16 +63,7 @@ failed (every file read); 4 both; 2 usage error.
 
     const QcSpec spec = load_qc_spec(args.front());
     const std::vector<std::string> inputs(args.begin() + 1, args.end());
-    const bool show_progress = isatty(STDERR_FILENO) != 0;
-    auto last = std::chrono::steady_clock::now();
-    const ProgressCallback progress = [&](std::size_t done, std::size_t total) {
-        if (!show_progress || total < 200) return;
-        const auto now = std::chrono::steady_clock::now();
-        if (done != total && now - last < std::chrono::milliseconds(100)) return;
-        last = now;
-        std::cerr << fmt::format("\rlampwright qc: {}/{} files ({:.0f} %)", done, total, 100.0 * static_cast<double>(done) / static_cast<double>(total))
-                  << (done == total ? "\n" : "") << std::flush;
-    };
+    const ProgressCallback progress = terminal_progress("qc", "files", 200);
     QcRun run = run_qc(spec, inputs, threads, progress);
 
     for (const auto& b : run.bad_files) print_error(fmt::format("{}: {}", b.file, b.reason));
