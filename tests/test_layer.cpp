@@ -58,6 +58,7 @@ TEST_CASE("layer: a very thick layer leaks no pump") {
 }
 
 TEST_CASE("layer: leakage falls monotonically with thickness and with loading") {
+    // Beer-Lambert: transmission exp(-alpha d) falls with d and with the concentration in alpha (common practice, no source).
     const auto p = test_phosphor("G", 530, 60, 480);
     double previous = 2;
     for (double t : {0.0, 5.0, 10.0, 20.0, 40.0, 80.0, 160.0}) {
@@ -134,6 +135,8 @@ TEST_CASE("layer: the cascade solution equals the generation-by-generation sum")
 }
 
 TEST_CASE("layer: photon and energy balance close, and efficiency is bounded by QE x lambda_pump / lambda_emission") {
+    // Conservation of photons and energy; the Stokes bound on conversion (shared/phosphor-facts.md,
+    // "common practice, no source").
     LayerDesign d;
     d.name = "balance";
     d.pump = Excitation::led(405, 15);
@@ -161,6 +164,7 @@ TEST_CASE("layer: photon and energy balance close, and efficiency is bounded by 
 }
 
 TEST_CASE("layer: no quenching and no peak shift give no colour shift") {
+    // Nothing depends on temperature, so nothing moves (common practice, no source).
     auto p = test_phosphor("G", 530, 60, 480);
     LayerDesign d = single(60, 0.05, p);
     d.temperature_C = 150;
@@ -183,6 +187,7 @@ TEST_CASE("layer: published thermal quenching figures round-trip") {
 }
 
 TEST_CASE("layer design: the example designs load, and bad designs name file, line and key") {
+    // Project contract for bad input: file, line and key named (common practice, no source).
     const std::string dir = LAMPWRIGHT_SOURCE_DIR "/examples/layers/";
     const auto d = load_layer_design(dir + "module395_150um.toml");
     CHECK(d.components.size() == 3);
@@ -220,6 +225,7 @@ TEST_CASE("layer design: the example designs load, and bad designs name file, li
 }
 
 TEST_CASE("layer report: UV leakage caution names IEC 62471 and the leaked power") {
+    // IEC 62471 (photobiological safety of lamps and lamp systems) is the usual assessment of UV/violet leakage.
     const auto d = load_layer_design(LAMPWRIGHT_SOURCE_DIR "/examples/layers/module395_80um.toml");
     const auto rep = layer_report(d);
     const std::string caution = layer_caution(rep);

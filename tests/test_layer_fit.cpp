@@ -15,6 +15,7 @@ using lwtest::run_cli;
 using lwtest::TempDir;
 
 TEST_CASE("layer fit: loadings put the operating-temperature light on a 4000 K target") {
+    // Target: 4000 K on the Planckian locus (CIE 15:2004 CCT definition, Duv 0).
     LayerFitProblem p;
     p.design = load_layer_design(LAMPWRIGHT_SOURCE_DIR "/examples/layers/module395_150um.toml");
     p.target = target_cct(4000, 0.0);
@@ -35,6 +36,7 @@ TEST_CASE("layer fit: loadings put the operating-temperature light on a 4000 K t
 }
 
 TEST_CASE("layer fit: maximising Ra does no worse than the closest fit and keeps the tolerance") {
+    // A maximiser over a set that contains the closest fit cannot end below it (common practice, no source).
     LayerFitProblem p;
     p.design = load_layer_design(LAMPWRIGHT_SOURCE_DIR "/examples/layers/module395_150um.toml");
     p.target = target_cct(4000, 0.0);
@@ -62,6 +64,7 @@ TEST_CASE("layer fit: a lamp-colour target is met inside its MacAdam ellipse") {
 }
 
 TEST_CASE("layer fit: an unreachable target is reported, not faked") {
+    // Project contract: an impossible target is an error, never a wrong answer (common practice, no source).
     LayerFitProblem p;
     p.design = load_layer_design(LAMPWRIGHT_SOURCE_DIR "/examples/layers/module395_150um.toml");
     p.target = target_xy(0.15, 0.70);  // deep green, outside what blue + green + red nitride reach with a violet pump leak
@@ -71,6 +74,7 @@ TEST_CASE("layer fit: an unreachable target is reported, not faked") {
 }
 
 TEST_CASE("layer fit: the fit command on a design writes a design that layer reproduces") {
+    // Round trip of the CLI output against the library (common practice, no source).
     const TempDir dir;
     const std::string out = dir.file("lampwright_fitted_layer.toml");
     const auto fit = run_cli("fit " + quote(LAMPWRIGHT_SOURCE_DIR "/examples/layers/module395_150um.toml") + " --cct 4000 --format csv --recipe-out " + quote(out));
