@@ -1,7 +1,7 @@
 // Throughput of the full assess figures (xy, u'v', CCT, Duv, Ra, R1-R14, LER) on 1 nm spectra.
-#include "lampwright/assessment.hpp"
-#include "lampwright/cie_tables.hpp"
-#include "lampwright/illuminants.hpp"
+#include "lampwright/colour/assessment.hpp"
+#include "lampwright/colour/cie_tables.hpp"
+#include "lampwright/colour/illuminants.hpp"
 
 #include <benchmark/benchmark.h>
 

@@ -1,6 +1,6 @@
 // Speed of blend fits (issue goal: a four-component fit <= 50 ms on one core).
-#include "lampwright/optimiser.hpp"
-#include "lampwright/recipe.hpp"
+#include "lampwright/design/optimiser.hpp"
+#include "lampwright/phosphor/recipe.hpp"
 
 #include <benchmark/benchmark.h>
 

@@ -1,7 +1,7 @@
 // QC of a large lot: 10,000 spectrum files read, assessed, judged, summarised and reported (HTML),
 // on all cores. Goal: <= 5 s on the 2-core machine (issue: lamp-batch QC).
-#include "lampwright/qc.hpp"
-#include "lampwright/qc_report.hpp"
+#include "lampwright/production/qc.hpp"
+#include "lampwright/report/qc_report.hpp"
 
 #include <benchmark/benchmark.h>
 #include <fmt/format.h>

@@ -1,8 +1,8 @@
 // Speed of the trade-off front and the production tolerance Monte Carlo (issue goals on one core:
 // a 30-point front <= 2 s; 100,000 tolerance draws <= 1 s).
-#include "lampwright/recipe.hpp"
-#include "lampwright/tolerance.hpp"
-#include "lampwright/tradeoff.hpp"
+#include "lampwright/phosphor/recipe.hpp"
+#include "lampwright/design/tolerance.hpp"
+#include "lampwright/design/tradeoff.hpp"
 
 #include <benchmark/benchmark.h>
 

@@ -1,10 +1,10 @@
-// Tests of the thick-coating blend model (src/lampwright/blend.hpp): shape, linearity in the
+// Tests of the thick-coating blend model (src/lampwright/phosphor/blend.hpp): shape, linearity in the
 // absorbed-photon shares, photon and energy balance, Stokes rule, mercury lines and pump leak.
-#include "lampwright/blend.hpp"
-#include "lampwright/colorimetry.hpp"
-#include "lampwright/error.hpp"
-#include "lampwright/excitation.hpp"
-#include "lampwright/phosphor.hpp"
+#include "lampwright/phosphor/blend.hpp"
+#include "lampwright/colour/colorimetry.hpp"
+#include "lampwright/core/error.hpp"
+#include "lampwright/phosphor/excitation.hpp"
+#include "lampwright/phosphor/phosphor.hpp"
 
 #include <doctest/doctest.h>
 

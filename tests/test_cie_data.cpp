@@ -3,12 +3,12 @@
 // against the official 1 nm ones; CIE illuminants from the tables through assess().
 #include "test_support.hpp"
 
-#include "lampwright/assessment.hpp"
-#include "lampwright/cie_tables.hpp"
-#include "lampwright/embedded_data.hpp"
-#include "lampwright/error.hpp"
-#include "lampwright/illuminants.hpp"
-#include "lampwright/interpolation.hpp"
+#include "lampwright/colour/assessment.hpp"
+#include "lampwright/colour/cie_tables.hpp"
+#include "lampwright/core/embedded_data.hpp"
+#include "lampwright/core/error.hpp"
+#include "lampwright/colour/illuminants.hpp"
+#include "lampwright/core/interpolation.hpp"
 
 #include <doctest/doctest.h>
 

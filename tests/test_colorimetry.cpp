@@ -2,10 +2,10 @@
 // efficacy of radiation, against published chromaticities.
 #include "test_support.hpp"
 
-#include "lampwright/assessment.hpp"
-#include "lampwright/cie_tables.hpp"
-#include "lampwright/colorimetry.hpp"
-#include "lampwright/illuminants.hpp"
+#include "lampwright/colour/assessment.hpp"
+#include "lampwright/colour/cie_tables.hpp"
+#include "lampwright/colour/colorimetry.hpp"
+#include "lampwright/colour/illuminants.hpp"
 
 #include <doctest/doctest.h>
 

@@ -2,11 +2,11 @@
 // Ra of the CIE fluorescent illuminants.
 #include "test_support.hpp"
 
-#include "lampwright/assessment.hpp"
-#include "lampwright/cie_tables.hpp"
-#include "lampwright/colour_rendering.hpp"
-#include "lampwright/error.hpp"
-#include "lampwright/illuminants.hpp"
+#include "lampwright/colour/assessment.hpp"
+#include "lampwright/colour/cie_tables.hpp"
+#include "lampwright/colour/colour_rendering.hpp"
+#include "lampwright/core/error.hpp"
+#include "lampwright/colour/illuminants.hpp"
 
 #include <doctest/doctest.h>
 

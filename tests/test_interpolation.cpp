@@ -1,7 +1,7 @@
 // Resampling onto the 1 nm grid: Sprague (CIE 167:2005) for uniform data, monotone cubic Hermite
 // (Fritsch & Carlson 1980) otherwise.
-#include "lampwright/error.hpp"
-#include "lampwright/interpolation.hpp"
+#include "lampwright/core/error.hpp"
+#include "lampwright/core/interpolation.hpp"
 
 #include <doctest/doctest.h>
 

@@ -1,8 +1,8 @@
 // LED conversion layer: limits, re-absorption cascade, balances, temperature.
-#include "lampwright/blend.hpp"
-#include "lampwright/layer.hpp"
-#include "lampwright/layer_design.hpp"
-#include "lampwright/layer_report.hpp"
+#include "lampwright/phosphor/blend.hpp"
+#include "lampwright/led/layer.hpp"
+#include "lampwright/led/layer_design.hpp"
+#include "lampwright/report/layer_report.hpp"
 
 #include "test_support.hpp"
 
@@ -168,7 +168,7 @@ TEST_CASE("layer: no quenching and no peak shift give no colour shift") {
     auto p = test_phosphor("G", 530, 60, 480);
     LayerDesign d = single(60, 0.05, p);
     d.temperature_C = 150;
-    const auto rep = layer_report(d);
+    const auto rep = evaluate_layer_design(d);
     CHECK(rep.shift_steps == doctest::Approx(0.0).epsilon(1e-9));
 }
 
@@ -227,7 +227,7 @@ TEST_CASE("layer design: the example designs load, and bad designs name file, li
 TEST_CASE("layer report: UV leakage caution names IEC 62471 and the leaked power") {
     // IEC 62471 (photobiological safety of lamps and lamp systems) is the usual assessment of UV/violet leakage.
     const auto d = load_layer_design(LAMPWRIGHT_SOURCE_DIR "/examples/layers/module395_80um.toml");
-    const auto rep = layer_report(d);
+    const auto rep = evaluate_layer_design(d);
     const std::string caution = layer_caution(rep);
     CHECK(caution.find("IEC 62471") != std::string::npos);
     CHECK(caution.find("mW") != std::string::npos);
@@ -235,5 +235,5 @@ TEST_CASE("layer report: UV leakage caution names IEC 62471 and the leaked power
     // A very thick layer: leak negligible, no caution.
     LayerDesign thick = d;
     thick.thickness_um = 3000;
-    CHECK(layer_caution(layer_report(thick)).empty());
+    CHECK(layer_caution(evaluate_layer_design(thick)).empty());
 }

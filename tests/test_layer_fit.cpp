@@ -1,6 +1,6 @@
 // Fitting LED layer loadings (and thickness) to a target white.
-#include "lampwright/layer_design.hpp"
-#include "lampwright/layer_fit.hpp"
+#include "lampwright/led/layer_design.hpp"
+#include "lampwright/led/layer_fit.hpp"
 
 #include "test_support.hpp"
 
@@ -23,7 +23,7 @@ TEST_CASE("layer fit: loadings put the operating-temperature light on a 4000 K t
     const LayerFitResult r = fit_layer(p);
     REQUIRE(r.feasible);
     // Re-check independently with the layer model (the constraint of the problem; common practice, no source).
-    const LayerReport rep = layer_report(r.design);
+    const LayerEvaluation rep = evaluate_layer_design(r.design);
     const UV uv = rep.operating.assessment.uv_prime, t = uv_1976_from_xy(p.target.xy);
     CHECK(std::hypot(uv.u - t.u, uv.v - t.v) <= kDefaultFitToleranceUvPrime * 1.001);
     CHECK(rep.operating.assessment.cct.cct_K == doctest::Approx(4000).epsilon(0.02));
@@ -45,7 +45,7 @@ TEST_CASE("layer fit: maximising Ra does no worse than the closest fit and keeps
     const LayerFitResult best = fit_layer(p);
     REQUIRE(closest.feasible);
     REQUIRE(best.feasible);
-    CHECK(best.report.operating.assessment.rendering->ra >= closest.report.operating.assessment.rendering->ra - 0.05);
+    CHECK(best.evaluation.operating.assessment.rendering->ra >= closest.evaluation.operating.assessment.rendering->ra - 0.05);
     CHECK(best.distance_uv_prime <= kDefaultFitToleranceUvPrime * 1.001);
 }
 
@@ -58,7 +58,7 @@ TEST_CASE("layer fit: a lamp-colour target is met inside its MacAdam ellipse") {
     const LayerFitResult r = fit_layer(p);
     REQUIRE(r.feasible);
     REQUIRE(r.macadam_steps.has_value());
-    const double steps = macadam_steps(*p.target.ellipse, layer_report(r.design).operating.assessment.xy);
+    const double steps = macadam_steps(*p.target.ellipse, evaluate_layer_design(r.design).operating.assessment.xy);
     CHECK(steps <= 4.0 * 1.001);
     CHECK(steps == doctest::Approx(*r.macadam_steps).epsilon(1e-9));
 }
@@ -79,7 +79,7 @@ TEST_CASE("layer fit: the fit command on a design writes a design that layer rep
     const std::string out = dir.file("lampwright_fitted_layer.toml");
     const auto fit = run_cli("fit " + quote(LAMPWRIGHT_SOURCE_DIR "/examples/layers/module395_150um.toml") + " --cct 4000 --format csv --recipe-out " + quote(out));
     REQUIRE(fit.exit_code == 0);
-    const LayerReport rep = layer_report(load_layer_design(out));
+    const LayerEvaluation rep = evaluate_layer_design(load_layer_design(out));
     const UV uv = rep.operating.assessment.uv_prime, t = uv_1976_from_xy(target_cct(4000, 0).xy);
     CHECK(std::hypot(uv.u - t.u, uv.v - t.v) <= kDefaultFitToleranceUvPrime * 1.001);  // the problem's own constraint
     std::istringstream in(fit.out);

@@ -1,11 +1,12 @@
 // Lot history in SQLite: round trip of lot statistics, de-duplication of re-imported spectra,
 // lot ids recorded once, control chart limits, and consistency after kill -9 mid-import.
-#include "lampwright/cie_tables.hpp"
-#include "lampwright/error.hpp"
-#include "lampwright/illuminants.hpp"
-#include "lampwright/lot_history.hpp"
-#include "lampwright/qc.hpp"
-#include "lampwright/targets.hpp"
+#include "lampwright/colour/cie_tables.hpp"
+#include "lampwright/core/error.hpp"
+#include "lampwright/colour/illuminants.hpp"
+#include "lampwright/production/lot_history.hpp"
+#include "lampwright/report/history_report.hpp"
+#include "lampwright/production/qc.hpp"
+#include "lampwright/design/targets.hpp"
 
 #include "test_support.hpp"
 

@@ -1,11 +1,11 @@
-// Tests of the blend optimiser (src/lampwright/optimiser.hpp): the exact three-component solve,
+// Tests of the blend optimiser (src/lampwright/design/optimiser.hpp): the exact three-component solve,
 // the NLopt path, constraints, infeasible targets, reproducibility, a brute-force grid check of
 // the best Ra, and the fit command line.
-#include "lampwright/blend.hpp"
-#include "lampwright/error.hpp"
-#include "lampwright/optimiser.hpp"
-#include "lampwright/recipe.hpp"
-#include "lampwright/targets.hpp"
+#include "lampwright/phosphor/blend.hpp"
+#include "lampwright/core/error.hpp"
+#include "lampwright/design/optimiser.hpp"
+#include "lampwright/phosphor/recipe.hpp"
+#include "lampwright/design/targets.hpp"
 
 #include "test_support.hpp"
 
@@ -274,7 +274,7 @@ TEST_CASE("fit command: csv row, recipe out, infeasible exit code") {
 }
 
 TEST_CASE("optimiser: min_fraction and max_fraction from the recipe") {
-    // Recipe keys of src/lampwright/recipe.hpp; errors name file, line and key (DEVELOPERS.md).
+    // Recipe keys of src/lampwright/phosphor/recipe.hpp; errors name file, line and key (DEVELOPERS.md).
     const TempDir dir;
     const std::string path = dir.file("lampwright_fit_limits.toml");
     auto write = [&](const std::string& extra) {

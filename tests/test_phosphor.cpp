@@ -1,10 +1,10 @@
 // Tests of the phosphor library: the built-in files, the emission models, look-up by id and
 // abbreviation, and user folders with measured spectra.
-#include "lampwright/colorimetry.hpp"
-#include "lampwright/error.hpp"
-#include "lampwright/excitation.hpp"
-#include "lampwright/blend.hpp"
-#include "lampwright/phosphor.hpp"
+#include "lampwright/colour/colorimetry.hpp"
+#include "lampwright/core/error.hpp"
+#include "lampwright/phosphor/excitation.hpp"
+#include "lampwright/phosphor/blend.hpp"
+#include "lampwright/phosphor/phosphor.hpp"
 
 #include "test_support.hpp"
 

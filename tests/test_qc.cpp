@@ -1,14 +1,14 @@
 // Quality control: specs, lamp verdicts, lot statistics, Cpk, outliers, bad files, TM-27 XML,
 // and the recipe correction from a drifted lot.
-#include "lampwright/blend.hpp"
-#include "lampwright/cie_tables.hpp"
-#include "lampwright/illuminants.hpp"
-#include "lampwright/interpolation.hpp"
-#include "lampwright/lot_correction.hpp"
-#include "lampwright/qc.hpp"
-#include "lampwright/recipe.hpp"
-#include "lampwright/spectrum_io.hpp"
-#include "lampwright/statistics.hpp"
+#include "lampwright/phosphor/blend.hpp"
+#include "lampwright/colour/cie_tables.hpp"
+#include "lampwright/colour/illuminants.hpp"
+#include "lampwright/core/interpolation.hpp"
+#include "lampwright/production/lot_correction.hpp"
+#include "lampwright/production/qc.hpp"
+#include "lampwright/phosphor/recipe.hpp"
+#include "lampwright/io/spectrum_io.hpp"
+#include "lampwright/core/statistics.hpp"
 
 #include "test_support.hpp"
 

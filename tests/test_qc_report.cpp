@@ -1,15 +1,15 @@
-// Tests of the QC reports (src/lampwright/qc_report.hpp): the HTML report parses as XML and holds
+// Tests of the QC reports (src/lampwright/report/qc_report.hpp): the HTML report parses as XML and holds
 // the expected elements, the JSON and text summaries, CSV columns, and the tolerance region's
 // boundary. The demo lot is examples/qc/lot_A with examples/qc/spec_F4100.toml (invented data
 // made by tools/make_demo_lot.py: 40 tubes, lamps 37 and 40 with a deliberate weighing slip).
 //
 // Set LAMPWRIGHT_REPORT_OUT=/some/file.html to keep the demo report (tools/screenshot_report.sh
 // renders it to PNG).
-#include "lampwright/colorimetry.hpp"
-#include "lampwright/illuminants.hpp"
-#include "lampwright/qc.hpp"
-#include "lampwright/qc_report.hpp"
-#include "lampwright/targets.hpp"
+#include "lampwright/colour/colorimetry.hpp"
+#include "lampwright/colour/illuminants.hpp"
+#include "lampwright/production/qc.hpp"
+#include "lampwright/report/qc_report.hpp"
+#include "lampwright/design/targets.hpp"
 
 #include <doctest/doctest.h>
 #include <nlohmann/json.hpp>
@@ -90,7 +90,7 @@ TEST_CASE("qc report: the demo lot's HTML parses as XML and holds every element"
     CHECK(std::string(doc.document_element().name()) == "html");
     CHECK(html.rfind("<!DOCTYPE html>", 0) == 0);
 
-    // Element ids and classes the report promises (src/lampwright/qc_report.hpp).
+    // Element ids and classes the report promises (src/lampwright/report/qc_report.hpp).
     const pugi::xml_node root = doc.document_element();
     for (const char* id : {"uv-diagram", "tolerance-region", "centroid", "hist-ra", "hist-r9", "lamp-table", "lot-statistics"}) {
         CAPTURE(id);

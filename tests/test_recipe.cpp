@@ -1,8 +1,8 @@
-// Tests of blend recipes (src/lampwright/recipe.hpp): good recipes, every refusal with the file,
+// Tests of blend recipes (src/lampwright/phosphor/recipe.hpp): good recipes, every refusal with the file,
 // line and key in the message, and the recipe_to_toml round trip.
-#include "lampwright/blend.hpp"
-#include "lampwright/error.hpp"
-#include "lampwright/recipe.hpp"
+#include "lampwright/phosphor/blend.hpp"
+#include "lampwright/core/error.hpp"
+#include "lampwright/phosphor/recipe.hpp"
 
 #include "test_support.hpp"
 

@@ -1,7 +1,7 @@
 // Reading spectra from delimited text: layouts that must be accepted, and every kind of bad input
 // with the file and line it is reported against.
-#include "lampwright/error.hpp"
-#include "lampwright/spectrum_io.hpp"
+#include "lampwright/core/error.hpp"
+#include "lampwright/io/spectrum_io.hpp"
 
 #include "test_support.hpp"
 

@@ -3,14 +3,14 @@
 // colord-data's CGATS-like spectral files, printed CIE values, and points off the Planckian locus;
 // temporary folders, shell quoting, whole-file reads and runs of the lampwright command line
 // (LAMPWRIGHT_CLI); example recipes and fit problems built from them.
-#include "lampwright/assessment.hpp"
-#include "lampwright/colorimetry.hpp"
-#include "lampwright/optimiser.hpp"
-#include "lampwright/recipe.hpp"
-#include "lampwright/spectrum.hpp"
-#include "lampwright/spectrum_io.hpp"
-#include "lampwright/targets.hpp"
-#include "lampwright/temperature.hpp"
+#include "lampwright/colour/assessment.hpp"
+#include "lampwright/colour/colorimetry.hpp"
+#include "lampwright/design/optimiser.hpp"
+#include "lampwright/phosphor/recipe.hpp"
+#include "lampwright/core/spectrum.hpp"
+#include "lampwright/io/spectrum_io.hpp"
+#include "lampwright/design/targets.hpp"
+#include "lampwright/colour/temperature.hpp"
 
 #include <doctest/doctest.h>
 

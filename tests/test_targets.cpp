@@ -1,9 +1,9 @@
-// Tests of the target whites (src/lampwright/targets.hpp): the ANSI C78.377 table and computed
+// Tests of the target whites (src/lampwright/design/targets.hpp): the ANSI C78.377 table and computed
 // quadrangles, the ANSI C78.376 ellipses, MacAdam step distances and CCT/Duv points.
-#include "lampwright/colorimetry.hpp"
-#include "lampwright/error.hpp"
-#include "lampwright/targets.hpp"
-#include "lampwright/temperature.hpp"
+#include "lampwright/colour/colorimetry.hpp"
+#include "lampwright/core/error.hpp"
+#include "lampwright/design/targets.hpp"
+#include "lampwright/colour/temperature.hpp"
 
 #include <doctest/doctest.h>
 

@@ -2,11 +2,11 @@
 // brute-force search of the Planckian locus, published values and Little CMS 2.
 #include "test_support.hpp"
 
-#include "lampwright/cie_tables.hpp"
-#include "lampwright/colorimetry.hpp"
-#include "lampwright/error.hpp"
-#include "lampwright/illuminants.hpp"
-#include "lampwright/temperature.hpp"
+#include "lampwright/colour/cie_tables.hpp"
+#include "lampwright/colour/colorimetry.hpp"
+#include "lampwright/core/error.hpp"
+#include "lampwright/colour/illuminants.hpp"
+#include "lampwright/colour/temperature.hpp"
 
 #include <doctest/doctest.h>
 

@@ -1,10 +1,10 @@
-// Tests of the production-tolerance Monte Carlo (src/lampwright/tolerance.hpp) and its fit
+// Tests of the production-tolerance Monte Carlo (src/lampwright/design/tolerance.hpp) and its fit
 // command-line options.
-#include "lampwright/blend.hpp"
-#include "lampwright/error.hpp"
-#include "lampwright/recipe.hpp"
-#include "lampwright/targets.hpp"
-#include "lampwright/tolerance.hpp"
+#include "lampwright/phosphor/blend.hpp"
+#include "lampwright/core/error.hpp"
+#include "lampwright/phosphor/recipe.hpp"
+#include "lampwright/design/targets.hpp"
+#include "lampwright/design/tolerance.hpp"
 
 #include "test_support.hpp"
 

@@ -1,10 +1,11 @@
-// Tests of the trade-off front and the best-k-of-n choice (src/lampwright/tradeoff.hpp), and of
+// Tests of the trade-off front and the best-k-of-n choice (src/lampwright/design/tradeoff.hpp), and of
 // their fit command-line options.
-#include "lampwright/blend.hpp"
-#include "lampwright/error.hpp"
-#include "lampwright/recipe.hpp"
-#include "lampwright/targets.hpp"
-#include "lampwright/tradeoff.hpp"
+#include "lampwright/phosphor/blend.hpp"
+#include "lampwright/core/error.hpp"
+#include "lampwright/phosphor/recipe.hpp"
+#include "lampwright/design/targets.hpp"
+#include "lampwright/design/tradeoff.hpp"
+#include "lampwright/report/fit_report.hpp"
 
 #include "test_support.hpp"
 

@@ -1,11 +1,11 @@
 // lampwright assess: datasheet figures of measured or computed spectra.
 #include "cli_common.hpp"
 
-#include "lampwright/assessment.hpp"
-#include "lampwright/assessment_report.hpp"
-#include "lampwright/error.hpp"
-#include "lampwright/interpolation.hpp"
-#include "lampwright/spectrum_io.hpp"
+#include "lampwright/colour/assessment.hpp"
+#include "lampwright/report/assessment_report.hpp"
+#include "lampwright/core/error.hpp"
+#include "lampwright/core/interpolation.hpp"
+#include "lampwright/io/spectrum_io.hpp"
 
 #include <boost/program_options.hpp>
 #include <fmt/format.h>

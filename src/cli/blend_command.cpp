@@ -1,10 +1,10 @@
 // lampwright blend: the spectrum and figures of a phosphor blend recipe.
 #include "cli_common.hpp"
 
-#include "lampwright/assessment_report.hpp"
-#include "lampwright/blend_report.hpp"
-#include "lampwright/recipe.hpp"
-#include "lampwright/spectrum_io.hpp"
+#include "lampwright/report/assessment_report.hpp"
+#include "lampwright/report/blend_report.hpp"
+#include "lampwright/phosphor/recipe.hpp"
+#include "lampwright/io/spectrum_io.hpp"
 
 #include <fmt/format.h>
 

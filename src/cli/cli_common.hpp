@@ -1,6 +1,6 @@
 #pragma once
 // Shared pieces of the command-line front end: exit codes, output formats, messages.
-#include "lampwright/error.hpp"
+#include "lampwright/core/error.hpp"
 
 #include <boost/program_options.hpp>
 

@@ -1,15 +1,16 @@
 // lampwright fit: solve a recipe's mass fractions for a target white.
 #include "cli_common.hpp"
 
-#include "lampwright/assessment_report.hpp"
-#include "lampwright/blend_report.hpp"
-#include "lampwright/error.hpp"
-#include "lampwright/layer_design.hpp"
-#include "lampwright/layer_fit.hpp"
-#include "lampwright/optimiser.hpp"
-#include "lampwright/recipe.hpp"
-#include "lampwright/tolerance.hpp"
-#include "lampwright/tradeoff.hpp"
+#include "lampwright/report/assessment_report.hpp"
+#include "lampwright/report/blend_report.hpp"
+#include "lampwright/report/fit_report.hpp"
+#include "lampwright/core/error.hpp"
+#include "lampwright/led/layer_design.hpp"
+#include "lampwright/led/layer_fit.hpp"
+#include "lampwright/design/optimiser.hpp"
+#include "lampwright/phosphor/recipe.hpp"
+#include "lampwright/design/tolerance.hpp"
+#include "lampwright/design/tradeoff.hpp"
 
 #include <fmt/format.h>
 
@@ -41,66 +42,6 @@ std::pair<double, double> parse_pair(const std::string& s, const std::string& op
     }
 }
 
-std::string fmt_opt(const std::optional<double>& v, int decimals) { return v ? fmt::format("{:.{}f}", *v, decimals) : "n/a"; }
-
-std::string fit_text(const FitProblem& p, const FitResult& r, double ms) {
-    std::ostringstream o;
-    const Assessment& a = r.result.assessment;
-    o << fmt::format("Fit of '{}'\n", p.blend.name);
-    o << fmt::format("  target:     {}", p.target.description);
-    if (p.target.kind != Target::Kind::chromaticity) o << fmt::format(" (x = {:.4f}, y = {:.4f})", p.target.xy.x, p.target.xy.y);
-    o << '\n';
-    o << fmt::format("  objective:  {}\n", fit_objective_name(p.objective));
-    o << fmt::format("  method:     {}, {} evaluations, {:.1f} ms\n", r.method, r.evaluations, ms);
-    o << fmt::format("  result:     {}{}\n", r.feasible ? "" : "NOT FEASIBLE - ", r.message);
-    o << "\n  component                                   start    fitted\n";
-    for (std::size_t i = 0; i < p.blend.components.size(); ++i) {
-        double total = 0;
-        for (const auto& c : p.blend.components) total += c.mass_fraction;
-        o << fmt::format("  {:<40}  {:.4f}   {:.6f}\n", p.blend.components[i].label, p.blend.components[i].mass_fraction / total,
-                         r.mass_fractions[i]);
-    }
-    o << fmt::format("\n  x, y        {:.4f}, {:.4f}   u'v' {:.4f}, {:.4f}   delta u'v' from target {:.5f}\n", a.xy.x, a.xy.y,
-                     a.uv_prime.u, a.uv_prime.v, r.distance_uv_prime);
-    if (r.macadam_steps) o << fmt::format("  MacAdam     {:.2f} steps from the centre\n", *r.macadam_steps);
-    if (r.inside_ansi_quadrangle) o << fmt::format("  ANSI C78.377 quadrangle: {}\n", *r.inside_ansi_quadrangle ? "inside" : "OUTSIDE");
-    o << fmt::format("  CCT, Duv    {} K, {:+.4f}\n", a.cct.valid ? fmt::format("{:.0f}", a.cct.cct_K) : "n/a", a.cct.duv);
-    std::optional<double> ra, r9;
-    if (a.rendering) ra = a.rendering->ra, r9 = a.rendering->ri[8];
-    o << fmt::format("  Ra, R9      {}, {}\n", fmt_opt(ra, 1), fmt_opt(r9, 1));
-    o << fmt::format("  LER         {:.1f} lm/W;  efficacy {:.1f} lm per W absorbed\n", a.ler_lm_per_W, r.result.luminous_efficacy_absorbed);
-    if (r.nearest_reachable)
-        o << fmt::format("  nearest reachable chromaticity: x = {:.4f}, y = {:.4f}\n", r.nearest_reachable->x, r.nearest_reachable->y);
-    o << "\n  constraints (re-checked with the blend model):\n";
-    for (const auto& c : r.constraints)
-        o << fmt::format("    {:<6} {}{}\n", c.satisfied ? "ok" : "BROKEN", c.text, c.active ? "  [active]" : "");
-    return o.str();
-}
-
-nlohmann::ordered_json fit_json(const FitProblem& p, const FitResult& r, double ms) {
-    nlohmann::ordered_json j;
-    j["feasible"] = r.feasible;
-    j["message"] = r.message;
-    j["method"] = r.method;
-    j["objective"] = fit_objective_name(p.objective);
-    j["objective_value"] = r.objective_value;
-    j["target"] = {{"description", p.target.description}, {"x", p.target.xy.x}, {"y", p.target.xy.y}};
-    j["delta_uv_prime"] = r.distance_uv_prime;
-    if (r.macadam_steps) j["macadam_steps"] = *r.macadam_steps;
-    if (r.inside_ansi_quadrangle) j["inside_ansi_quadrangle"] = *r.inside_ansi_quadrangle;
-    if (r.nearest_reachable) j["nearest_reachable"] = {{"x", r.nearest_reachable->x}, {"y", r.nearest_reachable->y}};
-    auto& f = j["fitted_fractions"] = nlohmann::ordered_json::array();
-    for (std::size_t i = 0; i < p.blend.components.size(); ++i)
-        f.push_back({{"id", p.blend.components[i].label}, {"mass_fraction", r.mass_fractions[i]}});
-    auto& cs = j["constraints"] = nlohmann::ordered_json::array();
-    for (const auto& c : r.constraints)
-        cs.push_back({{"name", c.name}, {"value", c.value}, {"limit", c.limit}, {"satisfied", c.satisfied}, {"active", c.active}, {"text", c.text}});
-    j["evaluations"] = r.evaluations;
-    j["time_ms"] = ms;
-    j["blend"] = blend_json(r.result, r.blend);
-    return j;
-}
-
 
 std::vector<double> parse_list(const std::string& s, const std::string& option) {
     std::vector<double> out;
@@ -120,109 +61,6 @@ std::vector<double> parse_list(const std::string& s, const std::string& option) 
         start = comma + 1;
     }
     return out;
-}
-
-std::string front_text(const FitProblem& p, const TradeoffFront& f, double ms) {
-    std::ostringstream o;
-    o << fmt::format("Trade-off front of '{}': maximum {} for a rising floor on {}\n", p.blend.name, f.objective_label, f.floor_label);
-    o << fmt::format("  target:     {}", p.target.description);
-    if (p.target.kind != Target::Kind::chromaticity) o << fmt::format(" (x = {:.4f}, y = {:.4f})", p.target.xy.x, p.target.xy.y);
-    o << '\n';
-    o << fmt::format("  sweep:      {}; {} evaluations, {:.0f} ms\n", f.message, f.evaluations, ms);
-    o << fmt::format("\n  {:>8} {:>9} {:>7} {:>7} {:>7} {:>9}  fractions ({})\n", "min " + f.floor_label, f.objective_label, "Ra", "R9",
-                     "LER", "efficacy", [&] {
-                         std::string l;
-                         for (const auto& c : p.blend.components) l += (l.empty() ? "" : ", ") + c.label;
-                         return l;
-                     }());
-    for (const auto& pt : f.points) {
-        if (!pt.feasible) {
-            o << fmt::format("  {:8.2f}  no feasible blend\n", pt.floor);
-            continue;
-        }
-        std::string fr;
-        for (double w : pt.mass_fractions) fr += fmt::format("{}{:.4f}", fr.empty() ? "" : " ", w);
-        o << fmt::format("  {:8.2f} {:9.2f} {:7.2f} {:7.2f} {:7.1f} {:9.2f}  {}{}\n", pt.floor, pt.objective, pt.ra, pt.r9, pt.ler, pt.efficacy, fr,
-                         pt.from_other_point ? "  *" : "");
-    }
-    if (std::any_of(f.points.begin(), f.points.end(), [](const FrontPoint& q) { return q.from_other_point; }))
-        o << "  * the blend of another point's solve: it meets this floor and beats this point's own answer\n";
-    o << fmt::format("  (LER in lm/W of light; efficacy in lm per W of absorbed excitation)\n");
-    return o.str();
-}
-
-nlohmann::ordered_json front_json(const FitProblem& p, const TradeoffFront& f, double ms) {
-    nlohmann::ordered_json j;
-    j["front"] = front_kind_name(f.kind);
-    j["maximised"] = f.objective_label;
-    j["floor_on"] = f.floor_label;
-    j["floor_low"] = f.floor_low;
-    j["floor_high"] = f.floor_high;
-    j["target"] = {{"description", p.target.description}, {"x", p.target.xy.x}, {"y", p.target.xy.y}};
-    j["message"] = f.message;
-    j["solves"] = f.solves;
-    j["evaluations"] = f.evaluations;
-    j["time_ms"] = ms;
-    auto& pts = j["points"] = nlohmann::ordered_json::array();
-    for (const auto& pt : f.points) {
-        nlohmann::ordered_json q;
-        q["floor"] = pt.floor;
-        q["feasible"] = pt.feasible;
-        if (pt.feasible) {
-            q["objective"] = pt.objective;
-            q["Ra"] = pt.ra;
-            q["R9"] = pt.r9;
-            q["ler_lm_per_W"] = pt.ler;
-            q["efficacy_lm_per_W_absorbed"] = pt.efficacy;
-            q["x"] = pt.xy.x;
-            q["y"] = pt.xy.y;
-            q["delta_uv_prime"] = pt.distance_uv_prime;
-            q["from_other_point"] = pt.from_other_point;
-            auto& fr = q["fractions"] = nlohmann::ordered_json::array();
-            for (std::size_t i = 0; i < pt.mass_fractions.size(); ++i)
-                fr.push_back({{"id", p.blend.components[i].label}, {"mass_fraction", pt.mass_fractions[i]}});
-        }
-        pts.push_back(q);
-    }
-    return j;
-}
-
-std::string subsets_text(const SubsetChoice& c, std::size_t n) {
-    std::ostringstream o;
-    o << fmt::format("Best {} of {} components: {} subsets tried\n", c.k, n, c.trials.size());
-    for (std::size_t i = 0; i < c.trials.size(); ++i) {
-        const auto& t = c.trials[i];
-        if (t.feasible)
-            o << fmt::format("  {} {:<60} objective {:.4f}\n", c.found && i == c.best ? "best" : "  ok", t.labels, t.objective_value);
-        else
-            o << fmt::format("  INFEASIBLE {:<54} {}\n", t.labels, t.message);
-    }
-    return o.str() + "\n";
-}
-
-std::string sigma_words(const std::vector<double>& v, double scale, const char* unit) {
-    std::string s;
-    for (double x : v) s += fmt::format("{}{:g}{}", s.empty() ? "" : ", ", x * scale, unit);
-    return v.size() > 1 ? "(" + s + ")" : s;
-}
-
-std::string tolerance_text(const ToleranceProblem& t, const ToleranceResult& r, double ms, const std::string& ellipse_source) {
-    std::ostringstream o;
-    o << fmt::format("\nProduction tolerance of '{}' (Monte Carlo: {} draws, seed {}, {:.0f} ms)\n", t.blend.name, r.draws, r.seed, ms);
-    o << fmt::format("  errors:     weighing sigma {} of each component's mass ({}), peak shift sigma {}, QE sigma {} (relative)\n",
-                     sigma_words(t.weighing_sigma, t.weighing_relative ? 100 : 1, t.weighing_relative ? " %" : ""),
-                     t.weighing_relative ? "relative" : "absolute, in mass fraction", sigma_words(t.peak_sigma_nm, 1, " nm"),
-                     sigma_words(t.qe_sigma, 100, " %"));
-    o << fmt::format("  ellipse:    {}\n              centre (target) x = {:.4f}, y = {:.4f}; one-step semi-axes {:.5f}, {:.5f} at {:.1f} deg\n",
-                     ellipse_source, r.target.x, r.target.y, t.ellipse.a, t.ellipse.b, t.ellipse.theta_deg);
-    o << fmt::format("  nominal:    x = {:.4f}, y = {:.4f}, {:.2f} steps from the target\n", r.nominal_xy.x, r.nominal_xy.y, r.nominal_steps);
-    o << fmt::format("  lamps:      x {:.4f} (sd {:.4f}), y {:.4f} (sd {:.4f}), correlation {:+.2f}\n", r.mean_x, r.sd_x, r.mean_y, r.sd_y,
-                     r.corr_xy);
-    o << fmt::format("  MacAdam steps from the target: mean {:.2f}, sd {:.2f}; median {:.2f}, 90 % {:.2f}, 95 % {:.2f}, 99 % {:.2f}, max {:.2f}\n",
-                     r.mean_steps, r.sd_steps, r.p50, r.p90, r.p95, r.p99, r.max_steps);
-    o << fmt::format("  inside the {:g}-step ellipse: {:.2f} % of lamps (standard error {:.2f} %, {} of {})\n", r.steps_limit, 100 * r.yield,
-                     100 * r.yield_standard_error, r.inside, r.draws);
-    return o.str();
 }
 
 }  // namespace
@@ -479,60 +317,18 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
         case Format::text:
             if (subsets) std::cout << subsets_text(*subsets, n_components);
             std::cout << fit_text(p, r, ms);
-            if (vm.count("sensitivity")) {
-                std::cout << "\n  sensitivity: one percentage point more of (then renormalised)\n"
-                          << fmt::format("  {:<40} {:>9} {:>9} {:>8} {:>9} {:>7}\n", "component", "du'", "dv'", "dCCT K", "dDuv", "dRa");
-                for (const auto& s : fraction_sensitivity(r.blend))
-                    std::cout << fmt::format("  {:<40} {:+9.5f} {:+9.5f} {:+8.1f} {:+9.5f} {:+7.2f}\n", s.label, s.d_u_prime, s.d_v_prime,
-                                             s.d_cct_K, s.d_duv, s.d_ra);
-            }
+            if (vm.count("sensitivity")) std::cout << sensitivity_text(fraction_sensitivity(r.blend));
             if (tr) std::cout << tolerance_text(*tp, *tr, tms, tolerance_ellipse_source(p.target));
             break;
         case Format::csv: {
-            auto cols = blend_columns(r.result);
-            auto vals = blend_values(r.result);
-            for (const char* k : {"fit_feasible", "fit_delta_uv_prime", "fit_objective_value"}) cols.push_back(k);
-            vals.push_back(r.feasible ? "yes" : "no");
-            vals.push_back(fmt::format("{:.6f}", r.distance_uv_prime));
-            vals.push_back(fmt::format("{:.4f}", r.objective_value));
-            for (std::size_t i = 0; i < p.blend.components.size(); ++i) {
-                cols.push_back(fmt::format("fit_{}", p.blend.components[i].label));
-                vals.push_back(fmt::format("{:.6f}", r.mass_fractions[i]));
-            }
-            if (tr) {
-                for (const char* k : {"tol_draws", "tol_seed", "tol_steps_limit", "tol_inside_share", "tol_inside_standard_error",
-                                      "tol_mean_steps", "tol_sd_steps", "tol_p50_steps", "tol_p90_steps", "tol_p95_steps", "tol_p99_steps",
-                                      "tol_max_steps", "tol_nominal_steps"})
-                    cols.push_back(k);
-                vals.push_back(fmt::format("{}", tr->draws));
-                vals.push_back(fmt::format("{}", tr->seed));
-                for (double v : {tr->steps_limit, tr->yield, tr->yield_standard_error, tr->mean_steps, tr->sd_steps, tr->p50, tr->p90, tr->p95,
-                                 tr->p99, tr->max_steps, tr->nominal_steps})
-                    vals.push_back(fmt::format("{:.6g}", v));
-            }
+            const auto [cols, vals] = fit_csv(p, r, tr ? &*tr : nullptr);
             std::cout << csv_line(cols) << '\n' << csv_line(vals) << '\n';
             break;
         }
         case Format::json: {
             auto j = fit_json(p, r, ms);
-            if (subsets) {
-                auto& a = j["subsets"] = nlohmann::ordered_json::array();
-                for (std::size_t i = 0; i < subsets->trials.size(); ++i) {
-                    const auto& t = subsets->trials[i];
-                    a.push_back({{"components", t.labels}, {"feasible", t.feasible}, {"objective_value", t.objective_value},
-                                 {"best", subsets->found && i == subsets->best}, {"message", t.message}});
-                }
-            }
-            if (tr) {
-                j["tolerance"] = {{"draws", tr->draws}, {"seed", tr->seed}, {"weighing_relative", tp->weighing_relative},
-                                  {"weighing_sigma", tp->weighing_sigma}, {"peak_sigma_nm", tp->peak_sigma_nm}, {"qe_sigma", tp->qe_sigma},
-                                  {"steps_limit", tr->steps_limit}, {"ellipse", tolerance_ellipse_source(p.target)}, {"inside_share", tr->yield},
-                                  {"inside_standard_error", tr->yield_standard_error}, {"inside", tr->inside},
-                                  {"nominal_steps", tr->nominal_steps}, {"mean_steps", tr->mean_steps}, {"sd_steps", tr->sd_steps},
-                                  {"p50_steps", tr->p50}, {"p90_steps", tr->p90}, {"p95_steps", tr->p95}, {"p99_steps", tr->p99},
-                                  {"max_steps", tr->max_steps}, {"mean_x", tr->mean_x}, {"mean_y", tr->mean_y}, {"sd_x", tr->sd_x},
-                                  {"sd_y", tr->sd_y}, {"time_ms", tms}};
-            }
+            if (subsets) j["subsets"] = subsets_json(*subsets);
+            if (tr) j["tolerance"] = tolerance_json(*tp, *tr, tms, tolerance_ellipse_source(p.target));
             std::cout << j.dump(2) << '\n';
             break;
         }

@@ -1,9 +1,10 @@
 // lampwright history: the lots recorded by qc, their statistics, and control charts.
 #include "cli_common.hpp"
 
-#include "lampwright/assessment_report.hpp"
-#include "lampwright/error.hpp"
-#include "lampwright/lot_history.hpp"
+#include "lampwright/report/assessment_report.hpp"
+#include "lampwright/core/error.hpp"
+#include "lampwright/production/lot_history.hpp"
+#include "lampwright/report/history_report.hpp"
 
 #include <filesystem>
 #include <fstream>

@@ -1,10 +1,10 @@
 // lampwright layer: the light of a phosphor conversion layer on a UV/violet LED.
 #include "cli_common.hpp"
 
-#include "lampwright/assessment_report.hpp"
-#include "lampwright/layer_design.hpp"
-#include "lampwright/layer_report.hpp"
-#include "lampwright/spectrum_io.hpp"
+#include "lampwright/report/assessment_report.hpp"
+#include "lampwright/led/layer_design.hpp"
+#include "lampwright/report/layer_report.hpp"
+#include "lampwright/io/spectrum_io.hpp"
 
 #include <fmt/format.h>
 
@@ -39,7 +39,7 @@ local codes and licensed practice.
     if (designs.size() != 1) throw UsageError{"layer: give exactly one design file (see lampwright layer --help)"};
 
     const LayerDesign design = load_layer_design(designs.front(), folders);
-    const LayerReport rep = naming_input(designs.front(), [&] { return layer_report(design); });
+    const LayerEvaluation rep = naming_input(designs.front(), [&] { return evaluate_layer_design(design); });
     for (const auto& w : rep.operating.assessment.warnings) print_warning(fmt::format("{}: {}", design.name, w));
     const std::string caution = layer_caution(rep);
     if (!caution.empty() && f != Format::text) std::cerr << "lampwright: CAUTION: " << caution << '\n';

@@ -1,7 +1,7 @@
 // lampwright: the command-line front end. It parses, calls the library, and prints.
 #include "cli_common.hpp"
 
-#include "lampwright/error.hpp"
+#include "lampwright/core/error.hpp"
 
 #include <cstring>
 #include <exception>

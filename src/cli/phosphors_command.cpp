@@ -1,9 +1,9 @@
 // lampwright phosphors: the phosphor library.
 #include "cli_common.hpp"
 
-#include "lampwright/assessment_report.hpp"
-#include "lampwright/blend_report.hpp"
-#include "lampwright/phosphor.hpp"
+#include "lampwright/report/assessment_report.hpp"
+#include "lampwright/report/blend_report.hpp"
+#include "lampwright/phosphor/phosphor.hpp"
 
 #include <iostream>
 

@@ -1,11 +1,11 @@
 // lampwright qc: judge a lot of measured lamps against a specification.
 #include "cli_common.hpp"
 
-#include "lampwright/assessment_report.hpp"
-#include "lampwright/error.hpp"
-#include "lampwright/lot_history.hpp"
-#include "lampwright/qc.hpp"
-#include "lampwright/qc_report.hpp"
+#include "lampwright/report/assessment_report.hpp"
+#include "lampwright/core/error.hpp"
+#include "lampwright/production/lot_history.hpp"
+#include "lampwright/production/qc.hpp"
+#include "lampwright/report/qc_report.hpp"
 
 #include <fmt/format.h>
 

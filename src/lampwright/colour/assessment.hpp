@@ -1,0 +1,47 @@
+#pragma once
+// Every figure a datasheet carries for one spectrum: colorimetry (CIE 15:2004), CCT and Duv
+// (Ohno 2014 or Robertson 1968), colour rendering (CIE 13.3-1995), luminous efficacy of
+// radiation and spectral shape figures.
+#include "lampwright/colour/colorimetry.hpp"
+#include "lampwright/colour/colour_rendering.hpp"
+#include "lampwright/colour/spectral_features.hpp"
+#include "lampwright/core/spectrum.hpp"
+#include "lampwright/colour/temperature.hpp"
+
+#include <optional>
+#include <string>
+#include <vector>
+
+namespace lampwright {
+
+struct AssessOptions {
+    // Observer for X, Y, Z, x, y, u', v'. CCT, Duv and colour rendering always use the CIE 1931
+    // 2-degree observer, as CIE 15:2004 and CIE 13.3 define them.
+    Observer observer = Observer::cie1931_2deg;
+    CctMethod cct_method = CctMethod::ohno2014;
+    bool spectral_features = true;
+};
+
+struct Assessment {
+    std::string name;
+    Observer observer = Observer::cie1931_2deg;
+    XYZ xyz;               // relative (k = 1), chosen observer
+    Chromaticity xy;       // chosen observer
+    UV uv_prime;           // CIE 1976 u', v', chosen observer
+    UV uv1960;             // CIE 1960 u, v, 2-degree observer
+    CctResult cct;         // 2-degree observer
+    std::optional<ColourRendering> rendering;  // present when the CCT is
+    double ler_lm_per_W = 0;
+    SpectralFeatures features;
+    std::vector<std::string> warnings;  // e.g. CIE 13.3 validity, no CCT
+};
+
+// Throws lampwright::Error when the spectrum has no visible power (no chromaticity exists).
+Assessment assess(const Spectrum& s, const AssessOptions& options = {});
+
+// The figures that follow from the CIE 13.3 sample tristimuli (cie133_tristimuli) and the radiant
+// integral alone: colorimetry with the 2-degree observer, CCT, Duv, colour rendering and LER; no
+// spectral features. assess() uses it; so does the blend optimiser, whose blends are linear in both.
+Assessment assess_from_tristimuli(const SampleTristimuli& tri, double radiant_integral, CctMethod method = CctMethod::ohno2014);
+
+}  // namespace lampwright

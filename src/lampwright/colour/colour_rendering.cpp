@@ -1,0 +1,150 @@
+#include "lampwright/colour/colour_rendering.hpp"
+
+#include "lampwright/colour/cie_tables.hpp"
+#include "lampwright/core/error.hpp"
+#include "lampwright/colour/illuminants.hpp"
+#include "lampwright/core/spectral_weights.hpp"
+
+#include <fmt/format.h>
+
+#include <algorithm>
+#include <cmath>
+#include <vector>
+
+namespace lampwright {
+
+namespace {
+
+using Tristimuli = SampleTristimuli;
+
+// Sample reflectance x colour-matching function products, built once (CIE 1931 observer).
+const SpectralWeights<48>& weights() {
+    static const SpectralWeights<48> w = [] {
+        SpectralWeights<48> m;
+        const auto& cmf = colour_matching_functions(Observer::cie1931_2deg);
+        const auto& tcs = cie133_test_samples();
+        for (int k = 0; k < 3; ++k)
+            for (int j = 0; j < kColourSize; ++j) {
+                m.at(k, j) = cmf.xyz[k][j];
+                for (int i = 0; i < 14; ++i) m.at(3 + 3 * i + k, j) = tcs[i][j] * cmf.xyz[k][j];
+            }
+        return m;
+    }();
+    return w;
+}
+
+Tristimuli scaled(const Tristimuli& t, double f) {
+    Tristimuli r;
+    for (std::size_t i = 0; i < r.size(); ++i) r[i] = t[i] * f;
+    return r;
+}
+
+// Reference tristimuli of Planckian radiators on a 1-mired grid over 1000-5000 K, each scaled to a
+// white of Y = 1; interpolated with 4-point Lagrange polynomials (error < 1e-7 relative).
+constexpr double kMiredFirst = 1e6 / kCie133DaylightFromK - 2.0;
+constexpr double kMiredLast = 1000.0 + 2.0;
+
+const std::vector<Tristimuli>& planck_reference_table() {
+    static const std::vector<Tristimuli> table = [] {
+        std::vector<Tristimuli> t;
+        for (double m = kMiredFirst; m <= kMiredLast + 1e-9; m += 1.0) {
+            const auto p = colour_range_values(planckian(1e6 / m));
+            const Tristimuli r = weights().apply(p.data());
+            t.push_back(scaled(r, 1.0 / r[1]));
+        }
+        return t;
+    }();
+    return table;
+}
+
+Tristimuli planck_reference(double cct_K) {
+    const auto& table = planck_reference_table();
+    const double pos = 1e6 / cct_K - kMiredFirst;
+    const int i = std::clamp(static_cast<int>(std::floor(pos)), 1, static_cast<int>(table.size()) - 3);
+    const double x = pos - i;  // nodes at -1, 0, 1, 2 relative to i
+    const double w0 = -x * (x - 1) * (x - 2) / 6, w1 = (x + 1) * (x - 1) * (x - 2) / 2;
+    const double w2 = -(x + 1) * x * (x - 2) / 2, w3 = (x + 1) * x * (x - 1) / 6;
+    Tristimuli r;
+    for (std::size_t k = 0; k < r.size(); ++k)
+        r[k] = w0 * table[i - 1][k] + w1 * table[i][k] + w2 * table[i + 1][k] + w3 * table[i + 2][k];
+    return r;
+}
+
+// Daylight reference: S0 + M1 S1 + M2 S2 is linear, so its tristimuli are too.
+const std::array<Tristimuli, 3>& daylight_component_tristimuli() {
+    static const std::array<Tristimuli, 3> comps = [] {
+        std::array<Tristimuli, 3> c;
+        for (int k = 0; k < 3; ++k) {
+            const auto v = colour_range_values(daylight_components()[k]);
+            c[k] = weights().apply(v.data());
+        }
+        return c;
+    }();
+    return comps;
+}
+
+Tristimuli daylight_reference(double cct_K) {
+    // Above 25000 K the CIE daylight formula is extrapolated (CIE 13.3 gives no other reference).
+    const auto w = daylight_weights(daylight_chromaticity(cct_K, true));
+    const auto& c = daylight_component_tristimuli();
+    Tristimuli r;
+    for (std::size_t k = 0; k < r.size(); ++k) r[k] = c[0][k] + w.m1 * c[1][k] + w.m2 * c[2][k];
+    return r;
+}
+
+struct CieUV {
+    double u, v;
+};
+CieUV uv_at(const Tristimuli& t, int row) {
+    const double d = t[row] + 15 * t[row + 1] + 3 * t[row + 2];
+    return {4 * t[row] / d, 6 * t[row + 1] / d};
+}
+// CIE 13.3 eq. (3): c and d of the von Kries transformation in CIE 1960 uv.
+double von_kries_c(CieUV p) { return (4 - p.u - 10 * p.v) / p.v; }
+double von_kries_d(CieUV p) { return (1.708 * p.v + 0.404 - 1.481 * p.u) / p.v; }
+
+}  // namespace
+
+SampleTristimuli cie133_tristimuli(const double* colour_range_values) { return weights().apply(colour_range_values); }
+
+ColourRendering colour_rendering_from_tristimuli(const SampleTristimuli& test, double cct_K) {
+    if (!(cct_K > 0)) throw Error("colour rendering needs a valid CCT");
+    ColourRendering out;
+    out.reference_cct_K = cct_K;
+    out.reference = cct_K < kCie133DaylightFromK ? ReferenceIlluminant::planckian : ReferenceIlluminant::daylight;
+    const Tristimuli ref = out.reference == ReferenceIlluminant::planckian ? planck_reference(cct_K) : daylight_reference(cct_K);
+
+    const CieUV wk = uv_at(test, 0), wr = uv_at(ref, 0);
+    out.dc = std::hypot(wk.u - wr.u, wk.v - wr.v);
+    const double ck = von_kries_c(wk), dk = von_kries_d(wk), cr = von_kries_c(wr), dr = von_kries_d(wr);
+    const double cf = cr / ck, df = dr / dk;
+    // CIE 13.3 eq. (4): the adapted test white (equals the reference white, up to rounding).
+    const double denom_w = 16.518 + 1.481 * cf * ck - df * dk;
+    const double uw = (10.872 + 0.404 * cf * ck - 4 * df * dk) / denom_w, vw = 5.520 / denom_w;
+
+    double sum8 = 0;
+    for (int i = 0; i < 14; ++i) {
+        const int row = 3 + 3 * i;
+        const CieUV sk = uv_at(test, row), sr = uv_at(ref, row);
+        const double yk = 100 * test[row + 1] / test[1], yr = 100 * ref[row + 1] / ref[1];
+        const double ci = von_kries_c(sk), di = von_kries_d(sk);
+        const double denom = 16.518 + 1.481 * cf * ci - df * di;
+        const double uk = (10.872 + 0.404 * cf * ci - 4 * df * di) / denom, vk = 5.520 / denom;
+        // CIE 13.3 eq. (5): CIE 1964 U*V*W*.
+        const double w_k = 25 * std::cbrt(yk) - 17, w_r = 25 * std::cbrt(yr) - 17;
+        const double du = 13 * w_k * (uk - uw) - 13 * w_r * (sr.u - wr.u);
+        const double dv = 13 * w_k * (vk - vw) - 13 * w_r * (sr.v - wr.v);
+        const double de = std::sqrt(du * du + dv * dv + (w_k - w_r) * (w_k - w_r));
+        out.ri[i] = 100 - 4.6 * de;  // CIE 13.3 eq. (6)
+        if (i < 8) sum8 += out.ri[i];
+    }
+    out.ra = sum8 / 8;  // CIE 13.3 eq. (7)
+    return out;
+}
+
+ColourRendering colour_rendering(const Spectrum& s, double cct_K) {
+    const auto v = colour_range_values(s);
+    return colour_rendering_from_tristimuli(cie133_tristimuli(v.data()), cct_K);
+}
+
+}  // namespace lampwright

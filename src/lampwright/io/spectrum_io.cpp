@@ -1,0 +1,253 @@
+#include "lampwright/io/spectrum_io.hpp"
+
+#include "lampwright/core/error.hpp"
+#include "lampwright/core/interpolation.hpp"
+#include "lampwright/core/text_file.hpp"
+
+#include <fmt/format.h>
+
+#include <algorithm>
+#include <cerrno>
+#include <cmath>
+#include <cstdlib>
+#include <filesystem>
+#include <fstream>
+#include <istream>
+#include <cstring>
+#include <optional>
+#include <ostream>
+#include <ranges>
+#include <sstream>
+
+#include <pugixml.hpp>
+
+namespace lampwright {
+
+namespace {
+
+std::string trim(std::string_view s) {
+    const auto b = s.find_first_not_of(" \t\r\n\v\f");
+    if (b == std::string_view::npos) return {};
+    const auto e = s.find_last_not_of(" \t\r\n\v\f");
+    return std::string(s.substr(b, e - b + 1));
+}
+
+enum class Separator { comma, semicolon, tab, space };
+
+Separator detect_separator(const std::string& line) {
+    if (line.find(';') != std::string::npos) return Separator::semicolon;
+    if (line.find('\t') != std::string::npos) return Separator::tab;  // before ',' so "380<TAB>0,12" reads as a decimal comma
+    if (line.find(',') != std::string::npos) return Separator::comma;
+    return Separator::space;
+}
+
+std::vector<std::string> split(const std::string& line, Separator sep) {
+    std::vector<std::string> out;
+    if (sep == Separator::space) {
+        std::size_t i = 0;
+        while (i < line.size()) {
+            while (i < line.size() && std::isspace(static_cast<unsigned char>(line[i]))) ++i;
+            if (i >= line.size()) break;
+            std::size_t j = i;
+            while (j < line.size() && !std::isspace(static_cast<unsigned char>(line[j]))) ++j;
+            out.push_back(line.substr(i, j - i));
+            i = j;
+        }
+        return out;
+    }
+    const char c = sep == Separator::comma ? ',' : (sep == Separator::semicolon ? ';' : '\t');
+    std::size_t start = 0;
+    while (true) {
+        const auto pos = line.find(c, start);
+        out.push_back(trim(std::string_view(line).substr(start, pos == std::string::npos ? std::string::npos : pos - start)));
+        if (pos == std::string::npos) break;
+        start = pos + 1;
+    }
+    // A trailing separator at the end of a row is common in spreadsheet exports.
+    if (out.size() > 1 && out.back().empty()) out.pop_back();
+    return out;
+}
+
+// Parses a whole field as a number; nullopt when it is not one. NaN/Inf are reported separately.
+std::optional<double> parse_number(std::string field, bool decimal_comma) {
+    if (field.empty()) return std::nullopt;
+    if (decimal_comma) std::replace(field.begin(), field.end(), ',', '.');
+    const char* begin = field.c_str();
+    char* end = nullptr;
+    errno = 0;
+    const double v = std::strtod(begin, &end);
+    if (end == begin || *end != '\0') return std::nullopt;
+    return v;
+}
+
+bool looks_non_finite(const std::string& field) {
+    std::string f = field;
+    std::transform(f.begin(), f.end(), f.begin(), [](unsigned char ch) { return std::tolower(ch); });
+    if (!f.empty() && (f[0] == '+' || f[0] == '-')) f.erase(0, 1);
+    return f == "nan" || f == "inf" || f == "infinity";
+}
+
+// Checks shared by every format: wavelength unit and range, then per spectrum a positive value
+// and negative noise. columns[0] holds the wavelengths; lines[i] the source line of row i.
+SpectrumFile validated_spectra(const std::string& source, const std::vector<std::string>& names, std::vector<std::vector<double>>& columns,
+                               const std::vector<std::size_t>& value_lines, const SpectrumReadOptions& options) {
+    const auto& wl = columns[0];
+    if (wl.back() < 100.0 || wl.front() > 100000.0)
+        throw InputError(source, value_lines.front(), fmt::format("wavelengths run {}-{}; the first column must be the wavelength in nm", wl.front(), wl.back()));
+    if (options.check_range && (wl.front() > options.min_required_nm + 1e-9 || wl.back() < options.max_required_nm - 1e-9))
+        throw InputError(source, 0, fmt::format("covers {:g}-{:g} nm; at least {:g}-{:g} nm is needed for colorimetry (CIE 15:2004)",
+                                                wl.front(), wl.back(), options.min_required_nm, options.max_required_nm));
+
+    SpectrumFile result;
+    for (std::size_t c = 1; c < columns.size(); ++c) {
+        SampledSpectrum s;
+        s.name = names[c - 1];
+        s.wavelengths_nm = wl;
+        s.values = std::move(columns[c]);
+        const double peak = *std::max_element(s.values.begin(), s.values.end());
+        if (options.allow_negative) {
+            result.spectra.push_back(std::move(s));
+            continue;
+        }
+        if (!(peak > 0.0)) throw InputError(source, 0, fmt::format("spectrum '{}' has no positive value", s.name));
+        std::size_t clipped = 0;
+        for (std::size_t i = 0; i < s.values.size(); ++i) {
+            if (s.values[i] >= 0.0) continue;
+            if (-s.values[i] > options.negative_noise_fraction * peak)
+                throw InputError(source, value_lines[i], fmt::format("spectrum '{}' has value {:g} at {:g} nm, negative beyond noise ({:g} % of its peak)",
+                                                                     s.name, s.values[i], wl[i], options.negative_noise_fraction * 100));
+            s.values[i] = 0.0;
+            ++clipped;
+        }
+        if (clipped > 0)
+            result.warnings.push_back(fmt::format("{}: spectrum '{}': {} small negative value(s) (noise) set to zero", source, s.name, clipped));
+        result.spectra.push_back(std::move(s));
+    }
+    return result;
+}
+
+}  // namespace
+
+std::string file_stem(const std::string& path) { return std::filesystem::path(path).stem().string(); }
+
+SpectrumFile parse_spectrum_text(std::istream& in, const std::string& source, const std::string& stem,
+                                 const SpectrumReadOptions& options) {
+    std::vector<std::string> names;
+    std::vector<std::vector<double>> columns;  // [0] wavelengths
+    std::vector<std::size_t> value_lines;       // file line of each row
+    std::optional<Separator> sep;
+    std::size_t ncols = 0;
+    bool header_seen = false;
+
+    std::string raw;
+    std::size_t line_no = 0;
+    while (std::getline(in, raw)) {
+        ++line_no;
+        if (line_no == 1 && raw.size() >= 3 && raw.compare(0, 3, "\xEF\xBB\xBF") == 0) raw.erase(0, 3);
+        if (const auto hash = raw.find('#'); hash != std::string::npos) raw.erase(hash);
+        const std::string line = trim(raw);
+        if (line.empty()) continue;
+        if (!sep) sep = detect_separator(line);
+        const bool decimal_comma = *sep != Separator::comma;  // "0,123" is a decimal comma unless commas separate
+        auto fields = split(line, *sep);
+        if (fields.size() < 2)
+            throw InputError(source, line_no, fmt::format("expected at least two columns (wavelength_nm and a value), found {}", fields.size()));
+
+        if (!header_seen && columns.empty() && !parse_number(fields[0], decimal_comma) && !looks_non_finite(fields[0])) {
+            header_seen = true;
+            ncols = fields.size();
+            for (std::size_t i = 1; i < fields.size(); ++i) {
+                if (fields[i].empty()) throw InputError(source, line_no, fmt::format("header column {} has no name", i + 1));
+                names.push_back(fields[i]);
+            }
+            continue;
+        }
+        if (ncols == 0) ncols = fields.size();
+        if (fields.size() != ncols)
+            throw InputError(source, line_no, fmt::format("row has {} columns, expected {}", fields.size(), ncols));
+        if (columns.empty()) columns.resize(ncols);
+        for (std::size_t c = 0; c < ncols; ++c) {
+            if (looks_non_finite(fields[c]))
+                throw InputError(source, line_no, fmt::format("column {} is '{}', not a finite number", c + 1, fields[c]));
+            const auto v = parse_number(fields[c], decimal_comma);
+            if (!v) throw InputError(source, line_no, fmt::format("column {} is '{}', not a number", c + 1, fields[c]));
+            if (!std::isfinite(*v)) throw InputError(source, line_no, fmt::format("column {} is '{}', not a finite number", c + 1, fields[c]));
+            columns[c].push_back(*v);
+        }
+        const auto& wl = columns[0];
+        if (wl.back() <= 0.0) throw InputError(source, line_no, fmt::format("wavelength {} nm is not positive", wl.back()));
+        if (wl.size() >= 2 && wl[wl.size() - 1] <= wl[wl.size() - 2])
+            throw InputError(source, line_no, fmt::format("wavelength {} nm does not increase (previous row {} nm); wavelengths must be strictly increasing",
+                                                          wl[wl.size() - 1], wl[wl.size() - 2]));
+        value_lines.push_back(line_no);
+    }
+    if (in.bad()) throw InputError(source, 0, "could not be read");
+    if (columns.empty() || columns[0].size() < 2) throw InputError(source, 0, "holds no spectral data (need rows of wavelength_nm,value)");
+
+    std::vector<std::string> column_names;
+    for (std::size_t c = 1; c < columns.size(); ++c)
+        column_names.push_back(columns.size() == 2 ? stem : (header_seen ? names[c - 1] : fmt::format("{}:{}", stem, c + 1)));
+    return validated_spectra(source, column_names, columns, value_lines, options);
+}
+
+SpectrumFile parse_tm27_xml(const std::string& bytes, const std::string& source, const std::string& stem, const SpectrumReadOptions& options) {
+    pugi::xml_document doc;
+    const pugi::xml_parse_result ok = doc.load_buffer(bytes.data(), bytes.size());
+    auto line_at = [&](std::ptrdiff_t offset) {
+        return static_cast<std::size_t>(1 + std::count(bytes.begin(), bytes.begin() + std::clamp<std::ptrdiff_t>(offset, 0, static_cast<std::ptrdiff_t>(bytes.size())), '\n'));
+    };
+    if (!ok) throw InputError(source, line_at(ok.offset), fmt::format("XML: {}", ok.description()));
+    auto local = [](const char* name) {
+        const char* colon = std::strrchr(name, ':');
+        return std::string(colon ? colon + 1 : name);
+    };
+    if (local(doc.document_element().name()) != "IESTM2714")
+        throw InputError(source, 1, fmt::format("XML root is <{}>, not an IES TM-27 <IESTM2714> document", doc.document_element().name()));
+    std::vector<std::vector<double>> columns(2);
+    std::vector<std::size_t> lines;
+    for (pugi::xml_node n : doc.select_nodes("//*[local-name()='SpectralData']") | std::views::transform([](const pugi::xpath_node& x) { return x.node(); })) {
+        const std::size_t line = line_at(n.offset_debug());
+        const char* wl_text = n.attribute("wavelength").value();
+        const std::string value_text = trim(n.child_value());
+        const auto wl = parse_number(wl_text, false);
+        const auto v = parse_number(value_text, false);
+        if (!wl || !std::isfinite(*wl)) throw InputError(source, line, fmt::format("SpectralData wavelength '{}' is not a finite number", wl_text));
+        if (!v || !std::isfinite(*v) || looks_non_finite(value_text)) throw InputError(source, line, fmt::format("SpectralData value '{}' is not a finite number", value_text));
+        if (!columns[0].empty() && *wl <= columns[0].back())
+            throw InputError(source, line, fmt::format("wavelength {} nm does not increase (previous {} nm); wavelengths must be strictly increasing", *wl, columns[0].back()));
+        columns[0].push_back(*wl);
+        columns[1].push_back(*v);
+        lines.push_back(line);
+    }
+    if (columns[0].size() < 2) throw InputError(source, 0, "IES TM-27 document holds no <SpectralData wavelength=\"...\"> elements");
+    (void)local;
+    return validated_spectra(source, {stem}, columns, lines, options);
+}
+
+SpectrumFile parse_spectrum_bytes(const std::string& bytes, const std::string& source, const SpectrumReadOptions& options) {
+    const auto first = bytes.find_first_not_of(" \t\r\n\xEF\xBB\xBF");
+    if (first != std::string::npos && bytes[first] == '<') return parse_tm27_xml(bytes, source, file_stem(source), options);
+    std::istringstream in(bytes);
+    return parse_spectrum_text(in, source, file_stem(source), options);
+}
+
+SpectrumFile read_spectrum_file(const std::string& path, const SpectrumReadOptions& options) {
+    return parse_spectrum_bytes(read_text_file(path), path, options);
+}
+
+Spectrum read_single_spectrum(const std::string& path) {
+    SpectrumReadOptions opt;
+    opt.check_range = false;
+    const SpectrumFile f = read_spectrum_file(path, opt);
+    if (f.spectra.size() != 1)
+        throw InputError(path, 0, fmt::format("must hold one spectrum (two columns), not {}", f.spectra.size()));
+    return resample_to_1nm(f.spectra.front());
+}
+
+void write_spectrum_csv(std::ostream& out, const Spectrum& s, const std::string& column) {
+    out << "wavelength_nm," << column << '\n';
+    for (std::size_t i = 0; i < s.values.size(); ++i)
+        out << fmt::format("{},{:.8g}\n", s.first_nm + static_cast<int>(i), s.values[i]);
+}
+
+}  // namespace lampwright

@@ -1,0 +1,174 @@
+#include "lampwright/led/layer_design.hpp"
+
+#include "lampwright/phosphor/blend.hpp"
+#include "lampwright/core/interpolation.hpp"
+#include "lampwright/io/spectrum_io.hpp"
+
+#include <fmt/format.h>
+
+#include <algorithm>
+#include <filesystem>
+
+namespace lampwright {
+
+namespace {
+
+
+Spectrum read_one_spectrum(const TomlDoc& doc, const toml::node* node, const std::string& where, const std::string& path) {
+    try {
+        return read_single_spectrum(path);
+    } catch (const InputError& e) {
+        doc.fail(node, where, e.what());
+    }
+}
+
+}  // namespace
+
+bool is_layer_design(const TomlDoc& doc) { return doc.root().get("layer") != nullptr; }
+
+LayerDesign layer_design_from_toml(const TomlDoc& doc, const std::vector<std::string>& extra_folders,
+                                   const std::vector<std::string>& extra_root_keys) {
+    const auto& r = doc.root();
+    std::vector<std::string> known{"name", "pump", "layer", "operating", "phosphor_folders", "component"};
+    known.insert(known.end(), extra_root_keys.begin(), extra_root_keys.end());
+    doc.only_keys(r, known, "");
+    LayerDesign d;
+    d.name = doc.require_string(r, "name", "");
+
+    const auto* pump = doc.table(r, "pump", "");
+    if (!pump) doc.fail(&r, "", "missing [pump] (peak_nm and fwhm_nm, or spectrum)");
+    doc.only_keys(*pump, {"peak_nm", "fwhm_nm", "power_W", "spectrum"}, "pump");
+    if (auto file = doc.string(*pump, "spectrum", "pump")) {
+        d.pump_spectrum = read_one_spectrum(doc, pump->get("spectrum"), "pump.spectrum", path_relative_to(doc.source(), *file));
+        const auto& v = d.pump_spectrum->values;
+        const auto peak = static_cast<double>(std::max_element(v.begin(), v.end()) - v.begin()) + d.pump_spectrum->first_nm;
+        d.pump = Excitation::led(peak, 0);
+        if (peak < 340 || peak > 430) doc.fail(pump->get("spectrum"), "pump.spectrum", fmt::format("peaks at {:g} nm, outside the UV/violet range 340-430 nm", peak));
+    } else {
+        const double peak = doc.require_number(*pump, "peak_nm", "pump");
+        const double fwhm = doc.require_number(*pump, "fwhm_nm", "pump");
+        if (peak < 1.0) doc.fail(pump->get("peak_nm"), "pump.peak_nm", fmt::format("{:g} looks like micrometres; give nanometres", peak));
+        if (peak < 340 || peak > 430)
+            doc.fail(pump->get("peak_nm"), "pump.peak_nm", fmt::format("{:g} nm is outside the UV/violet LED range 340-430 nm", peak));
+        if (!(fwhm > 0) || fwhm > 60) doc.fail(pump->get("fwhm_nm"), "pump.fwhm_nm", fmt::format("must lie in (0, 60] nm, not {:g}", fwhm));
+        d.pump = Excitation::led(peak, fwhm);
+    }
+    if (auto p = doc.number(*pump, "power_W", "pump")) {
+        if (!(*p > 0)) doc.fail(pump->get("power_W"), "pump.power_W", fmt::format("must be greater than zero, not {:g}", *p));
+        if (*p > 1000) doc.fail(pump->get("power_W"), "pump.power_W", fmt::format("{:g} W is not an LED pump (mW given as W?)", *p));
+        d.pump_power_W = *p;
+    }
+
+    const auto* layer = doc.table(r, "layer", "");
+    if (!layer) doc.fail(&r, "", "missing [layer] with thickness_um");
+    doc.only_keys(*layer, {"thickness_um", "binder_density_g_per_cm3", "mass_absorption_cm2_per_g", "pump_path_factor", "emission_path_factor"}, "layer");
+    d.thickness_um = doc.require_number(*layer, "thickness_um", "layer");
+    if (d.thickness_um < 0) doc.fail(layer->get("thickness_um"), "layer.thickness_um", "must not be negative");
+    if (d.thickness_um > 10000) doc.fail(layer->get("thickness_um"), "layer.thickness_um", fmt::format("{:g} um is over 1 cm: micrometres expected", d.thickness_um));
+    auto positive = [&](const char* key, double& out) {
+        if (auto v = doc.number(*layer, key, "layer")) {
+            if (!(*v > 0)) doc.fail(layer->get(key), key_path("layer", key), fmt::format("must be greater than zero, not {:g}", *v));
+            out = *v;
+        }
+    };
+    positive("binder_density_g_per_cm3", d.binder_density_g_per_cm3);
+    positive("mass_absorption_cm2_per_g", d.mass_absorption_cm2_per_g);
+    positive("pump_path_factor", d.pump_path_factor);
+    positive("emission_path_factor", d.emission_path_factor);
+
+    if (const auto* op = doc.table(r, "operating", "")) {
+        doc.only_keys(*op, {"temperature_C"}, "operating");
+        if (auto t = doc.number(*op, "temperature_C", "operating")) {
+            if (*t < -60 || *t > 300) doc.fail(op->get("temperature_C"), "operating.temperature_C", fmt::format("{:g} degC is outside -60..300 (kelvin given?)", *t));
+            d.temperature_C = *t;
+        }
+    }
+
+    std::vector<std::string> folders;
+    for (const auto& f : doc.strings(r, "phosphor_folders", "")) folders.push_back(path_relative_to(doc.source(), f));
+    folders.insert(folders.end(), extra_folders.begin(), extra_folders.end());
+    const PhosphorLibrary library = folders.empty() ? PhosphorLibrary::builtin() : PhosphorLibrary::with_folders(folders);
+
+    const auto* comps = doc.array(r, "component", "");
+    if (!comps || comps->empty()) doc.fail(&r, "", "no [[component]] given");
+    double total = 0;
+    for (std::size_t i = 0; i < comps->size(); ++i) {
+        const std::string where = fmt::format("component[{}]", i + 1);
+        const auto* c = comps->get(i)->as_table();
+        if (!c) doc.fail(comps->get(i), where, "must be a [[component]] table");
+        doc.only_keys(*c, {"phosphor", "spectrum", "absorption_spectrum", "quantum_efficiency", "loading", "label", "min_loading", "max_loading"}, where);
+        LayerComponent lc;
+        lc.loading = doc.require_number(*c, "loading", where);
+        if (!(lc.loading > 0) || lc.loading >= 1)
+            doc.fail(c->get("loading"), key_path(where, "loading"), fmt::format("must be a mass fraction in (0, 1), not {:g} (percent?)", lc.loading));
+        total += lc.loading;
+        const auto id = doc.string(*c, "phosphor", where);
+        const auto em = doc.string(*c, "spectrum", where);
+        if (id && em) doc.fail(c, where, "give either 'phosphor' or 'spectrum', not both");
+        if (!id && !em) doc.fail(c, where, "needs 'phosphor' (a library id) or 'spectrum' + 'absorption_spectrum' + 'quantum_efficiency'");
+        if (id) {
+            try {
+                lc.phosphor = library.find(*id);
+            } catch (const Error& e) {
+                doc.fail(c->get("phosphor"), key_path(where, "phosphor"), e.what());
+            }
+        } else {
+            const std::string path = path_relative_to(doc.source(), *em);
+            try {
+                lc.phosphor = phosphor_from_emission_file(path);
+            } catch (const InputError& e) {
+                doc.fail(c->get("spectrum"), key_path(where, "spectrum"), e.what());
+            }
+            const auto abs_file = doc.string(*c, "absorption_spectrum", where);
+            if (!abs_file) doc.fail(c, where, "a measured 'spectrum' needs 'absorption_spectrum' (CSV of relative absorption per unit mass)");
+            const Spectrum a = read_one_spectrum(doc, c->get("absorption_spectrum"), key_path(where, "absorption_spectrum"), path_relative_to(doc.source(), *abs_file));
+            for (std::size_t k = 0; k < a.values.size(); ++k) {
+                lc.phosphor.absorption_nm.push_back(a.first_nm + static_cast<double>(k));
+                lc.phosphor.absorption_rel.push_back(std::max(0.0, a.values[k]));
+            }
+            if (!doc.number(*c, "quantum_efficiency", where)) doc.fail(c, where, "a measured 'spectrum' needs 'quantum_efficiency'");
+        }
+        if (auto q = doc.number(*c, "quantum_efficiency", where)) {
+            if (*q <= 0 || *q > 1)
+                doc.fail(c->get("quantum_efficiency"), key_path(where, "quantum_efficiency"), fmt::format("must be a fraction in (0, 1], not {:g} (percent?)", *q));
+            lc.quantum_efficiency = *q;
+        }
+        lc.label = doc.string(*c, "label", where).value_or(lc.phosphor.id);
+        try {
+            (void)absorption_for(lc.phosphor, d.pump.fwhm_nm > 0 ? d.pump : Excitation::led(d.pump.peak_nm, 1.0));
+            if (!lc.quantum_efficiency) (void)quantum_efficiency_for(lc.phosphor, d.pump);
+            (void)emission_for_excitation(lc.phosphor, d.pump);
+        } catch (const InputError&) {
+            throw;
+        } catch (const Error& e) {
+            doc.fail(c, where, e.what());
+        }
+        d.components.push_back(std::move(lc));
+    }
+    if (total >= 1) doc.fail(comps, "component", fmt::format("loadings add up to {:g}; they must sum below 1 (the rest is binder)", total));
+    return d;
+}
+
+LayerDesign load_layer_design(const std::string& path, const std::vector<std::string>& extra_folders) {
+    const TomlDoc doc = TomlDoc::from_file(path);
+    return layer_design_from_toml(doc, extra_folders);
+}
+
+std::string layer_design_to_toml(const LayerDesign& d) {
+    std::string o = fmt::format("name = {}\n\n[pump]\n", toml_quote(d.name));
+    o += fmt::format("peak_nm = {:g}\nfwhm_nm = {:g}\npower_W = {:g}\n", d.pump.peak_nm, d.pump.fwhm_nm, d.pump_power_W);
+    o += fmt::format("\n[layer]\nthickness_um = {:.3f}\nbinder_density_g_per_cm3 = {:g}\nmass_absorption_cm2_per_g = {:g}\n"
+                     "pump_path_factor = {:g}\nemission_path_factor = {:g}\n",
+                     d.thickness_um, d.binder_density_g_per_cm3, d.mass_absorption_cm2_per_g, d.pump_path_factor, d.emission_path_factor);
+    o += fmt::format("\n[operating]\ntemperature_C = {:g}\n", d.temperature_C);
+    for (const auto& c : d.components) {
+        o += "\n[[component]]\n";
+        o += fmt::format("phosphor = {}\n", toml_quote(c.phosphor.id));
+        if (c.label != c.phosphor.id) o += fmt::format("label = {}\n", toml_quote(c.label));
+        o += fmt::format("loading = {:.6f}\n", c.loading);
+        if (c.quantum_efficiency) o += fmt::format("quantum_efficiency = {:g}\n", *c.quantum_efficiency);
+    }
+    return o;
+}
+
+}  // namespace lampwright

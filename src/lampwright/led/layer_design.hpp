@@ -1,0 +1,31 @@
+#pragma once
+// LED layer design files (TOML):
+//
+//   name = "395 nm module, 60 um layer"
+//   [pump]       peak_nm = 395   fwhm_nm = 12   power_W = 1.0     # or spectrum = "pump.csv"
+//   [layer]      thickness_um = 60
+//                binder_density_g_per_cm3 = 1.1                   # optional (silicone)
+//                mass_absorption_cm2_per_g = 1000                  # optional: kappa for relative absorption 1
+//                pump_path_factor = 1.0   emission_path_factor = 1.0   # optional geometry factors
+//   [operating]  temperature_C = 85                                # optional
+//   phosphor_folders = ["mine"]                                     # optional
+//   [[component]]
+//   phosphor = "BaMgAl10O17:Eu2+"      # or spectrum = "em.csv" + absorption_spectrum = "abs.csv" + quantum_efficiency
+//   loading = 0.10                     # mass fraction of the phosphor in the layer
+#include "lampwright/led/layer.hpp"
+#include "lampwright/io/toml_access.hpp"
+
+#include <string>
+
+namespace lampwright {
+
+// True when the document is a layer design (it has a [layer] table).
+bool is_layer_design(const TomlDoc& doc);
+LayerDesign layer_design_from_toml(const TomlDoc& doc, const std::vector<std::string>& extra_folders = {},
+                                   const std::vector<std::string>& extra_root_keys = {});
+LayerDesign load_layer_design(const std::string& path, const std::vector<std::string>& extra_folders = {});
+
+// Writes a design back as TOML, loadable by load_layer_design.
+std::string layer_design_to_toml(const LayerDesign& d);
+
+}  // namespace lampwright

@@ -1,0 +1,42 @@
+#pragma once
+// Fitting an LED layer design to a target white: the phosphor loadings (and, when asked, the
+// layer thickness) that put the light at the operating temperature on the target, with the best
+// figure of the objective within the chromaticity tolerance. The layer's colour is not linear in
+// the loadings (Beer-Lambert and re-absorption), so this always uses NLopt COBYLA on the
+// logarithms of the loadings (and thickness), first onto the target from several deterministic
+// starts, then for the objective within the tolerance; the answer is re-checked with
+// evaluate_layer. Problem and result types follow the blend optimiser's.
+#include "lampwright/led/layer.hpp"
+#include "lampwright/design/optimiser.hpp"
+
+namespace lampwright {
+
+struct LayerFitProblem {
+    LayerDesign design;  // the starting design
+    Target target;
+    FitObjective objective = FitObjective::closest_to_start;  // "efficacy" = lm per W of pump
+    double r9_weight = 0.5;
+    // Chromaticity constraint: inside the target's n-step MacAdam ellipse when it has one, else
+    // within this u'v' distance (as for blends: target_distance_ratio2).
+    double tolerance_uv_prime = kDefaultFitToleranceUvPrime;
+    bool fit_thickness = false;
+    double min_thickness_um = 5, max_thickness_um = 2000;
+    double max_total_loading = 0.8;  // phosphor mass fraction of the layer, all components
+    std::optional<double> min_ra, min_r9;
+};
+
+struct LayerFitResult {
+    bool feasible = false;
+    std::string message;
+    LayerDesign design;        // the fitted design
+    LayerEvaluation evaluation;    // evaluate_layer_design(design)
+    double distance_uv_prime = 0;
+    std::optional<double> macadam_steps;
+    double objective_value = 0;
+    std::vector<ConstraintReport> constraints;
+    int evaluations = 0;
+};
+
+LayerFitResult fit_layer(const LayerFitProblem& problem, int max_evaluations = 3000);
+
+}  // namespace lampwright

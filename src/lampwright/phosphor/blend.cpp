@@ -1,0 +1,172 @@
+#include "lampwright/phosphor/blend.hpp"
+
+#include "lampwright/colour/colorimetry.hpp"
+#include "lampwright/core/error.hpp"
+
+#include <fmt/format.h>
+
+#include <array>
+#include <cmath>
+
+namespace lampwright {
+
+namespace {
+
+constexpr double kStokesTolerance = 0.01;  // share of model photons allowed on the short side
+
+double sum_of(const Spectrum& s) { return integrate_1nm(s.values); }
+
+double visible_power(const Spectrum& s) {
+    double p = 0;
+    for (int nm = 380; nm <= 780; ++nm)
+        if (s.covers(nm)) p += s.values[static_cast<std::size_t>(nm - s.first_nm)];
+    return p;
+}
+
+}  // namespace
+
+Spectrum emission_for_excitation(const Phosphor& p, const Excitation& e, double shift_nm) {
+    Spectrum n = emission_photons(p, shift_nm);
+    double short_side = 0;
+    for (std::size_t i = 0; i < n.values.size(); ++i) {
+        if (n.first_nm + static_cast<double>(i) > e.peak_nm) break;
+        short_side += n.values[i];
+    }
+    if (short_side > kStokesTolerance)
+        throw Error(fmt::format("phosphor '{}' breaks the Stokes rule under the {}: {:.1f} % of its emitted photons would be at "
+                                "shorter wavelength (higher energy) than the exciting photons",
+                                p.id, e.describe(), 100 * short_side));
+    for (std::size_t i = 0; i < n.values.size(); ++i)
+        if (n.first_nm + static_cast<double>(i) <= e.peak_nm) n.values[i] = 0;
+    const double total = sum_of(n);
+    for (double& v : n.values) v /= total;
+    return n;
+}
+
+Spectrum mercury_visible_lines(double power) {
+    static constexpr std::array<std::pair<double, double>, 5> lines{{{404.7, 0.4}, {435.8, 1.0}, {546.1, 0.9}, {577.0, 0.1}, {579.1, 0.1}}};
+    double total = 0;
+    for (const auto& l : lines) total += l.second;
+    Spectrum s = emission_grid("mercury lines");
+    for (const auto& [nm, rel] : lines) {
+        const int lo = static_cast<int>(std::floor(nm));
+        const double t = nm - lo;
+        s.values[static_cast<std::size_t>(lo - s.first_nm)] += power * rel / total * (1 - t);
+        s.values[static_cast<std::size_t>(lo + 1 - s.first_nm)] += power * rel / total * t;
+    }
+    return s;
+}
+
+BlendBasis blend_basis(const BlendInput& in) {
+    if (in.components.empty()) throw Error(fmt::format("blend '{}' has no components", in.name));
+    if (!(in.absorbed_fraction > 0 && in.absorbed_fraction <= 1))
+        throw Error(fmt::format("absorbed fraction must lie in (0, 1], not {:g}", in.absorbed_fraction));
+    BlendBasis b;
+    const Excitation& e = in.excitation;
+    const double inv_lambda_exc = mean_inverse_wavelength(e);
+    Spectrum leak = emission_grid("leak");
+    if (e.kind == Excitation::Kind::mercury) {
+        b.mercury_line_fraction = in.mercury_line_fraction.value_or(kDefaultMercuryLineFraction);
+        if (b.mercury_line_fraction < 0 || b.mercury_line_fraction >= 1)
+            throw Error(fmt::format("mercury line fraction must lie in [0, 1), not {:g}", b.mercury_line_fraction));
+    } else if (in.absorbed_fraction < 1) {
+        // Unabsorbed pump light leaves the lamp; per W absorbed, (1 - f) / f W leak. It does not
+        // depend on the shares, and the shares sum to one, so each component carries all of it.
+        const Spectrum p = power_from_photons(pump_photons(e));
+        b.pump_leak_W_per_W = (1 - in.absorbed_fraction) / in.absorbed_fraction;
+        for (std::size_t k = 0; k < p.values.size(); ++k) leak.values[k] = b.pump_leak_W_per_W * p.values[k];
+    }
+    for (const auto& c : in.components) {
+        const double a = c.absorption ? *c.absorption : absorption_for(c.phosphor, e);
+        const double qe = c.quantum_efficiency ? *c.quantum_efficiency : quantum_efficiency_for(c.phosphor, e);
+        if (a < 0) throw Error(fmt::format("component '{}': absorption must not be negative", c.label));
+        const Spectrum n = emission_for_excitation(c.phosphor, e);
+        Spectrum power = emission_grid(c.label);
+        double energy_ratio = 0;
+        for (std::size_t k = 0; k < n.values.size(); ++k) {
+            // Photons of wavelength l carry (1/l) / <1/l_exc> of the exciting photon's energy.
+            const double ratio = 1.0 / (n.first_nm + static_cast<double>(k)) / inv_lambda_exc;
+            energy_ratio += n.values[k] * ratio;
+            power.values[k] = qe * n.values[k] * ratio;
+        }
+        Spectrum light = power;
+        if (e.kind == Excitation::Kind::mercury) {
+            const double f = b.mercury_line_fraction;
+            const Spectrum hg = mercury_visible_lines(f / (1 - f) * visible_power(power));
+            for (std::size_t k = 0; k < hg.values.size(); ++k) light.values[k] += hg.values[k];
+        }
+        for (std::size_t k = 0; k < leak.values.size(); ++k) light.values[k] += leak.values[k];
+        b.absorption.push_back(a);
+        b.quantum_efficiency.push_back(qe);
+        b.stokes_efficiency.push_back(energy_ratio);
+        b.phosphor_light.push_back(std::move(power));
+        b.light.push_back(std::move(light));
+    }
+    return b;
+}
+
+std::vector<double> photon_shares(const BlendBasis& b, const std::vector<double>& w) {
+    if (w.size() != b.absorption.size()) throw Error("photon_shares: one mass fraction per component");
+    double total = 0;
+    for (std::size_t i = 0; i < w.size(); ++i) total += w[i] * b.absorption[i];
+    if (!(total > 0)) throw Error("no component of the blend absorbs the excitation");
+    std::vector<double> s(w.size());
+    for (std::size_t i = 0; i < w.size(); ++i) s[i] = w[i] * b.absorption[i] / total;
+    return s;
+}
+
+BlendResult evaluate_blend(const BlendInput& in, const AssessOptions& options) {
+    if (in.components.empty()) throw Error(fmt::format("blend '{}' has no components", in.name));
+    double mass_total = 0;
+    for (const auto& c : in.components) {
+        if (!(c.mass_fraction > 0) || !std::isfinite(c.mass_fraction))
+            throw Error(fmt::format("component '{}': mass fraction must be greater than zero, not {:g}", c.label, c.mass_fraction));
+        mass_total += c.mass_fraction;
+    }
+    const BlendBasis b = blend_basis(in);
+
+    BlendResult r;
+    r.name = in.name;
+    double absorption_total = 0;
+    for (std::size_t i = 0; i < in.components.size(); ++i) {
+        ComponentResult cr;
+        cr.label = in.components[i].label;
+        cr.mass_fraction = in.components[i].mass_fraction / mass_total;
+        cr.absorption = b.absorption[i];
+        cr.quantum_efficiency = b.quantum_efficiency[i];
+        absorption_total += cr.mass_fraction * cr.absorption;
+        r.components.push_back(cr);
+    }
+    if (!(absorption_total > 0))
+        throw Error(fmt::format("no component of blend '{}' absorbs the {}", in.name, in.excitation.describe()));
+
+    r.phosphor_spectrum = emission_grid(in.name);
+    r.spectrum = emission_grid(in.name);
+    for (std::size_t i = 0; i < in.components.size(); ++i) {
+        auto& cr = r.components[i];
+        cr.photon_share = cr.mass_fraction * cr.absorption / absorption_total;
+        const Spectrum power = scaled(b.phosphor_light[i], cr.photon_share);
+        cr.stokes_efficiency = b.stokes_efficiency[i];
+        cr.radiant_W_per_W = sum_of(power);
+        cr.luminous_lm_per_W = kKm * tristimulus(power).Y;
+        r.quantum_yield += cr.photon_share * cr.quantum_efficiency;
+        for (std::size_t k = 0; k < power.values.size(); ++k) {
+            r.phosphor_spectrum.values[k] += power.values[k];
+            r.spectrum.values[k] += cr.photon_share * b.light[i].values[k];
+        }
+    }
+    r.radiant_efficiency = sum_of(r.phosphor_spectrum);
+    r.luminous_efficacy_absorbed = kKm * tristimulus(r.phosphor_spectrum).Y;
+    r.stokes_efficiency = r.radiant_efficiency / r.quantum_yield;
+    for (auto& cr : r.components) {
+        cr.radiant_share = cr.radiant_W_per_W / r.radiant_efficiency;
+        cr.luminous_share = cr.luminous_lm_per_W / r.luminous_efficacy_absorbed;
+    }
+    r.mercury_line_fraction = b.mercury_line_fraction;
+    r.pump_leak_W_per_W = b.pump_leak_W_per_W;
+    r.spectrum.name = in.name;
+    r.assessment = assess(r.spectrum, options);
+    return r;
+}
+
+}  // namespace lampwright

@@ -1,0 +1,297 @@
+#include "lampwright/phosphor/phosphor.hpp"
+
+#include "lampwright/core/embedded_data.hpp"
+#include "lampwright/core/interpolation.hpp"
+#include "lampwright/colour/spectral_features.hpp"
+#include "lampwright/colour/colorimetry.hpp"
+#include "lampwright/io/spectrum_io.hpp"
+#include "lampwright/io/toml_access.hpp"
+
+#include <fmt/format.h>
+
+#include <algorithm>
+#include <cmath>
+#include <filesystem>
+#include <numbers>
+
+namespace lampwright {
+
+namespace {
+
+constexpr double kFwhmToSigma = 2.0 * 1.1774100225154747;  // FWHM = 2 sqrt(2 ln 2) sigma
+
+void add_normalised(Spectrum& total, const std::vector<double>& shape, double weight) {
+    double sum = 0;
+    for (double v : shape) sum += v;
+    if (!(sum > 0)) return;
+    for (std::size_t i = 0; i < shape.size(); ++i) total.values[i] += weight * shape[i] / sum;
+}
+
+// A 4f-5d band: Gaussian in wavenumber whose power-per-nm maximum falls on peak_nm
+// (data/phosphors/README.md gives the derivation).
+std::vector<double> band_photons_per_nm(const EmissionBand& b, double shift_nm) {
+    const double peak = b.peak_nm + shift_nm;
+    const double nu_p = 1e7 / peak;
+    const double dnu = 1e7 / (peak - b.fwhm_nm / 2) - 1e7 / (peak + b.fwhm_nm / 2);
+    const double sigma = dnu / kFwhmToSigma;
+    const double nu0 = nu_p - 3 * sigma * sigma / nu_p;
+    std::vector<double> out;
+    for (int nm = kEmissionFirstNm; nm <= kEmissionLastNm; ++nm) {
+        const double nu = 1e7 / nm;
+        out.push_back(std::exp(-0.5 * std::pow((nu - nu0) / sigma, 2)) * 1e7 / (static_cast<double>(nm) * nm));
+    }
+    return out;
+}
+
+std::vector<double> line_photons_per_nm(double centre_nm, double fwhm_nm) {
+    const double sigma = fwhm_nm / kFwhmToSigma;
+    std::vector<double> out;
+    for (int nm = kEmissionFirstNm; nm <= kEmissionLastNm; ++nm) out.push_back(std::exp(-0.5 * std::pow((nm - centre_nm) / sigma, 2)));
+    return out;
+}
+
+void require_positive(const TomlDoc& doc, const toml::table& t, const std::string& key, const std::string& where, double v) {
+    if (!(v > 0)) doc.fail(t.get(key), key_path(where, key), fmt::format("must be greater than zero, not {:g}", v));
+}
+
+}  // namespace
+
+Spectrum emission_grid(const std::string& name) { return {name, kEmissionFirstNm, std::vector<double>(kEmissionGridSize, 0.0)}; }
+
+Spectrum photons_from_power(const Spectrum& power) {
+    Spectrum n = emission_grid(power.name);
+    double sum = 0;
+    for (int nm = kEmissionFirstNm; nm <= kEmissionLastNm; ++nm) {
+        if (!power.covers(nm)) continue;
+        const double v = std::max(0.0, power.values[static_cast<std::size_t>(nm - power.first_nm)]) * nm;
+        n.values[static_cast<std::size_t>(nm - kEmissionFirstNm)] = v;
+        sum += v;
+    }
+    if (!(sum > 0)) throw Error(fmt::format("spectrum '{}' has no power on {}-{} nm", power.name, kEmissionFirstNm, kEmissionLastNm));
+    for (double& v : n.values) v /= sum;
+    return n;
+}
+
+double mean_inverse_wavelength(const Spectrum& photons) {
+    double m = 0;
+    for (std::size_t k = 0; k < photons.values.size(); ++k) m += photons.values[k] / (photons.first_nm + static_cast<double>(k));
+    return m;
+}
+
+Spectrum power_from_photons(const Spectrum& photons) {
+    Spectrum p = photons;
+    const double total = mean_inverse_wavelength(photons);
+    for (std::size_t k = 0; k < p.values.size(); ++k) p.values[k] = photons.values[k] / (photons.first_nm + static_cast<double>(k)) / total;
+    return p;
+}
+
+Spectrum emission_photons(const Phosphor& p, double shift_nm) {
+    if (p.emission_model == "measured") {
+        Spectrum n = photons_from_power(p.measured_power);
+        n.name = p.id;
+        return n;
+    }
+    Spectrum out = emission_grid(p.id);
+    if (p.emission_model == "bands") {
+        for (const auto& b : p.bands) add_normalised(out, band_photons_per_nm(b, shift_nm), b.weight);
+    } else if (p.emission_model == "lines") {
+        for (const auto& l : p.lines) add_normalised(out, line_photons_per_nm(l.nm + shift_nm, p.line_fwhm_nm), l.weight);
+    }
+    double sum = 0;
+    for (double v : out.values) sum += v;
+    for (double& v : out.values) v /= sum;
+    return out;
+}
+
+std::optional<double> absorption_at(const Phosphor& p, double nm) {
+    if (p.absorption_nm.empty() || nm < p.absorption_nm.front() - 1e-9 || nm > p.absorption_nm.back() + 1e-9) return std::nullopt;
+    return interpolate_linear(p.absorption_nm, p.absorption_rel, nm);
+}
+
+double thermal_factor(const Phosphor& p, double temperature_C) {
+    if (p.quench_C.empty()) return 1.0;
+    return interpolate_linear(p.quench_C, p.quench_rel, temperature_C);
+}
+
+EmissionSummary emission_summary(const Phosphor& p) {
+    const Spectrum power = power_from_photons(emission_photons(p));
+    const auto f = spectral_features(power, chromaticity(tristimulus(power)));
+    return {f.peak_nm, f.fwhm_nm, f.centroid_nm};
+}
+
+Phosphor phosphor_from_emission_file(const std::string& path) {
+    Phosphor p;
+    p.id = file_stem(path);
+    p.origin = path;
+    p.emission_model = "measured";
+    p.measured_power = read_single_spectrum(path);
+    return p;
+}
+
+Phosphor parse_phosphor(const std::string& text, const std::string& origin) {
+    const TomlDoc doc(text, origin);
+    const auto& r = doc.root();
+    doc.only_keys(r, {"id", "abbreviation", "name", "use", "body_colour", "model_note", "density", "emission", "absorption",
+                      "quantum_efficiency", "thermal"}, "");
+    Phosphor p;
+    p.origin = origin;
+    p.id = doc.require_string(r, "id", "");
+    if (p.id.empty()) doc.fail(r.get("id"), "id", "must not be empty");
+    p.abbreviation = doc.string(r, "abbreviation", "").value_or("");
+    p.name = doc.string(r, "name", "").value_or("");
+    p.body_colour = doc.string(r, "body_colour", "").value_or("");
+    p.model_note = doc.string(r, "model_note", "").value_or("");
+    p.use = doc.strings(r, "use", "");
+    for (const auto& u : p.use)
+        if (u != "lamp" && u != "led") doc.fail(r.get("use"), "use", fmt::format("items must be \"lamp\" or \"led\", not \"{}\"", u));
+
+    if (const auto* d = doc.table(r, "density", "")) {
+        p.density_g_per_cm3 = doc.require_number(*d, "g_per_cm3", "density");
+        require_positive(doc, *d, "g_per_cm3", "density", p.density_g_per_cm3);
+        p.density_source = doc.string(*d, "source", "density").value_or("");
+    }
+
+    const auto* e = doc.table(r, "emission", "");
+    if (!e) doc.fail(&r, "", "missing table [emission]");
+    p.emission_model = doc.require_string(*e, "model", "emission");
+    p.emission_source = doc.string(*e, "source", "emission").value_or("");
+    if (p.emission_model == "bands") {
+        const auto* bands = doc.array(*e, "bands", "emission");
+        if (!bands || bands->empty()) doc.fail(e, "emission", "model \"bands\" needs a non-empty 'bands' array");
+        for (std::size_t i = 0; i < bands->size(); ++i) {
+            const auto* b = bands->get(i)->as_table();
+            const std::string where = fmt::format("emission.bands[{}]", i + 1);
+            if (!b) doc.fail(bands->get(i), where, "must be { peak_nm = ..., fwhm_nm = ..., weight = ... }");
+            EmissionBand band{doc.require_number(*b, "peak_nm", where), doc.require_number(*b, "fwhm_nm", where),
+                              doc.number(*b, "weight", where).value_or(1.0)};
+            require_positive(doc, *b, "fwhm_nm", where, band.fwhm_nm);
+            require_positive(doc, *b, "weight", where, band.weight);
+            if (band.peak_nm < 250 || band.peak_nm > 1000 || band.fwhm_nm >= band.peak_nm)
+                doc.fail(b->get("peak_nm"), where, fmt::format("peak {:g} nm / FWHM {:g} nm is not a visible-range band (nm expected)", band.peak_nm, band.fwhm_nm));
+            p.bands.push_back(band);
+        }
+    } else if (p.emission_model == "lines") {
+        p.line_fwhm_nm = doc.require_number(*e, "line_fwhm_nm", "emission");
+        require_positive(doc, *e, "line_fwhm_nm", "emission", p.line_fwhm_nm);
+        const auto* lines = doc.array(*e, "lines", "emission");
+        if (!lines || lines->empty()) doc.fail(e, "emission", "model \"lines\" needs a non-empty 'lines' array");
+        for (std::size_t i = 0; i < lines->size(); ++i) {
+            const auto* l = lines->get(i)->as_table();
+            const std::string where = fmt::format("emission.lines[{}]", i + 1);
+            if (!l) doc.fail(lines->get(i), where, "must be { nm = ..., weight = ... }");
+            EmissionLine line{doc.require_number(*l, "nm", where), doc.number(*l, "weight", where).value_or(1.0)};
+            require_positive(doc, *l, "weight", where, line.weight);
+            if (line.nm < 250 || line.nm > 1000) doc.fail(l->get("nm"), where, fmt::format("{:g} is not a wavelength in nm", line.nm));
+            p.lines.push_back(line);
+        }
+    } else if (p.emission_model == "measured") {
+        const std::string file = doc.require_string(*e, "file", "emission");
+        const auto path = path_relative_to(origin, file);
+        try {
+            p.measured_power = read_single_spectrum(path);
+        } catch (const InputError& err) {
+            doc.fail(e->get("file"), "emission.file", err.what());
+        }
+    } else {
+        doc.fail(e->get("model"), "emission.model", "must be \"bands\", \"lines\" or \"measured\"");
+    }
+
+    const auto* a = doc.table(r, "absorption", "");
+    if (!a) doc.fail(&r, "", "missing table [absorption]");
+    doc.pairs(*a, "points", "absorption", p.absorption_nm, p.absorption_rel);
+    for (double v : p.absorption_rel)
+        if (v < 0) doc.fail(a->get("points"), "absorption.points", "relative absorption must not be negative");
+    p.absorption_source = doc.string(*a, "source", "absorption").value_or("");
+
+    const auto* q = doc.table(r, "quantum_efficiency", "");
+    if (!q) doc.fail(&r, "", "missing table [quantum_efficiency]");
+    p.qe_254nm = doc.number(*q, "at_254nm", "quantum_efficiency");
+    p.qe_365_405nm = doc.number(*q, "at_365_405nm", "quantum_efficiency");
+    for (const char* k : {"at_254nm", "at_365_405nm"}) {
+        const auto v = doc.number(*q, k, "quantum_efficiency");
+        if (v && (*v <= 0 || *v > 1))
+            doc.fail(q->get(k), key_path("quantum_efficiency", k), fmt::format("must be a fraction in (0, 1], not {:g} (percent?)", *v));
+    }
+    if (!p.qe_254nm && !p.qe_365_405nm) doc.fail(q, "quantum_efficiency", "needs at_254nm or at_365_405nm");
+    p.qe_source = doc.string(*q, "source", "quantum_efficiency").value_or("");
+
+    if (const auto* t = doc.table(r, "thermal", "")) {
+        if (t->get("quenching")) doc.pairs(*t, "quenching", "thermal", p.quench_C, p.quench_rel);
+        for (double v : p.quench_rel)
+            if (v < 0 || v > 1.5) doc.fail(t->get("quenching"), "thermal.quenching", "relative QE values must lie in 0..1.5");
+        p.peak_shift_nm_per_K = doc.number(*t, "peak_shift_nm_per_K", "thermal").value_or(0.0);
+        p.thermal_source = doc.string(*t, "source", "thermal").value_or("");
+    }
+    return p;
+}
+
+const PhosphorLibrary& PhosphorLibrary::builtin() {
+    static const PhosphorLibrary lib = [] {
+        PhosphorLibrary l;
+        for (const auto& f : embedded_files())
+            if (f.path.starts_with("phosphors/") && f.path.ends_with(".toml"))
+                l.add(parse_phosphor(std::string(f.content), "data/" + std::string(f.path)));
+        std::sort(l.phosphors_.begin(), l.phosphors_.end(), [](const Phosphor& a, const Phosphor& b) {
+            return emission_summary(a).peak_nm < emission_summary(b).peak_nm;
+        });
+        return l;
+    }();
+    return lib;
+}
+
+PhosphorLibrary PhosphorLibrary::with_folders(const std::vector<std::string>& folders) {
+    PhosphorLibrary lib = builtin();
+    for (const auto& folder : folders) {
+        std::error_code ec;
+        if (!std::filesystem::is_directory(folder, ec)) throw InputError(folder, 0, "phosphor folder does not exist");
+        std::vector<std::filesystem::path> files;
+        for (const auto& entry : std::filesystem::directory_iterator(folder))
+            if (entry.path().extension() == ".toml") files.push_back(entry.path());
+        std::sort(files.begin(), files.end());
+        for (const auto& f : files) lib.add(parse_phosphor(read_text_file(f.string()), f.string()));
+    }
+    return lib;
+}
+
+void PhosphorLibrary::add(Phosphor p) {
+    if (const Phosphor* existing = try_find(p.id); existing && existing->id == p.id)
+        throw InputError(p.origin, 0, fmt::format("phosphor id '{}' is already defined in {}", p.id, existing->origin));
+    phosphors_.push_back(std::move(p));
+}
+
+const Phosphor* PhosphorLibrary::try_find(const std::string& key) const {
+    for (const auto& p : phosphors_)
+        if (p.id == key) return &p;
+    const Phosphor* match = nullptr;
+    for (const auto& p : phosphors_)
+        if (!p.abbreviation.empty() && p.abbreviation == key) {
+            if (match) return nullptr;  // ambiguous
+            match = &p;
+        }
+    return match;
+}
+
+const Phosphor& PhosphorLibrary::find(const std::string& key) const {
+    if (const Phosphor* p = try_find(key)) return *p;
+    std::vector<std::string> near;
+    auto lower = [](std::string s) {
+        std::transform(s.begin(), s.end(), s.begin(), [](unsigned char c) { return std::tolower(c); });
+        return s;
+    };
+    const std::string k = lower(key);
+    int abbreviation_hits = 0;
+    for (const auto& p : phosphors_) {
+        if (p.abbreviation == key) ++abbreviation_hits;
+        const std::string id = lower(p.id), ab = lower(p.abbreviation);
+        if (p.abbreviation == key || (!k.empty() && (id.find(k) != std::string::npos || k.find(id) != std::string::npos ||
+                                                     (!ab.empty() && ab == k))))
+            near.push_back(p.id);
+    }
+    std::string list;
+    for (const auto& n : near) list += (list.empty() ? "" : "; ") + n;
+    if (abbreviation_hits > 1) throw Error(fmt::format("'{}' names several phosphors ({}): give the full id", key, list));
+    if (!near.empty()) throw Error(fmt::format("no phosphor '{}' in the library; did you mean: {}", key, list));
+    throw Error(fmt::format("no phosphor '{}' in the library (see 'lampwright phosphors' for the ids)", key));
+}
+
+}  // namespace lampwright

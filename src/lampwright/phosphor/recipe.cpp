@@ -1,0 +1,174 @@
+#include "lampwright/phosphor/recipe.hpp"
+
+#include "lampwright/core/interpolation.hpp"
+#include "lampwright/io/spectrum_io.hpp"
+
+#include <fmt/format.h>
+
+#include <cmath>
+#include <filesystem>
+
+namespace lampwright {
+
+namespace {
+
+
+Excitation parse_excitation(const TomlDoc& doc) {
+    const auto& r = doc.root();
+    const auto* pump = doc.table(r, "pump", "");
+    const auto ex = doc.number(r, "excitation_nm", "");
+    if (pump && ex) doc.fail(r.get("excitation_nm"), "excitation_nm", "give either excitation_nm or [pump], not both");
+    if (ex) {
+        const double nm = *ex;
+        if (nm < 1.0) doc.fail(r.get("excitation_nm"), "excitation_nm", fmt::format("{:g} looks like micrometres; give nanometres (253.7)", nm));
+        if (nm > 1000.0) doc.fail(r.get("excitation_nm"), "excitation_nm", fmt::format("{:g} looks like angstroms; give nanometres (253.7)", nm));
+        if (std::abs(nm - kMercuryResonanceNm) > 0.5) {
+            if (nm >= 340 && nm <= 430)
+                doc.fail(r.get("excitation_nm"), "excitation_nm", fmt::format("{:g} nm is an LED pump: write [pump] peak_nm = {:g} and fwhm_nm", nm, nm));
+            doc.fail(r.get("excitation_nm"), "excitation_nm", fmt::format("{:g} nm is not supported: use 253.7 (mercury line) or an LED [pump]", nm));
+        }
+        return Excitation::mercury();
+    }
+    if (!pump) doc.fail(&r, "", "missing the excitation: excitation_nm = 253.7 or a [pump] table with peak_nm and fwhm_nm");
+    doc.only_keys(*pump, {"peak_nm", "fwhm_nm", "power_W", "spectrum"}, "pump");
+    const double peak = doc.require_number(*pump, "peak_nm", "pump");
+    const double fwhm = doc.require_number(*pump, "fwhm_nm", "pump");
+    if (peak < 1.0) doc.fail(pump->get("peak_nm"), "pump.peak_nm", fmt::format("{:g} looks like micrometres; give nanometres", peak));
+    if (peak < 340 || peak > 430)
+        doc.fail(pump->get("peak_nm"), "pump.peak_nm", fmt::format("{:g} nm is outside the UV/violet LED range 340-430 nm that the phosphor data cover", peak));
+    if (!(fwhm > 0) || fwhm > 60) doc.fail(pump->get("fwhm_nm"), "pump.fwhm_nm", fmt::format("must lie in (0, 60] nm, not {:g}", fwhm));
+    return Excitation::led(peak, fwhm);
+}
+
+
+}  // namespace
+
+Recipe recipe_from_toml(const TomlDoc& doc, const std::vector<std::string>& extra_folders,
+                        const std::vector<std::string>& extra_root_keys) {
+    const auto& r = doc.root();
+    std::vector<std::string> known{"name", "excitation_nm", "pump", "mercury_lines", "absorbed_fraction", "phosphor_folders", "component"};
+    known.insert(known.end(), extra_root_keys.begin(), extra_root_keys.end());
+    doc.only_keys(r, known, "");
+    Recipe rec;
+    rec.path = doc.source();
+    rec.blend.name = doc.require_string(r, "name", "");
+    rec.blend.excitation = parse_excitation(doc);
+    if (auto f = doc.number(r, "mercury_lines", "")) {
+        if (rec.blend.excitation.kind != Excitation::Kind::mercury)
+            doc.fail(r.get("mercury_lines"), "mercury_lines", "only applies to a mercury discharge (excitation_nm = 253.7)");
+        if (*f < 0 || *f >= 0.5)
+            doc.fail(r.get("mercury_lines"), "mercury_lines", fmt::format("must be a fraction in [0, 0.5), not {:g} (percent?)", *f));
+        rec.blend.mercury_line_fraction = *f;
+    }
+    if (auto f = doc.number(r, "absorbed_fraction", "")) {
+        if (!(*f > 0 && *f <= 1)) doc.fail(r.get("absorbed_fraction"), "absorbed_fraction", fmt::format("must lie in (0, 1], not {:g}", *f));
+        rec.blend.absorbed_fraction = *f;
+    }
+    for (const auto& folder : doc.strings(r, "phosphor_folders", "")) rec.phosphor_folders.push_back(path_relative_to(doc.source(), folder));
+    rec.phosphor_folders.insert(rec.phosphor_folders.end(), extra_folders.begin(), extra_folders.end());
+    const PhosphorLibrary library = rec.phosphor_folders.empty() ? PhosphorLibrary::builtin() : PhosphorLibrary::with_folders(rec.phosphor_folders);
+
+    const auto* comps = doc.array(r, "component", "");
+    if (!comps || comps->empty()) doc.fail(&r, "", "no [[component]] given");
+    for (std::size_t i = 0; i < comps->size(); ++i) {
+        const std::string where = fmt::format("component[{}]", i + 1);
+        const auto* c = comps->get(i)->as_table();
+        if (!c) doc.fail(comps->get(i), where, "must be a [[component]] table");
+        doc.only_keys(*c, {"phosphor", "spectrum", "absorption", "quantum_efficiency", "mass_fraction", "label", "min_fraction", "max_fraction"}, where);
+        BlendComponent bc;
+        bc.mass_fraction = doc.require_number(*c, "mass_fraction", where);
+        if (!(bc.mass_fraction > 0))
+            doc.fail(c->get("mass_fraction"), key_path(where, "mass_fraction"), fmt::format("must be greater than zero, not {:g}", bc.mass_fraction));
+        const auto id = doc.string(*c, "phosphor", where);
+        const auto spectrum = doc.string(*c, "spectrum", where);
+        if (id && spectrum) doc.fail(c, where, "give either 'phosphor' or 'spectrum', not both");
+        if (!id && !spectrum) doc.fail(c, where, "needs 'phosphor' (a library id) or 'spectrum' (a measured emission CSV)");
+        if (id) {
+            try {
+                bc.phosphor = library.find(*id);
+            } catch (const Error& e) {
+                doc.fail(c->get("phosphor"), key_path(where, "phosphor"), e.what());
+            }
+            bc.label = bc.phosphor.id;
+        } else {
+            const std::string path = path_relative_to(doc.source(), *spectrum);
+            try {
+                bc.phosphor = phosphor_from_emission_file(path);
+            } catch (const InputError& e) {
+                doc.fail(c->get("spectrum"), key_path(where, "spectrum"), e.what());
+            }
+            bc.label = bc.phosphor.id;
+            bc.absorption = doc.number(*c, "absorption", where);
+            bc.quantum_efficiency = doc.number(*c, "quantum_efficiency", where);
+            if (!bc.absorption) doc.fail(c, where, "a measured 'spectrum' needs 'absorption' (relative, at the excitation)");
+            if (!bc.quantum_efficiency) doc.fail(c, where, "a measured 'spectrum' needs 'quantum_efficiency'");
+        }
+        if (const auto a = doc.number(*c, "absorption", where); a && *a < 0)
+            doc.fail(c->get("absorption"), key_path(where, "absorption"), "must not be negative");
+        if (const auto a = doc.number(*c, "absorption", where)) bc.absorption = *a;
+        if (const auto q = doc.number(*c, "quantum_efficiency", where)) {
+            if (*q <= 0 || *q > 1)
+                doc.fail(c->get("quantum_efficiency"), key_path(where, "quantum_efficiency"), fmt::format("must be a fraction in (0, 1], not {:g} (percent?)", *q));
+            bc.quantum_efficiency = *q;
+        }
+        if (auto label = doc.string(*c, "label", where)) bc.label = *label;
+        for (const char* key : {"min_fraction", "max_fraction"}) {
+            if (const auto v = doc.number(*c, key, where)) {
+                if (*v < 0 || *v > 1)
+                    doc.fail(c->get(key), key_path(where, key), fmt::format("must be a fraction in [0, 1], not {:g} (percent?)", *v));
+                (std::string(key) == "min_fraction" ? bc.min_fraction : bc.max_fraction) = *v;
+            }
+        }
+        if (bc.min_fraction && bc.max_fraction && *bc.min_fraction > *bc.max_fraction)
+            doc.fail(c->get("min_fraction"), key_path(where, "min_fraction"),
+                     fmt::format("{:g} is above max_fraction {:g}", *bc.min_fraction, *bc.max_fraction));
+        // Check the excitation against this phosphor's data now, so the error names the line.
+        try {
+            if (!bc.absorption) (void)absorption_for(bc.phosphor, rec.blend.excitation);
+            if (!bc.quantum_efficiency) (void)quantum_efficiency_for(bc.phosphor, rec.blend.excitation);
+            (void)emission_for_excitation(bc.phosphor, rec.blend.excitation);
+        } catch (const InputError&) {
+            throw;
+        } catch (const Error& e) {
+            doc.fail(c, where, e.what());
+        }
+        rec.blend.components.push_back(std::move(bc));
+    }
+    return rec;
+}
+
+Recipe load_recipe(const std::string& path, const std::vector<std::string>& extra_folders) {
+    return recipe_from_toml(TomlDoc::from_file(path), extra_folders);
+}
+
+std::string recipe_to_toml(const BlendInput& b, const std::vector<std::string>& header_comments) {
+    std::string o;
+    for (const auto& h : header_comments) o += "# " + h + "\n";
+    o += fmt::format("name = {}\n", toml_quote(b.name));
+    if (b.excitation.kind == Excitation::Kind::mercury) {
+        o += fmt::format("excitation_nm = {:g}\n", b.excitation.peak_nm);
+        if (b.mercury_line_fraction) o += fmt::format("mercury_lines = {:g}\n", *b.mercury_line_fraction);
+    }
+    if (b.absorbed_fraction != 1.0) o += fmt::format("absorbed_fraction = {:g}\n", b.absorbed_fraction);
+    if (b.excitation.kind == Excitation::Kind::led)
+        o += fmt::format("\n[pump]\npeak_nm = {:g}\nfwhm_nm = {:g}\n", b.excitation.peak_nm, b.excitation.fwhm_nm);
+    for (const auto& c : b.components) {
+        o += "\n[[component]]\n";
+        // An inline 'spectrum' component (no QE data of its own; a phosphor file always has some).
+        // Its path is written absolute so the recipe loads from any folder.
+        if (c.phosphor.emission_model == "measured" && !c.phosphor.qe_254nm && !c.phosphor.qe_365_405nm) {
+            o += fmt::format("spectrum = {}\n", toml_quote(std::filesystem::absolute(c.phosphor.origin).lexically_normal().string()));
+        } else {
+            o += fmt::format("phosphor = {}\n", toml_quote(c.phosphor.id));
+        }
+        if (c.label != c.phosphor.id) o += fmt::format("label = {}\n", toml_quote(c.label));
+        o += fmt::format("mass_fraction = {}\n", c.mass_fraction);  // shortest form that reads back exactly
+        if (c.absorption) o += fmt::format("absorption = {:g}\n", *c.absorption);
+        if (c.quantum_efficiency) o += fmt::format("quantum_efficiency = {:g}\n", *c.quantum_efficiency);
+        if (c.min_fraction) o += fmt::format("min_fraction = {:g}\n", *c.min_fraction);
+        if (c.max_fraction) o += fmt::format("max_fraction = {:g}\n", *c.max_fraction);
+    }
+    return o;
+}
+
+}  // namespace lampwright

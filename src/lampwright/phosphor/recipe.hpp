@@ -1,0 +1,37 @@
+#pragma once
+// Blend recipes: a TOML file naming the excitation and the phosphors by mass fraction.
+//
+//   name = "4000 K tri-band tube"
+//   excitation_nm = 253.7            # or:  [pump]  peak_nm = 395  fwhm_nm = 12
+//   mercury_lines = 0.03             # optional: visible Hg lines, fraction of visible output
+//   absorbed_fraction = 1.0          # optional: share of the excitation the coating absorbs
+//   phosphor_folders = ["mine"]      # optional: more phosphor files, relative to the recipe
+//   [[component]]
+//   phosphor = "Y2O3:Eu3+"           # library id or unambiguous abbreviation, or:
+//   # spectrum = "green.csv"  absorption = 0.8  quantum_efficiency = 0.9  (measured emission)
+//   mass_fraction = 0.45
+#include "lampwright/phosphor/blend.hpp"
+#include "lampwright/io/toml_access.hpp"
+
+#include <string>
+#include <vector>
+
+namespace lampwright {
+
+struct Recipe {
+    std::string path;
+    BlendInput blend;
+    std::vector<std::string> phosphor_folders;  // resolved paths
+};
+
+// Parses a recipe; errors name the file, the line and the key. `extra_folders` are more phosphor
+// folders given on the command line.
+Recipe load_recipe(const std::string& path, const std::vector<std::string>& extra_folders = {});
+// The same from a parsed document (for files that embed a recipe, such as specs and designs).
+Recipe recipe_from_toml(const TomlDoc& doc, const std::vector<std::string>& extra_folders,
+                        const std::vector<std::string>& extra_root_keys = {});
+
+// Writes a recipe back as TOML (components by library id), loadable by load_recipe.
+std::string recipe_to_toml(const BlendInput& blend, const std::vector<std::string>& header_comments = {});
+
+}  // namespace lampwright

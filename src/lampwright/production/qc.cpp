@@ -1,0 +1,286 @@
+#include "lampwright/production/qc.hpp"
+
+#include "lampwright/colour/illuminants.hpp"
+#include "lampwright/core/interpolation.hpp"
+#include "lampwright/io/spectrum_io.hpp"
+#include "lampwright/core/statistics.hpp"
+#include "lampwright/io/toml_access.hpp"
+
+#include <fmt/format.h>
+
+#include <algorithm>
+#include <atomic>
+#include <cmath>
+#include <filesystem>
+#include <mutex>
+#include <numeric>
+#include <sstream>
+#include <thread>
+
+namespace lampwright {
+
+namespace {
+
+
+bool is_spectrum_file(const std::filesystem::path& p) {
+    const auto e = p.extension().string();
+    return e == ".csv" || e == ".txt" || e == ".tsv" || e == ".xml" || e == ".spd";
+}
+
+}  // namespace
+
+QcSpec load_qc_spec(const std::string& path) {
+    const TomlDoc doc = TomlDoc::from_file(path);
+    const auto& r = doc.root();
+    doc.only_keys(r, {"name", "target", "limits"}, "");
+    QcSpec s;
+    s.path = path;
+    s.name = doc.require_string(r, "name", "");
+    const auto* t = doc.table(r, "target", "");
+    if (!t) doc.fail(&r, "", "missing [target] (flamp, ansi_class, or x and y)");
+    doc.only_keys(*t, {"flamp", "ansi_class", "x", "y", "steps", "duv_prime_max"}, "target");
+    const auto flamp = doc.string(*t, "flamp", "target");
+    const auto ansi = doc.number(*t, "ansi_class", "target");
+    const auto x = doc.number(*t, "x", "target"), y = doc.number(*t, "y", "target");
+    const int given = (flamp ? 1 : 0) + (ansi ? 1 : 0) + ((x || y) ? 1 : 0);
+    if (given != 1) doc.fail(t, "target", "give exactly one of: flamp = \"F4100\", ansi_class = 4000, or x and y");
+    const auto steps = doc.number(*t, "steps", "target");
+    if (steps && !(*steps > 0 && *steps <= 20)) doc.fail(t->get("steps"), "target.steps", fmt::format("must lie in (0, 20], not {:g}", *steps));
+    try {
+        if (flamp) {
+            const Target tg = target_ansi_c78376(*flamp, steps.value_or(kAnsiC78376Steps));
+            s.region = QcSpec::Region::ellipse;
+            s.centre = tg.xy;
+            s.step_ellipse = *tg.ellipse;
+            s.max_steps = tg.ellipse_steps;
+            s.target_description = tg.description;
+        } else if (ansi) {
+            const Target tg = target_ansi_c78377(static_cast<int>(std::lround(*ansi)));
+            s.region = QcSpec::Region::ansi_quadrangle;
+            s.centre = tg.xy;
+            s.ansi_class = tg.ansi_class;
+            s.step_ellipse = nearest_step_ellipse(s.centre);
+            s.target_description = tg.description;
+        } else {
+            if (!x || !y) doc.fail(t, "target", "an explicit centre needs both x and y");
+            if (!(*x > 0 && *x < 0.8 && *y > 0 && *y < 0.9)) doc.fail(t->get("x"), "target", fmt::format("({:g}, {:g}) is not a CIE 1931 chromaticity", *x, *y));
+            s.centre = {*x, *y};
+            s.step_ellipse = nearest_step_ellipse(s.centre);
+            const auto radius = doc.number(*t, "duv_prime_max", "target");
+            if (radius && steps) doc.fail(t, "target", "give steps (ellipse) or duv_prime_max (circle), not both");
+            if (radius) {
+                if (!(*radius > 0 && *radius < 0.05)) doc.fail(t->get("duv_prime_max"), "target.duv_prime_max", fmt::format("must lie in (0, 0.05), not {:g}", *radius));
+                s.region = QcSpec::Region::circle;
+                s.max_duv_prime = *radius;
+                s.target_description = fmt::format("x {:.4f}, y {:.4f} within du'v' {:g}", *x, *y, *radius);
+            } else {
+                s.region = QcSpec::Region::ellipse;
+                s.max_steps = steps.value_or(kAnsiC78376Steps);
+                s.target_description = fmt::format("x {:.4f}, y {:.4f}, {:g}-step ellipse", *x, *y, s.max_steps);
+            }
+        }
+    } catch (const InputError&) {
+        throw;
+    } catch (const Error& e) {
+        doc.fail(t, "target", e.what());
+    }
+    if (const auto* l = doc.table(r, "limits", "")) {
+        doc.only_keys(*l, {"ra_min", "r9_min", "cct_min_K", "cct_max_K", "duv_min", "duv_max"}, "limits");
+        s.ra_min = doc.number(*l, "ra_min", "limits");
+        s.r9_min = doc.number(*l, "r9_min", "limits");
+        s.cct_min_K = doc.number(*l, "cct_min_K", "limits");
+        s.cct_max_K = doc.number(*l, "cct_max_K", "limits");
+        s.duv_min = doc.number(*l, "duv_min", "limits");
+        s.duv_max = doc.number(*l, "duv_max", "limits");
+        if (s.ra_min && *s.ra_min > 100) doc.fail(l->get("ra_min"), "limits.ra_min", "cannot exceed 100");
+        if (s.cct_min_K && s.cct_max_K && *s.cct_min_K >= *s.cct_max_K) doc.fail(l->get("cct_min_K"), "limits", "cct_min_K must be below cct_max_K");
+        if (s.duv_min && s.duv_max && *s.duv_min >= *s.duv_max) doc.fail(l->get("duv_min"), "limits", "duv_min must be below duv_max");
+        if ((s.cct_min_K && *s.cct_min_K < 100) || (s.cct_max_K && *s.cct_max_K < 100))
+            doc.fail(l->get("cct_min_K") ? l->get("cct_min_K") : l->get("cct_max_K"), "limits", "CCT limits are in kelvin");
+    }
+    return s;
+}
+
+LampResult judge_lamp(const QcSpec& spec, Assessment a) {
+    LampResult r;
+    r.name = a.name;
+    r.steps = macadam_steps(spec.step_ellipse, a.xy);
+    const auto& A = a;
+    switch (spec.region) {
+        case QcSpec::Region::ellipse:
+            r.inside_region = r.steps <= spec.max_steps;
+            if (!r.inside_region) r.failures.push_back(fmt::format("chromaticity {:.2f} steps > {:g}", r.steps, spec.max_steps));
+            break;
+        case QcSpec::Region::ansi_quadrangle:
+            r.inside_region = inside_ansi_c78377(*spec.ansi_class, A.xy);
+            if (!r.inside_region) r.failures.push_back(fmt::format("chromaticity outside the ANSI C78.377 {} K quadrangle", spec.ansi_class->nominal_K));
+            break;
+        case QcSpec::Region::circle: {
+            const UV c = uv_1976_from_xy(spec.centre);
+            const double d = std::hypot(A.uv_prime.u - c.u, A.uv_prime.v - c.v);
+            r.inside_region = d <= spec.max_duv_prime;
+            if (!r.inside_region) r.failures.push_back(fmt::format("du'v' {:.4f} > {:g}", d, spec.max_duv_prime));
+            break;
+        }
+    }
+    const bool has_cct = A.cct.valid;
+    const double ra = A.rendering ? A.rendering->ra : NAN, r9 = A.rendering ? A.rendering->ri[8] : NAN;
+    if (spec.ra_min && !(ra >= *spec.ra_min)) r.failures.push_back(std::isfinite(ra) ? fmt::format("Ra {:.1f} < {:g}", ra, *spec.ra_min) : "Ra not defined (no CCT)");
+    if (spec.r9_min && !(r9 >= *spec.r9_min)) r.failures.push_back(std::isfinite(r9) ? fmt::format("R9 {:.1f} < {:g}", r9, *spec.r9_min) : "R9 not defined (no CCT)");
+    if (spec.cct_min_K && !(has_cct && A.cct.cct_K >= *spec.cct_min_K))
+        r.failures.push_back(has_cct ? fmt::format("CCT {:.0f} K < {:g} K", A.cct.cct_K, *spec.cct_min_K) : "no CCT");
+    if (spec.cct_max_K && !(has_cct && A.cct.cct_K <= *spec.cct_max_K))
+        r.failures.push_back(has_cct ? fmt::format("CCT {:.0f} K > {:g} K", A.cct.cct_K, *spec.cct_max_K) : "no CCT");
+    if (spec.duv_min && !(A.cct.duv >= *spec.duv_min)) r.failures.push_back(fmt::format("Duv {:.4f} < {:g}", A.cct.duv, *spec.duv_min));
+    if (spec.duv_max && !(A.cct.duv <= *spec.duv_max)) r.failures.push_back(fmt::format("Duv {:.4f} > {:g}", A.cct.duv, *spec.duv_max));
+    r.assessment = std::move(a);
+    return r;
+}
+
+std::vector<std::string> collect_spectrum_files(const std::vector<std::string>& inputs, std::vector<BadFile>& bad) {
+    std::vector<std::string> files;
+    for (const auto& in : inputs) {
+        std::error_code ec;
+        if (std::filesystem::is_directory(in, ec)) {
+            std::vector<std::string> found;
+            for (const auto& e : std::filesystem::directory_iterator(in, ec))
+                if (e.is_regular_file() && is_spectrum_file(e.path())) found.push_back(e.path().string());
+            std::sort(found.begin(), found.end());
+            if (found.empty()) bad.push_back({in, "folder holds no spectrum files (*.csv, *.txt, *.tsv, *.xml)"});
+            files.insert(files.end(), found.begin(), found.end());
+        } else if (std::filesystem::exists(in, ec)) {
+            files.push_back(in);
+        } else {
+            bad.push_back({in, "no such file or folder"});
+        }
+    }
+    return files;
+}
+
+std::string content_hash(const std::string& bytes) {
+    std::uint64_t h = 1469598103934665603ULL;
+    for (unsigned char c : bytes) {
+        h ^= c;
+        h *= 1099511628211ULL;
+    }
+    return fmt::format("{:016x}", h);
+}
+
+QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigned threads, const ProgressCallback& progress) {
+    QcRun run;
+    run.spec = spec;
+    const auto files = collect_spectrum_files(inputs, run.bad_files);
+    std::vector<std::vector<LampResult>> per_file(files.size());
+    std::vector<std::optional<BadFile>> bad(files.size());
+    std::atomic<std::size_t> next{0}, done{0};
+    std::mutex progress_mutex;
+    AssessOptions options;
+    (void)assess(planckian(3000), options);  // build the shared tables before the workers start
+    auto worker = [&] {
+        for (std::size_t i = next++; i < files.size(); i = next++) {
+            try {
+                const std::string bytes = read_text_file(files[i]);
+                const SpectrumFile f = parse_spectrum_bytes(bytes, files[i]);
+                const std::string hash = content_hash(bytes);
+                for (const auto& s : f.spectra) {
+                    LampResult lr = judge_lamp(spec, assess(resample_to_1nm(s), options));
+                    lr.file = files[i];
+                    lr.content_hash = hash;
+                    per_file[i].push_back(std::move(lr));
+                }
+            } catch (const InputError& e) {
+                bad[i] = BadFile{files[i], e.line() ? fmt::format("line {}: {}", e.line(), e.problem()) : e.problem()};
+                per_file[i].clear();
+            } catch (const Error& e) {
+                bad[i] = BadFile{files[i], e.what()};
+                per_file[i].clear();
+            }
+            const std::size_t d = ++done;
+            if (progress) {
+                std::lock_guard<std::mutex> lock(progress_mutex);
+                progress(d, files.size());
+            }
+        }
+    };
+    if (threads == 0) threads = std::max(1u, std::thread::hardware_concurrency());
+    threads = static_cast<unsigned>(std::min<std::size_t>(threads, std::max<std::size_t>(1, files.size())));
+    std::vector<std::thread> pool;
+    for (unsigned t = 1; t < threads; ++t) pool.emplace_back(worker);
+    worker();
+    for (auto& t : pool) t.join();
+    for (std::size_t i = 0; i < files.size(); ++i) {
+        if (bad[i]) run.bad_files.push_back(*bad[i]);
+        for (auto& l : per_file[i]) run.lamps.push_back(std::move(l));
+    }
+    run.stats = lot_statistics(spec, run.lamps);
+    return run;
+}
+
+double process_capability(double mean, double sd, std::optional<double> lower, std::optional<double> upper) {
+    if (!(sd > 0) || (!lower && !upper)) return NAN;
+    double cpk = INFINITY;
+    if (upper) cpk = std::min(cpk, (*upper - mean) / (3 * sd));
+    if (lower) cpk = std::min(cpk, (mean - *lower) / (3 * sd));
+    return cpk;
+}
+
+LotStatistics lot_statistics(const QcSpec& spec, std::vector<LampResult>& lamps) {
+    LotStatistics st;
+    st.count = lamps.size();
+    for (const auto& l : lamps) st.passed += l.pass() ? 1 : 0;
+    st.pass_rate = st.count ? static_cast<double>(st.passed) / static_cast<double>(st.count) : NAN;
+
+    struct Quantity {
+        const char* name;
+        std::function<double(const LampResult&)> get;
+        std::optional<double> lower, upper;
+    };
+    auto ra = [](const LampResult& l) { return l.assessment.rendering ? l.assessment.rendering->ra : NAN; };
+    auto r9 = [](const LampResult& l) { return l.assessment.rendering ? l.assessment.rendering->ri[8] : NAN; };
+    const std::vector<Quantity> quantities{
+        {"x", [](const LampResult& l) { return l.assessment.xy.x; }, {}, {}},
+        {"y", [](const LampResult& l) { return l.assessment.xy.y; }, {}, {}},
+        {"cct_K", [](const LampResult& l) { return l.assessment.cct.valid ? l.assessment.cct.cct_K : NAN; }, spec.cct_min_K, spec.cct_max_K},
+        {"duv", [](const LampResult& l) { return l.assessment.cct.duv; }, spec.duv_min, spec.duv_max},
+        {"Ra", ra, spec.ra_min, {}},
+        {"R9", r9, spec.r9_min, {}},
+        {"steps", [](const LampResult& l) { return l.steps; }, {},
+         spec.region == QcSpec::Region::ellipse ? std::optional<double>(spec.max_steps) : std::nullopt},
+    };
+    std::vector<std::string> notes(lamps.size());
+    for (const auto& q : quantities) {
+        std::vector<double> v;
+        for (const auto& l : lamps)
+            if (const double x = q.get(l); std::isfinite(x)) v.push_back(x);
+        LotStatistics::Summary s{q.name, mean(v), sample_sd(v), v.empty() ? NAN : *std::min_element(v.begin(), v.end()),
+                                 v.empty() ? NAN : *std::max_element(v.begin(), v.end())};
+        st.summaries.push_back(s);
+        if (q.lower || q.upper) st.capabilities.push_back({q.name, s.mean, s.sd, q.lower, q.upper, process_capability(s.mean, s.sd, q.lower, q.upper)});
+        // Robust z-score (Iglewicz and Hoaglin 1993): 0.6745 (x - median) / MAD, outlier beyond 3.5.
+        if (v.size() >= 5) {
+            const double med = median(v);
+            std::vector<double> dev;
+            for (double x : v) dev.push_back(std::abs(x - med));
+            const double mad = median(dev);
+            if (mad > 0)
+                for (std::size_t i = 0; i < lamps.size(); ++i) {
+                    const double x = q.get(lamps[i]);
+                    const double z = 0.6745 * (x - med) / mad;
+                    if (std::isfinite(z) && std::abs(z) > 3.5) {
+                        lamps[i].outlier = true;
+                        notes[i] += fmt::format("{}{} z={:+.1f}", notes[i].empty() ? "" : ", ", q.name, z);
+                    }
+                }
+        }
+    }
+    for (std::size_t i = 0; i < lamps.size(); ++i) {
+        lamps[i].outlier_note = notes[i];
+        st.outliers += lamps[i].outlier ? 1 : 0;
+    }
+    // Centroid of the lot in CIE 1931 x, y (the mean chromaticity).
+    st.centroid = {st.summaries[0].mean, st.summaries[1].mean};
+    st.centroid_steps = std::isfinite(st.centroid.x) ? macadam_steps(spec.step_ellipse, st.centroid) : NAN;
+    return st;
+}
+
+}  // namespace lampwright

@@ -1,0 +1,104 @@
+#pragma once
+// Quality control of lamp lots from measured spectra: a specification (target and limits), each
+// lamp judged against it, and lot statistics (means, standard deviations, the chromaticity
+// centroid, process capability Cpk, robust outliers).
+#include "lampwright/colour/assessment.hpp"
+#include "lampwright/design/targets.hpp"
+
+#include <functional>
+#include <optional>
+#include <string>
+#include <vector>
+
+namespace lampwright {
+
+struct QcSpec {
+    std::string path, name;
+    // Chromaticity tolerance region.
+    enum class Region { ellipse, ansi_quadrangle, circle } region = Region::ellipse;
+    std::string target_description;
+    Chromaticity centre;
+    MacAdamEllipse step_ellipse;  // one-step ellipse at the centre: steps are always reported with it
+    double max_steps = 4;         // ellipse region: n-step limit
+    std::optional<AnsiC78377Class> ansi_class;  // quadrangle region
+    double max_duv_prime = 0;     // circle region: radius in u'v'
+    std::optional<double> ra_min, r9_min, cct_min_K, cct_max_K, duv_min, duv_max;
+};
+
+// Spec files (TOML):
+//   name = "F4100 tri-band, 4-step"
+//   [target]  flamp = "F4100"  steps = 4        # ANSI C78.376 centre, n-step ellipse
+//          or ansi_class = 4000                 # ANSI C78.377 quadrangle
+//          or x = 0.38  y = 0.377  steps = 4     # explicit centre, n-step ellipse
+//          or x = 0.38  y = 0.377  duv_prime_max = 0.004   # explicit centre, u'v' circle
+//   [limits]  ra_min = 80  r9_min = 0  cct_min_K = 3800  cct_max_K = 4300  duv_min = -0.006  duv_max = 0.006
+QcSpec load_qc_spec(const std::string& path);
+
+struct LampResult {
+    std::string file;     // where it was read
+    std::string name;     // spectrum name (file stem or column header)
+    std::string content_hash;  // of the file's bytes (hex), for de-duplication
+    Assessment assessment;
+    double steps = 0;     // MacAdam steps from the target centre
+    bool inside_region = false;
+    std::vector<std::string> failures;  // limits not met, e.g. "Ra 78.2 < 80"
+    bool pass() const { return failures.empty(); }
+    bool outlier = false;
+    std::string outlier_note;
+};
+
+struct BadFile {
+    std::string file, reason;
+};
+
+struct Capability {
+    std::string quantity;
+    double mean = 0, sd = 0;
+    std::optional<double> lower, upper;
+    double cpk = 0;  // NaN when sd is 0 or fewer than 2 lamps
+};
+
+struct LotStatistics {
+    std::size_t count = 0, passed = 0;
+    double pass_rate = 0;
+    struct Summary {
+        std::string quantity;
+        double mean = 0, sd = 0, min = 0, max = 0;
+    };
+    std::vector<Summary> summaries;  // x, y, cct_K, duv, Ra, R9, steps
+    Chromaticity centroid;
+    double centroid_steps = 0;
+    std::vector<Capability> capabilities;
+    std::size_t outliers = 0;
+};
+
+struct QcRun {
+    QcSpec spec;
+    std::vector<LampResult> lamps;
+    std::vector<BadFile> bad_files;
+    LotStatistics stats;
+};
+
+using ProgressCallback = std::function<void(std::size_t done, std::size_t total)>;
+
+// Spectrum files under the inputs: files as given, folders' *.csv, *.txt, *.tsv, *.xml (sorted).
+std::vector<std::string> collect_spectrum_files(const std::vector<std::string>& inputs, std::vector<BadFile>& bad);
+
+// Judges one lamp (its assessment) against the spec.
+LampResult judge_lamp(const QcSpec& spec, Assessment a);
+
+// Reads and judges every file, in parallel over `threads` workers (0 = all cores).
+QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigned threads = 0, const ProgressCallback& progress = {});
+
+// Lot statistics of judged lamps; also marks robust outliers (|0.6745 (v - median) / MAD| > 3.5,
+// Iglewicz and Hoaglin 1993) on the lamps.
+LotStatistics lot_statistics(const QcSpec& spec, std::vector<LampResult>& lamps);
+
+// Process capability: Cpk = min(USL - mean, mean - LSL) / (3 sd), one-sided when one limit is
+// given (Montgomery, Introduction to Statistical Quality Control, ch. 8).
+double process_capability(double mean, double sd, std::optional<double> lower, std::optional<double> upper);
+
+// FNV-1a 64-bit hash of bytes, as 16 hex digits (content identity of spectrum files).
+std::string content_hash(const std::string& bytes);
+
+}  // namespace lampwright

@@ -1,0 +1,100 @@
+#include "lampwright/report/assessment_report.hpp"
+
+#include <fmt/format.h>
+
+#include <cmath>
+
+namespace lampwright {
+
+namespace {
+
+
+const char* reference_name(ReferenceIlluminant r) { return r == ReferenceIlluminant::planckian ? "planckian" : "daylight"; }
+const char* observer_name(Observer o) { return o == Observer::cie1931_2deg ? "2" : "10"; }
+
+}  // namespace
+
+std::vector<std::string> assessment_columns() {
+    std::vector<std::string> c{"name", "x", "y", "u_prime", "v_prime", "cct_K", "duv", "Ra"};
+    for (int i = 1; i <= 14; ++i) c.push_back(fmt::format("R{}", i));
+    for (const char* k : {"ler_lm_per_W", "X", "Y", "Z", "u_1960", "v_1960", "dc", "reference", "peak_nm", "centroid_nm",
+                          "fwhm_nm", "dominant_nm", "purity", "observer"})
+        c.push_back(k);
+    return c;
+}
+
+std::vector<std::string> assessment_values(const Assessment& a) {
+    std::vector<std::string> v{a.name, format_fixed(a.xy.x, 5), format_fixed(a.xy.y, 5), format_fixed(a.uv_prime.u, 5), format_fixed(a.uv_prime.v, 5)};
+    v.push_back(a.cct.valid ? format_fixed(a.cct.cct_K, 1) : "");
+    v.push_back(format_fixed(a.cct.duv, 5));
+    if (a.rendering) {
+        v.push_back(format_fixed(a.rendering->ra, 2));
+        for (double r : a.rendering->ri) v.push_back(format_fixed(r, 2));
+    } else {
+        v.insert(v.end(), 15, "");
+    }
+    v.push_back(format_fixed(a.ler_lm_per_W, 2));
+    const double y = a.xyz.Y;  // X, Y, Z scaled to Y = 100
+    v.push_back(format_fixed(100 * a.xyz.X / y, 4));
+    v.push_back(format_fixed(100.0, 4));
+    v.push_back(format_fixed(100 * a.xyz.Z / y, 4));
+    v.push_back(format_fixed(a.uv1960.u, 5));
+    v.push_back(format_fixed(a.uv1960.v, 5));
+    v.push_back(a.rendering ? format_fixed(a.rendering->dc, 5) : "");
+    v.push_back(a.rendering ? reference_name(a.rendering->reference) : "");
+    v.push_back(format_fixed(a.features.peak_nm, 1));
+    v.push_back(format_fixed(a.features.centroid_nm, 1));
+    v.push_back(format_fixed(a.features.fwhm_nm, 1));
+    v.push_back(format_fixed(a.features.dominant_nm, 1));
+    v.push_back(format_fixed(a.features.purity, 4));
+    v.push_back(observer_name(a.observer));
+    return v;
+}
+
+nlohmann::ordered_json assessment_json(const Assessment& a) {
+    const auto cols = assessment_columns();
+    const auto vals = assessment_values(a);
+    nlohmann::ordered_json j;
+    for (std::size_t i = 0; i < cols.size(); ++i) {
+        const auto& c = cols[i];
+        if (c == "name" || c == "reference" || c == "observer") {
+            j[c] = vals[i].empty() ? nlohmann::ordered_json(nullptr) : nlohmann::ordered_json(vals[i]);
+        } else {
+            j[c] = vals[i].empty() ? nlohmann::ordered_json(nullptr) : nlohmann::ordered_json(std::stod(vals[i]));
+        }
+    }
+    j["warnings"] = a.warnings;
+    return j;
+}
+
+std::string assessment_text(const Assessment& a) {
+    std::string o = fmt::format("{}\n", a.name);
+    const char* obs = a.observer == Observer::cie1931_2deg ? "CIE 1931 2°" : "CIE 1964 10°";
+    o += fmt::format("  chromaticity ({})    x {:.4f}  y {:.4f}   u' {:.4f}  v' {:.4f}\n", obs, a.xy.x, a.xy.y, a.uv_prime.u,
+                     a.uv_prime.v);
+    if (a.cct.valid)
+        o += fmt::format("  CCT                        {:.0f} K   Duv {:+.4f}\n", a.cct.cct_K, a.cct.duv);
+    else
+        o += fmt::format("  CCT                        none: {}\n", a.cct.problem);
+    if (a.rendering) {
+        const auto& r = *a.rendering;
+        o += fmt::format("  colour rendering (CIE 13.3) Ra {:.1f}   reference: {} {:.0f} K, DC {:.4f}\n", r.ra,
+                         reference_name(r.reference), r.reference_cct_K, r.dc);
+        o += "                             ";
+        for (int i = 0; i < 14; ++i) {
+            o += fmt::format("R{} {:.0f}", i + 1, r.ri[i]);
+            o += (i == 6) ? "\n                             " : (i == 13 ? "\n" : "  ");
+        }
+    }
+    o += fmt::format("  LER                        {:.1f} lm/W\n", a.ler_lm_per_W);
+    const auto& f = a.features;
+    o += fmt::format("  peak {:.1f} nm   centroid {:.1f} nm   FWHM {} nm\n", f.peak_nm, f.centroid_nm,
+                     std::isfinite(f.fwhm_nm) ? fmt::format("{:.1f}", f.fwhm_nm) : "n/a");
+    if (std::isfinite(f.dominant_nm))
+        o += fmt::format("  dominant wavelength {:.1f} nm{}   excitation purity {:.3f} (against E)\n", std::abs(f.dominant_nm),
+                         f.dominant_nm < 0 ? " (complementary)" : "", f.purity);
+    for (const auto& w : a.warnings) o += fmt::format("  note: {}\n", w);
+    return o;
+}
+
+}  // namespace lampwright

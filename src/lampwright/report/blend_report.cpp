@@ -1,0 +1,120 @@
+#include "lampwright/report/blend_report.hpp"
+
+#include "lampwright/report/assessment_report.hpp"
+
+#include <fmt/format.h>
+
+#include <cmath>
+
+namespace lampwright {
+
+std::vector<std::string> blend_columns(const BlendResult& r) {
+    auto c = assessment_columns();
+    for (const char* k : {"quantum_yield", "stokes_efficiency", "radiant_efficiency", "efficacy_lm_per_W_absorbed",
+                          "mercury_line_fraction", "pump_leak_W_per_W"})
+        c.push_back(k);
+    for (std::size_t i = 1; i <= r.components.size(); ++i)
+        for (const char* k : {"id", "mass_fraction", "photon_share", "radiant_share", "luminous_share", "stokes_efficiency"})
+            c.push_back(fmt::format("c{}_{}", i, k));
+    return c;
+}
+
+std::vector<std::string> blend_values(const BlendResult& r) {
+    auto v = assessment_values(r.assessment);
+    v.push_back(format_fixed(r.quantum_yield, 5));
+    v.push_back(format_fixed(r.stokes_efficiency, 5));
+    v.push_back(format_fixed(r.radiant_efficiency, 5));
+    v.push_back(format_fixed(r.luminous_efficacy_absorbed, 2));
+    v.push_back(format_fixed(r.mercury_line_fraction, 4));
+    v.push_back(format_fixed(r.pump_leak_W_per_W, 5));
+    for (const auto& c : r.components) {
+        v.push_back(c.label);
+        v.push_back(format_fixed(c.mass_fraction, 6));
+        v.push_back(format_fixed(c.photon_share, 6));
+        v.push_back(format_fixed(c.radiant_share, 6));
+        v.push_back(format_fixed(c.luminous_share, 6));
+        v.push_back(format_fixed(c.stokes_efficiency, 5));
+    }
+    return v;
+}
+
+nlohmann::ordered_json blend_json(const BlendResult& r, const BlendInput& in) {
+    nlohmann::ordered_json j = assessment_json(r.assessment);
+    j["excitation"] = in.excitation.describe();
+    j["quantum_yield"] = r.quantum_yield;
+    j["stokes_efficiency"] = r.stokes_efficiency;
+    j["radiant_efficiency"] = r.radiant_efficiency;
+    j["efficacy_lm_per_W_absorbed"] = r.luminous_efficacy_absorbed;
+    j["mercury_line_fraction"] = r.mercury_line_fraction;
+    j["pump_leak_W_per_W"] = r.pump_leak_W_per_W;
+    auto& comps = j["components"] = nlohmann::ordered_json::array();
+    for (const auto& c : r.components)
+        comps.push_back({{"id", c.label},
+                         {"mass_fraction", c.mass_fraction},
+                         {"absorption", c.absorption},
+                         {"quantum_efficiency", c.quantum_efficiency},
+                         {"photon_share", c.photon_share},
+                         {"radiant_share", c.radiant_share},
+                         {"luminous_share", c.luminous_share},
+                         {"stokes_efficiency", c.stokes_efficiency}});
+    return j;
+}
+
+std::string blend_text(const BlendResult& r, const BlendInput& in) {
+    std::string o = fmt::format("{}   ({})\n", r.name, in.excitation.describe());
+    o += fmt::format("  {:<34} {:>7} {:>7} {:>5} {:>8} {:>8} {:>8} {:>7}\n", "component", "mass %", "absorb", "QE", "photons%",
+                     "power%", "lumen%", "Stokes");
+    for (const auto& c : r.components)
+        o += fmt::format("  {:<34} {:>7.2f} {:>7.3f} {:>5.2f} {:>8.2f} {:>8.2f} {:>8.2f} {:>7.3f}\n", c.label, 100 * c.mass_fraction,
+                         c.absorption, c.quantum_efficiency, 100 * c.photon_share, 100 * c.radiant_share, 100 * c.luminous_share,
+                         c.stokes_efficiency);
+    o += fmt::format("  quantum yield {:.3f}   Stokes efficiency {:.3f}   radiant efficiency {:.3f} W/W   efficacy {:.1f} lm per W absorbed\n",
+                     r.quantum_yield, r.stokes_efficiency, r.radiant_efficiency, r.luminous_efficacy_absorbed);
+    if (in.excitation.kind == Excitation::Kind::mercury)
+        o += fmt::format("  visible mercury lines: {:.1f} % of the visible output\n", 100 * r.mercury_line_fraction);
+    if (r.pump_leak_W_per_W > 0) o += fmt::format("  leaked pump: {:.3f} W per W absorbed\n", r.pump_leak_W_per_W);
+    std::string a = assessment_text(r.assessment);
+    o += a.substr(a.find('\n') + 1);
+    return o;
+}
+
+std::vector<std::string> phosphor_columns() {
+    return {"id", "abbreviation", "use", "emission_model", "peak_nm", "fwhm_nm", "absorption_254nm", "absorption_405nm",
+            "qe_254nm", "qe_365_405nm", "density_g_per_cm3", "body_colour", "source"};
+}
+
+std::vector<std::string> phosphor_values(const Phosphor& p) {
+    const auto s = emission_summary(p);
+    std::string use;
+    for (const auto& u : p.use) use += (use.empty() ? "" : "+") + u;
+    auto opt = [](std::optional<double> v, int d) { return v ? fmt::format("{:.{}f}", *v, d) : std::string(); };
+    std::string source = "emission: " + p.emission_source;
+    if (!p.qe_source.empty()) source += " | QE: " + p.qe_source;
+    return {p.id, p.abbreviation, use, p.emission_model, format_fixed(s.peak_nm, 1), format_fixed(s.fwhm_nm, 1), opt(absorption_at(p, 253.7), 3),
+            opt(absorption_at(p, 405.0), 3), opt(p.qe_254nm, 2), opt(p.qe_365_405nm, 2),
+            p.density_g_per_cm3 > 0 ? format_fixed(p.density_g_per_cm3, 2) : "", p.body_colour, source};
+}
+
+nlohmann::ordered_json phosphor_json(const Phosphor& p) {
+    const auto cols = phosphor_columns();
+    const auto vals = phosphor_values(p);
+    nlohmann::ordered_json j;
+    for (std::size_t i = 0; i < cols.size(); ++i) j[cols[i]] = vals[i];
+    j["model_note"] = p.model_note;
+    j["origin"] = p.origin;
+    return j;
+}
+
+std::string phosphor_table_text(const std::vector<Phosphor>& phosphors) {
+    std::string o = fmt::format("{:<36} {:<6} {:<9} {:>7} {:>6} {:>7} {:>7} {:>5} {:>5}\n", "id", "abbr", "use", "peak nm",
+                                "FWHM", "abs254", "abs405", "QE254", "QEled");
+    for (const auto& p : phosphors) {
+        const auto v = phosphor_values(p);
+        o += fmt::format("{:<36} {:<6} {:<9} {:>7} {:>6} {:>7} {:>7} {:>5} {:>5}\n", v[0], v[1], v[2], v[4], v[5], v[6], v[7], v[8], v[9]);
+    }
+    o += "\nEmission spectra are models built from published peak positions and widths, not measurements;\n"
+         "sources per figure: lampwright phosphors --format json, or data/phosphors/*.toml.\n";
+    return o;
+}
+
+}  // namespace lampwright

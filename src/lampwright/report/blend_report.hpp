@@ -1,0 +1,24 @@
+#pragma once
+// Presenting blend results and the phosphor library: text, CSV, JSON.
+#include "lampwright/phosphor/blend.hpp"
+#include "lampwright/phosphor/phosphor.hpp"
+
+#include <nlohmann/json.hpp>
+
+#include <string>
+#include <vector>
+
+namespace lampwright {
+
+// CSV: the assess columns, then blend columns, then five columns per component.
+std::vector<std::string> blend_columns(const BlendResult& r);
+std::vector<std::string> blend_values(const BlendResult& r);
+nlohmann::ordered_json blend_json(const BlendResult& r, const BlendInput& in);
+std::string blend_text(const BlendResult& r, const BlendInput& in);
+
+std::vector<std::string> phosphor_columns();
+std::vector<std::string> phosphor_values(const Phosphor& p);
+nlohmann::ordered_json phosphor_json(const Phosphor& p);
+std::string phosphor_table_text(const std::vector<Phosphor>& phosphors);
+
+}  // namespace lampwright

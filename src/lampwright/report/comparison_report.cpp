@@ -1,0 +1,78 @@
+#include "lampwright/report/comparison_report.hpp"
+
+#include "lampwright/core/format.hpp"
+#include "lampwright/report/svg_plot.hpp"
+
+#include <fmt/format.h>
+
+#include <algorithm>
+
+namespace lampwright {
+
+namespace {
+
+std::string cell(double v, int decimals) { return format_fixed(v, decimals, "-"); }
+
+struct Figures {
+    double ra, r9, cct;
+};
+
+Figures figures(const ComparisonEntry& e) {
+    const auto& a = e.assessment;
+    return {a.rendering ? a.rendering->ra : NAN, a.rendering ? a.rendering->ri[8] : NAN, a.cct.valid ? a.cct.cct_K : NAN};
+}
+
+}  // namespace
+
+std::string comparison_text(const std::vector<ComparisonEntry>& entries) {
+    std::string o = fmt::format("{:<36} {:<8} {:>7} {:>7} {:>7} {:>8} {:>6} {:>6} {:>7} {:>6} {:>7} {:>8}\n", "name", "kind", "x", "y", "CCT K",
+                                "Duv", "Ra", "R9", "LER", "eff", "leak%", "lm/W*");
+    for (const auto& e : entries) {
+        const auto& a = e.assessment;
+        const auto [ra, r9, cct] = figures(e);
+        o += fmt::format("{:<36} {:<8} {:>7} {:>7} {:>7} {:>8} {:>6} {:>6} {:>7} {:>6} {:>7} {:>8}\n", e.name.substr(0, 36), e.kind,
+                         cell(a.xy.x, 4), cell(a.xy.y, 4), cell(cct, 0), cell(a.cct.duv, 4), cell(ra, 1), cell(r9, 1),
+                         cell(a.ler_lm_per_W, 1), cell(e.efficiency, 3), cell(100 * e.leak_fraction, 2), cell(e.efficacy, 1));
+    }
+    return o + "eff: W out per W pump (layer), W per W absorbed (blend); lm/W*: per W pump (layer), per W absorbed (blend)\n";
+}
+
+std::string comparison_csv(const std::vector<ComparisonEntry>& entries) {
+    std::string o = csv_line({"name", "kind", "x", "y", "cct_K", "duv", "Ra", "R9", "ler_lm_per_W", "efficiency", "pump_leak_fraction",
+                              "efficacy_lm_per_W"}) + "\n";
+    for (const auto& e : entries) {
+        const auto& a = e.assessment;
+        const auto [ra, r9, cct] = figures(e);
+        o += csv_line({e.name, e.kind, cell(a.xy.x, 5), cell(a.xy.y, 5), cell(cct, 1), cell(a.cct.duv, 5), cell(ra, 2), cell(r9, 2),
+                       cell(a.ler_lm_per_W, 2), cell(e.efficiency, 4), cell(e.leak_fraction, 5), cell(e.efficacy, 2)}) + "\n";
+    }
+    return o;
+}
+
+std::string comparison_svg(const std::vector<ComparisonEntry>& entries) {
+    std::vector<SvgSeries> spectra, points;
+    double u0 = 1, u1 = 0, v0 = 1, v1 = 0;
+    for (std::size_t i = 0; i < entries.size(); ++i) {
+        const auto& e = entries[i];
+        SvgSeries s{e.name, {}, {}, series_colour(i), false};
+        const double peak = *std::max_element(e.spectrum.values.begin(), e.spectrum.values.end());
+        for (std::size_t k = 0; k < e.spectrum.values.size(); ++k) {
+            const double nm = e.spectrum.first_nm + static_cast<double>(k);
+            if (nm < 350 || nm > 800) continue;
+            s.x.push_back(nm);
+            s.y.push_back(e.spectrum.values[k] / peak);
+        }
+        spectra.push_back(std::move(s));
+        const UV p = e.assessment.uv_prime;
+        points.push_back({e.name, {p.u}, {p.v}, series_colour(i), true});
+        u0 = std::min(u0, p.u), u1 = std::max(u1, p.u), v0 = std::min(v0, p.v), v1 = std::max(v1, p.v);
+    }
+    const double span = std::max({u1 - u0, v1 - v0, 0.02}) * 0.6 + 0.01;
+    const double uc = (u0 + u1) / 2, vc = (v0 + v1) / 2;
+    std::string o = "<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"1180\" height=\"540\">\n";
+    o += "<g transform=\"translate(0,60)\">" + svg_chart({"Spectra (each scaled to its peak)", "wavelength (nm)", "relative power", 350, 800, 0, 1.05, 640, 420}, spectra) + "</g>";
+    o += "<g transform=\"translate(650,10)\">" + svg_uv_diagram("Chromaticity (CIE 1976 u'v')", points, uc - span, uc + span, vc - span, vc + span) + "</g>";
+    return o + "</svg>\n";
+}
+
+}  // namespace lampwright

@@ -1,0 +1,45 @@
+#pragma once
+// Presenting fits: one blend fit, a trade-off front, the best-k-of-n trials and a production
+// tolerance run, as text, CSV and JSON (and the front as SVG). The CSV and JSON keys are stable:
+// a blend fit's CSV row is blend_columns() then fit_feasible, fit_delta_uv_prime,
+// fit_objective_value, fit_<component>..., and with a tolerance run tol_draws ... tol_nominal_steps.
+#include "lampwright/design/optimiser.hpp"
+#include "lampwright/design/tolerance.hpp"
+#include "lampwright/design/tradeoff.hpp"
+#include "lampwright/led/layer_fit.hpp"
+
+#include <nlohmann/json.hpp>
+
+#include <string>
+#include <utility>
+#include <vector>
+
+namespace lampwright {
+
+std::string fit_text(const FitProblem& p, const FitResult& r, double ms);
+nlohmann::ordered_json fit_json(const FitProblem& p, const FitResult& r, double ms);
+// Column names and cells of the one CSV row of a blend fit (tolerance columns when `tolerance`).
+std::pair<std::vector<std::string>, std::vector<std::string>> fit_csv(const FitProblem& p, const FitResult& r,
+                                                                      const ToleranceResult* tolerance = nullptr);
+std::string sensitivity_text(const std::vector<SensitivityRow>& rows);
+
+std::string front_text(const FitProblem& p, const TradeoffFront& f, double ms);
+nlohmann::ordered_json front_json(const FitProblem& p, const TradeoffFront& f, double ms);
+// CSV: floor, feasible, the figures, x, y, delta u'v', one fraction column per component.
+std::string front_csv(const FitProblem& problem, const TradeoffFront& front);
+// SVG chart: the objective against the floor figure (the floor figure on x).
+std::string front_svg(const FitProblem& problem, const TradeoffFront& front);
+
+std::string subsets_text(const SubsetChoice& c, std::size_t n);
+nlohmann::ordered_json subsets_json(const SubsetChoice& c);
+
+std::string tolerance_text(const ToleranceProblem& t, const ToleranceResult& r, double ms, const std::string& ellipse_source);
+nlohmann::ordered_json tolerance_json(const ToleranceProblem& t, const ToleranceResult& r, double ms, const std::string& ellipse_source);
+
+// A layer fit: the fitted loadings (and thickness), the constraints, then the layer's own report;
+// CSV is layer_columns() then fit_feasible, fit_delta_uv_prime, fit_thickness_um, fit_loading_<id>...
+std::string layer_fit_text(const LayerFitProblem& problem, const LayerFitResult& r);
+std::pair<std::vector<std::string>, std::vector<std::string>> layer_fit_csv(const LayerFitResult& r);
+nlohmann::ordered_json layer_fit_json(const LayerFitResult& r);
+
+}  // namespace lampwright

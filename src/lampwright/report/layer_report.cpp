@@ -1,0 +1,81 @@
+#include "lampwright/report/layer_report.hpp"
+
+#include "lampwright/report/assessment_report.hpp"
+
+#include <fmt/format.h>
+
+#include <cmath>
+
+namespace lampwright {
+
+std::vector<std::string> layer_columns() {
+    auto c = assessment_columns();
+    for (const char* k : {"temperature_C", "pump_leak_fraction", "conversion_efficiency", "efficacy_lm_per_W_pump", "pump_power_W",
+                          "leaked_pump_W", "leaked_uv_violet_W", "converted_W", "stokes_loss_W", "quantum_loss_W",
+                          "photons_leaked", "photons_escaping", "photons_lost", "x_25C", "y_25C", "shift_macadam_steps"})
+        c.push_back(k);
+    return c;
+}
+
+std::vector<std::string> layer_values(const LayerEvaluation& rep) {
+    const auto& r = rep.operating;
+    auto v = assessment_values(r.assessment);
+    for (double x : {r.temperature_C, r.pump_leak_fraction, r.conversion_efficiency, r.efficacy_lm_per_W_pump, r.pump_power_W,
+                     r.leaked_pump_W, r.leaked_uv_violet_W, r.converted_W, r.stokes_loss_W, r.quantum_loss_W,
+                     r.pump_photons_leaked, r.photons_escaping, r.photons_lost, rep.room.assessment.xy.x, rep.room.assessment.xy.y,
+                     rep.shift_steps})
+        v.push_back(format_fixed(x, 6));
+    return v;
+}
+
+nlohmann::ordered_json layer_json(const LayerEvaluation& rep) {
+    const auto cols = layer_columns();
+    nlohmann::ordered_json j = assessment_json(rep.operating.assessment);
+    const auto vals = layer_values(rep);
+    for (std::size_t i = assessment_columns().size(); i < cols.size(); ++i) j[cols[i]] = vals[i].empty() ? nlohmann::ordered_json(nullptr) : nlohmann::ordered_json(std::stod(vals[i]));
+    auto& comps = j["components"] = nlohmann::ordered_json::array();
+    for (const auto& c : rep.operating.components)
+        comps.push_back({{"id", c.label}, {"quantum_efficiency", c.quantum_efficiency}, {"pump_photons_absorbed", c.pump_photons_absorbed},
+                         {"photons_absorbed", c.photons_absorbed}, {"photons_emitted", c.photons_emitted},
+                         {"photons_escaping", c.photons_escaping}, {"power_escaping_W", c.power_escaping_W}});
+    const std::string caution = layer_caution(rep);
+    if (!caution.empty()) j["caution"] = caution;
+    return j;
+}
+
+std::string layer_text(const LayerEvaluation& rep) {
+    const auto& d = rep.design;
+    const auto& r = rep.operating;
+    std::string o = fmt::format("{}   ({}, {:g} W; layer {:g} um)\n", d.name, d.pump.describe(), d.pump_power_W, d.thickness_um);
+    o += fmt::format("  {:<28} {:>8} {:>6} {:>10} {:>10} {:>10} {:>10}\n", "component", "loading%", "QE", "pump abs", "all abs",
+                     "emitted", "escaping");
+    for (std::size_t i = 0; i < r.components.size(); ++i) {
+        const auto& c = r.components[i];
+        o += fmt::format("  {:<28} {:>8.2f} {:>6.3f} {:>10.4f} {:>10.4f} {:>10.4f} {:>10.4f}\n", c.label, 100 * d.components[i].loading,
+                         c.quantum_efficiency, c.pump_photons_absorbed, c.photons_absorbed, c.photons_emitted, c.photons_escaping);
+    }
+    o += "  (photons per pump photon)\n";
+    o += fmt::format("  at {:g} degC: pump leak {:.2f} % of output ({:.4f} W, of which {:.4f} W below 420 nm)\n", r.temperature_C,
+                     100 * r.pump_leak_fraction, r.leaked_pump_W, r.leaked_uv_violet_W);
+    o += fmt::format("  conversion efficiency {:.3f} W/W   efficacy {:.1f} lm per W of pump\n", r.conversion_efficiency, r.efficacy_lm_per_W_pump);
+    o += fmt::format("  energy: pump {:.4f} W = leaked {:.4f} + converted {:.4f} + Stokes loss {:.4f} + quantum loss {:.4f}\n",
+                     r.pump_power_W, r.leaked_pump_W, r.converted_W, r.stokes_loss_W, r.quantum_loss_W);
+    o += fmt::format("  photons: 1 = leaked {:.4f} + escaping {:.4f} + lost {:.4f}\n", r.pump_photons_leaked, r.photons_escaping, r.photons_lost);
+    o += fmt::format("  25 degC: x {:.4f} y {:.4f}   {:g} degC: x {:.4f} y {:.4f}   shift {:.2f} MacAdam steps\n",
+                     rep.room.assessment.xy.x, rep.room.assessment.xy.y, r.temperature_C, r.assessment.xy.x, r.assessment.xy.y, rep.shift_steps);
+    const std::string a = assessment_text(r.assessment);
+    o += a.substr(a.find('\n') + 1);
+    const std::string caution = layer_caution(rep);
+    if (!caution.empty()) o += "  CAUTION: " + caution + "\n";
+    return o;
+}
+
+std::string layer_caution(const LayerEvaluation& rep) {
+    if (!leak_needs_caution(rep.operating, rep.design.pump.peak_nm)) return "";
+    return fmt::format("{:.1f} mW of UV/violet pump light (below 420 nm) leaks from this layer at {:g} W pump. UV and violet light is a "
+                       "photobiological hazard to eyes and skin: assess the product to IEC 62471 (photobiological safety of lamps), "
+                       "shield and label it, and follow local codes and licensed practice.",
+                       1e3 * rep.operating.leaked_uv_violet_W, rep.design.pump_power_W);
+}
+
+}  // namespace lampwright

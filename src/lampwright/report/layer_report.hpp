@@ -1,0 +1,20 @@
+#pragma once
+// Presenting LED layer results: text, CSV, JSON.
+#include "lampwright/led/layer.hpp"
+
+#include <nlohmann/json.hpp>
+
+#include <string>
+#include <vector>
+
+namespace lampwright {
+
+// CSV: the assess columns (at the operating temperature) then the layer columns.
+std::vector<std::string> layer_columns();
+std::vector<std::string> layer_values(const LayerEvaluation& r);
+nlohmann::ordered_json layer_json(const LayerEvaluation& r);
+std::string layer_text(const LayerEvaluation& r);
+// The photobiological caution, or "" when the leak is negligible or the pump is not UV/violet.
+std::string layer_caution(const LayerEvaluation& r);
+
+}  // namespace lampwright

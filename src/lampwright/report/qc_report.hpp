@@ -1,0 +1,31 @@
+#pragma once
+// QC reports: the lot as text, CSV, JSON, and one self-contained HTML file (inline SVG, no
+// network): u'v' diagram zoomed on the target (Planckian locus with CCT ticks, the tolerance
+// region, each lamp coloured pass/fail, the centroid), histograms of Ra and R9, a table of every
+// lamp, the lot statistics.
+#include "lampwright/phosphor/blend.hpp"
+#include "lampwright/production/lot_correction.hpp"
+#include "lampwright/production/qc.hpp"
+
+#include <nlohmann/json.hpp>
+
+#include <string>
+#include <vector>
+
+namespace lampwright {
+
+std::string qc_text(const QcRun& run);
+std::vector<std::string> qc_lamp_columns();          // assess columns + file, steps, inside, pass, failures, outlier
+std::vector<std::string> qc_lamp_values(const LampResult& l);
+nlohmann::ordered_json qc_json(const QcRun& run);
+std::string qc_html_report(const QcRun& run, const std::string& extra_html = "");
+
+// The boundary of the spec's tolerance region as CIE 1976 u'v' points (closed polygon).
+std::vector<UV> tolerance_region_uv(const QcSpec& spec, int points = 180);
+
+// The corrected recipe of a lot: old and new fractions, the expected centroid and the new recipe
+// as TOML; as text and as the HTML section (id "correction") of the lot report.
+std::string lot_correction_text(const LotCorrection& c, const BlendInput& recipe, const std::string& recipe_path);
+std::string lot_correction_html(const LotCorrection& c, const BlendInput& recipe);
+
+}  // namespace lampwright
