@@ -8,7 +8,7 @@
 
 #include <fmt/format.h>
 
-#include <fstream>
+#include <sstream>
 #include <iostream>
 
 namespace po = boost::program_options;
@@ -33,13 +33,17 @@ efficiency, radiant efficiency and efficacy per W of absorbed excitation. See RE
     const Format f = parse_format(format);
     if (recipes.size() != 1) throw UsageError{"blend: give exactly one recipe file (see lampwright blend --help)"};
 
+    std::vector<FileRole> inputs{{recipes.front(), "the recipe"}};
+    add_inputs(inputs, folders, "--phosphors folder");
+    check_outputs_apart({{spectrum_out, "--spectrum-out"}}, inputs);
+
     const Recipe recipe = load_recipe(recipes.front(), folders);
     const BlendResult result = naming_input(recipe.path, [&] { return evaluate_blend(recipe.blend); });
     for (const auto& w : result.assessment.warnings) print_warning(fmt::format("{}: {}", result.name, w));
     if (!spectrum_out.empty()) {
-        std::ofstream out(spectrum_out);
-        if (!out) throw InputError(spectrum_out, 0, "cannot be written");
+        std::ostringstream out;
         write_spectrum_csv(out, result.spectrum, "value");
+        write_output_or_throw(spectrum_out, out.str());
     }
     switch (f) {
         case Format::text: std::cout << blend_text(result, recipe.blend); break;

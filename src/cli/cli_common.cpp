@@ -66,4 +66,28 @@ std::function<void(std::size_t, std::size_t)> terminal_progress(const std::strin
 void print_error(const std::string& message) { std::cerr << "lampwright: error: " << message << '\n'; }
 void print_warning(const std::string& message) { std::cerr << "lampwright: warning: " << message << '\n'; }
 
+void check_outputs_apart(const std::vector<FileRole>& outputs, const std::vector<FileRole>& inputs) {
+    try {
+        lampwright::refuse_output_over_input(outputs, inputs);
+    } catch (const OutputError& e) {
+        throw UsageError{e.what()};
+    }
+}
+
+void add_inputs(std::vector<FileRole>& inputs, const std::vector<std::string>& paths, const std::string& role) {
+    for (const auto& p : paths) inputs.push_back({p, role});
+}
+
+void write_output_or_throw(const std::string& path, std::string_view content) { write_file_atomically(path, content); }
+
+bool write_output(const std::string& path, std::string_view content) {
+    try {
+        write_file_atomically(path, content);
+        return true;
+    } catch (const OutputError& e) {
+        print_error(e.what());
+        return false;
+    }
+}
+
 }  // namespace lampwright::cli

@@ -1,12 +1,14 @@
 #pragma once
 // Shared pieces of the command-line front end: exit codes, output formats, messages.
 #include "lampwright/core/error.hpp"
+#include "lampwright/io/output_file.hpp"
 
 #include <boost/program_options.hpp>
 
 #include <functional>
 #include <iosfwd>
 #include <string>
+#include <string_view>
 #include <vector>
 
 namespace lampwright {
@@ -16,10 +18,13 @@ struct LayerFitProblem;
 
 namespace lampwright::cli {
 
-// Exit codes every command uses.
+// Exit status of every command (README, "Exit status"): 0 success; 2 the command line is wrong and
+// nothing was done; otherwise the sum of the flags below that apply, so no one failure hides another.
 inline constexpr int kExitOk = 0;
-inline constexpr int kExitBadInput = 1;  // some input was bad; every good one was still reported
-inline constexpr int kExitUsage = 2;     // the command line itself is wrong
+inline constexpr int kExitBadInput = 1;        // some input was bad; every good one was still reported
+inline constexpr int kExitUsage = 2;           // the command line itself is wrong (alone, never summed)
+inline constexpr int kExitOutOfLimits = 4;     // qc: some lamps failed their specification
+inline constexpr int kExitOutputNotWritten = 8;  // an output file, the database or standard output could not be written
 
 enum class Format { text, csv, json };
 Format parse_format(const std::string& s);  // throws UsageError
@@ -46,6 +51,18 @@ auto naming_input(const std::string& path, Work&& work, const std::string& what 
 std::function<void(std::size_t, std::size_t)> terminal_progress(const std::string& label, const std::string& unit, std::size_t min_total);
 
 void print_error(const std::string& message);
+
+// Refuses (UsageError, exit 2, naming both) an output that is the same file as an input, the
+// database or another output; call it before any work. Inputs that are folders cover their files.
+void check_outputs_apart(const std::vector<FileRole>& outputs, const std::vector<FileRole>& inputs);
+// Every input of a command given by the user's paths, with the role named in messages.
+void add_inputs(std::vector<FileRole>& inputs, const std::vector<std::string>& paths, const std::string& role);
+
+// Writes an output file atomically (io/output_file.hpp); false, with the error printed, when it
+// could not be written (the old file, if any, is unchanged).
+[[nodiscard]] bool write_output(const std::string& path, std::string_view content);
+// Writes an output file atomically or throws OutputError (the command then exits with kExitOutputNotWritten).
+void write_output_or_throw(const std::string& path, std::string_view content);
 void print_warning(const std::string& message);
 
 // Parses a sub-command's options; `positional` (may be empty) collects the bare arguments.

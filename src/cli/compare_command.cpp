@@ -15,7 +15,6 @@
 #include <algorithm>
 #include <cmath>
 #include <filesystem>
-#include <fstream>
 #include <iostream>
 
 namespace po = boost::program_options;
@@ -66,6 +65,11 @@ Options)");
     if (f == Format::json) throw UsageError{"compare: --format must be text or csv"};
     if (files.empty()) throw UsageError{"compare: give at least one file (see lampwright compare --help)"};
 
+    std::vector<FileRole> inputs;
+    add_inputs(inputs, files, "an input");
+    add_inputs(inputs, folders, "--phosphors folder");
+    check_outputs_apart({{svg, "--svg"}}, inputs);
+
     int status = kExitOk;
     std::vector<ComparisonEntry> entries;
     for (const auto& path : files) {
@@ -82,11 +86,7 @@ Options)");
     std::cout << (f == Format::csv ? comparison_csv(entries) : comparison_text(entries));
     for (const auto& e : entries)
         if (!e.caution.empty()) std::cerr << "lampwright: CAUTION: " << e.name << ": " << e.caution << '\n';
-    if (!svg.empty() && !entries.empty()) {
-        std::ofstream out(svg);
-        if (!out) throw InputError(svg, 0, "cannot be written");
-        out << comparison_svg(entries);
-    }
+    if (!svg.empty() && !entries.empty() && !write_output(svg, comparison_svg(entries))) status |= kExitOutputNotWritten;
     return status;
 }
 

@@ -17,7 +17,6 @@
 #include <algorithm>
 #include <chrono>
 #include <cmath>
-#include <fstream>
 #include <iostream>
 #include <sstream>
 
@@ -210,6 +209,10 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     if (vm.count("min-r9")) p.min_r9 = vm["min-r9"].as<double>();
     if (vm.count("min-ler")) p.min_ler = vm["min-ler"].as<double>();
 
+    std::vector<FileRole> inputs{{recipes.front(), "the recipe"}};
+    add_inputs(inputs, folders, "--phosphors folder");
+    check_outputs_apart({{recipe_out, "--recipe-out"}, {front_csv_path, "--front-csv"}, {front_svg_path, "--front-svg"}}, inputs);
+
     if (const TomlDoc doc = TomlDoc::from_file(recipes.front()); is_layer_design(doc)) {
         for (const char* o : {"front", "choose", "tolerance-run", "sensitivity", "min-ler", "method"})
             if (vm.count(o)) throw UsageError{fmt::format("fit: --{} applies to blend recipes, not to LED layer designs", o)};
@@ -250,14 +253,8 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
             case Format::csv: std::cout << front_csv(p, tf); break;
             case Format::json: std::cout << front_json(p, tf, fms).dump(2) << '\n'; break;
         }
-        if (!front_csv_path.empty()) {
-            std::ofstream out(front_csv_path);
-            if (!out || !(out << front_csv(p, tf))) throw InputError(front_csv_path, 0, "cannot be written");
-        }
-        if (!front_svg_path.empty()) {
-            std::ofstream out(front_svg_path);
-            if (!out || !(out << front_svg(p, tf))) throw InputError(front_svg_path, 0, "cannot be written");
-        }
+        if (!front_csv_path.empty()) write_output_or_throw(front_csv_path, front_csv(p, tf));
+        if (!front_svg_path.empty()) write_output_or_throw(front_svg_path, front_svg(p, tf));
         if (std::none_of(tf.points.begin(), tf.points.end(), [](const FrontPoint& q) { return q.feasible; }))
             throw InputError(recipe.path, 0, "no point of the front is feasible");
         return kExitOk;
@@ -335,12 +332,10 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     }
     if (!r.feasible) throw InputError(recipe.path, 0, "target " + p.target.description + ": " + r.message);
     if (!recipe_out.empty()) {
-        std::ofstream out(recipe_out);
-        if (!out) throw InputError(recipe_out, 0, "cannot be written");
         BlendInput b = r.blend;
         b.name = recipe.blend.name + " (fitted)";
-        out << recipe_to_toml(b, {fmt::format("Fitted by lampwright fit from {}: target {}; {}.", recipe.path, p.target.description,
-                                              fit_objective_name(p.objective))});
+        write_output_or_throw(recipe_out, recipe_to_toml(b, {fmt::format("Fitted by lampwright fit from {}: target {}; {}.", recipe.path,
+                                                                         p.target.description, fit_objective_name(p.objective))}));
     }
     return kExitOk;
 }

@@ -10,7 +10,6 @@
 
 #include <fmt/format.h>
 
-#include <fstream>
 #include <iostream>
 
 namespace lampwright::cli {
@@ -34,9 +33,7 @@ int run_layer_fit(const LayerFitProblem& problem, Format format, const std::stri
         return kExitBadInput;
     }
     if (!design_out.empty()) {
-        std::ofstream out(design_out);
-        if (!out || !(out << "# Fitted by lampwright fit: " << problem.target.description << "\n" << layer_design_to_toml(d)))
-            throw InputError(design_out, 0, "cannot be written");
+        write_output_or_throw(design_out, "# Fitted by lampwright fit: " + problem.target.description + "\n" + layer_design_to_toml(d));
     }
     return kExitOk;
 }

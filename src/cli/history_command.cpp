@@ -7,7 +7,6 @@
 #include "lampwright/report/history_report.hpp"
 
 #include <filesystem>
-#include <fstream>
 #include <iostream>
 
 namespace po = boost::program_options;
@@ -33,18 +32,14 @@ chart; Montgomery, Introduction to Statistical Quality Control); lots beyond a l
     if (!parse_command_line(argc, argv, opts, "", nullptr, vm, "history")) return kExitOk;
     const Format f = parse_format(format);
 
+    check_outputs_apart({{svg, "--svg"}}, {{db, "the history database"}});
     std::error_code ec;
     if (!std::filesystem::exists(db, ec))
         throw InputError(db, 0, "no lot history database here (record lots with 'lampwright qc', or name one with --db PATH)");
     if (std::filesystem::is_directory(db, ec)) throw InputError(db, 0, "is a folder, not a lot history database");
     const auto lots = list_lots(db);
     const auto charts = control_charts(lots);
-    if (!svg.empty()) {
-        std::ofstream out(svg);
-        if (!out) throw InputError(svg, 0, "cannot be written");
-        out << control_charts_svg(charts);
-        if (!out) throw InputError(svg, 0, "could not be written completely");
-    }
+    if (!svg.empty()) write_output_or_throw(svg, control_charts_svg(charts));
     switch (f) {
         case Format::text:
             std::cout << "Lot history: " << db << " (" << lots.size() << (lots.size() == 1 ? " lot" : " lots") << ")\n\n" << lots_text(lots);

@@ -8,7 +8,7 @@
 
 #include <fmt/format.h>
 
-#include <fstream>
+#include <sstream>
 #include <iostream>
 
 namespace po = boost::program_options;
@@ -38,15 +38,19 @@ local codes and licensed practice.
     const Format f = parse_format(format);
     if (designs.size() != 1) throw UsageError{"layer: give exactly one design file (see lampwright layer --help)"};
 
+    std::vector<FileRole> inputs{{designs.front(), "the layer design"}};
+    add_inputs(inputs, folders, "--phosphors folder");
+    check_outputs_apart({{spectrum_out, "--spectrum-out"}}, inputs);
+
     const LayerDesign design = load_layer_design(designs.front(), folders);
     const LayerEvaluation rep = naming_input(designs.front(), [&] { return evaluate_layer_design(design); });
     for (const auto& w : rep.operating.assessment.warnings) print_warning(fmt::format("{}: {}", design.name, w));
     const std::string caution = layer_caution(rep);
     if (!caution.empty() && f != Format::text) std::cerr << "lampwright: CAUTION: " << caution << '\n';
     if (!spectrum_out.empty()) {
-        std::ofstream out(spectrum_out);
-        if (!out) throw InputError(spectrum_out, 0, "cannot be written");
+        std::ostringstream out;
         write_spectrum_csv(out, rep.operating.spectrum, "value");
+        write_output_or_throw(spectrum_out, out.str());
     }
     switch (f) {
         case Format::text: std::cout << layer_text(rep); break;

@@ -2,7 +2,13 @@
 #include "cli_common.hpp"
 
 #include "lampwright/core/error.hpp"
+#include "lampwright/core/version.hpp"
+#include "lampwright/io/output_file.hpp"
 
+#include <fmt/format.h>
+
+#include <cerrno>
+#include <cstdio>
 #include <cstring>
 #include <exception>
 #include <iostream>
@@ -24,9 +30,51 @@ Commands:
   qc         judge a lot of measured lamps against a specification
   history    recorded lots, their statistics and control charts
 
-Run 'lampwright COMMAND --help' for the options of a command.
+Run 'lampwright COMMAND --help' (or 'lampwright help COMMAND') for the options of a command;
+'lampwright --version' prints the version.
 
 )";
+
+// Runs one sub-command; every error becomes a message and an exit status (cli_common.hpp).
+int run_command(const std::string& command, int argc, char** argv) {
+    using namespace lampwright::cli;
+    try {
+        if (command == "assess") return run_assess(argc, argv);
+        if (command == "phosphors") return run_phosphors(argc, argv);
+        if (command == "blend") return run_blend(argc, argv);
+        if (command == "fit") return run_fit(argc, argv);
+        if (command == "layer") return run_layer(argc, argv);
+        if (command == "compare") return run_compare(argc, argv);
+        if (command == "qc") return run_qc_command(argc, argv);
+        if (command == "history") return run_history(argc, argv);
+        print_error("unknown command '" + command + "'");
+        std::cerr << kUsage;
+        return kExitUsage;
+    } catch (const UsageError& e) {
+        print_error(e.message);
+        return kExitUsage;
+    } catch (const lampwright::OutputError& e) {
+        print_error(e.what());
+        return kExitOutputNotWritten;
+    } catch (const lampwright::InputError& e) {
+        print_error(e.what());
+        return kExitBadInput;
+    } catch (const std::exception& e) {
+        print_error(e.what());
+        return kExitBadInput;
+    }
+}
+
+// Standard output is checked before exiting: a full disk or a closed pipe behind it must not end
+// in exit 0 with the results lost (fflush and ferror, ISO C 7.21).
+int with_stdout_checked(int status) {
+    using namespace lampwright::cli;
+    std::cout.flush();
+    const bool failed = !std::cout.good() || std::fflush(stdout) != 0 || std::ferror(stdout) != 0;
+    if (!failed) return status;
+    print_error(fmt::format("standard output could not be written completely: {}", std::strerror(errno)));
+    return status == kExitUsage ? status : (status | kExitOutputNotWritten);
+}
 
 }  // namespace
 
@@ -37,30 +85,19 @@ int main(int argc, char** argv) {
         return kExitUsage;
     }
     const std::string command = argv[1];
+    if (command == "--version" || command == "version") {
+        std::cout << "lampwright " << lampwright::kVersion << '\n';
+        return with_stdout_checked(kExitOk);
+    }
     if (command == "--help" || command == "-h" || command == "help") {
+        // 'help COMMAND' is the command's own help.
+        if (command == "help" && argc > 2) {
+            char help_flag[] = "--help";
+            char* sub_argv[] = {argv[2], help_flag, nullptr};
+            return with_stdout_checked(run_command(argv[2], 2, sub_argv));
+        }
         std::cout << kUsage << '\n' << kSafetyNotice;
-        return kExitOk;
+        return with_stdout_checked(kExitOk);
     }
-    try {
-        if (command == "assess") return run_assess(argc - 1, argv + 1);
-        if (command == "phosphors") return run_phosphors(argc - 1, argv + 1);
-        if (command == "blend") return run_blend(argc - 1, argv + 1);
-        if (command == "fit") return run_fit(argc - 1, argv + 1);
-        if (command == "layer") return run_layer(argc - 1, argv + 1);
-        if (command == "compare") return run_compare(argc - 1, argv + 1);
-        if (command == "qc") return run_qc_command(argc - 1, argv + 1);
-        if (command == "history") return run_history(argc - 1, argv + 1);
-        print_error("unknown command '" + command + "'");
-        std::cerr << kUsage;
-        return kExitUsage;
-    } catch (const UsageError& e) {
-        print_error(e.message);
-        return kExitUsage;
-    } catch (const lampwright::InputError& e) {
-        print_error(e.what());
-        return kExitBadInput;
-    } catch (const std::exception& e) {
-        print_error(e.what());
-        return kExitBadInput;
-    }
+    return with_stdout_checked(run_command(command, argc - 1, argv + 1));
 }

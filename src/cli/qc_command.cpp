@@ -9,7 +9,6 @@
 
 #include <fmt/format.h>
 
-#include <fstream>
 #include <iostream>
 
 namespace po = boost::program_options;
@@ -17,18 +16,6 @@ namespace po = boost::program_options;
 namespace lampwright::cli {
 
 namespace {
-
-// Exit codes of qc (README): all lamps passed; some files bad; some lamps failed; both.
-constexpr int kQcAllPassed = 0;
-constexpr int kQcBadFiles = 1;
-constexpr int kQcLampsFailed = 3;
-constexpr int kQcBoth = 4;
-
-
-void write_file(const std::string& path, const std::string& content) {
-    std::ofstream out(path, std::ios::binary);
-    if (!out || !(out << content)) throw InputError(path, 0, "cannot be written");
-}
 
 }  // namespace
 
@@ -41,8 +28,8 @@ quadrangle or u'v' circle), Ra, R9, CCT and Duv limits. Prints each lamp's figur
 the lot statistics (means, standard deviations, centroid and its offset in MacAdam steps, Cpk,
 robust outliers). Files are read in parallel.
 
-Exit status: 0 all lamps passed; 1 some files were bad (every lamp read passed); 3 some lamps
-failed (every file read); 4 both; 2 usage error.
+Exit status: 0 all lamps passed; 2 usage error; otherwise the sum of 1 some files were bad (every
+other lamp was judged), 4 some lamps failed, 8 the report or the database could not be written.
 
 )") + kSafetyNotice + "\nOptions");
     std::string format = "text", report, db, lot_id, recipe;
@@ -61,6 +48,17 @@ failed (every file read); 4 both; 2 usage error.
     const Format f = parse_format(format);
     if (args.size() < 2) throw UsageError{"qc: give a spec file and at least one spectrum file or folder (see lampwright qc --help)"};
 
+    const std::string db_path = db.empty() ? kDefaultHistoryDb : db;
+    const bool recording = record || !db.empty();
+    std::vector<FileRole> files_read{{args.front(), "the specification"}, {recipe, "--recipe"}};
+    add_inputs(files_read, std::vector<std::string>(args.begin() + 1, args.end()), "a lamp input");
+    std::vector<FileRole> outputs{{report, "--report"}};
+    if (recording) {
+        check_outputs_apart({{db_path, "the history database"}}, files_read);
+        files_read.push_back({db_path, "the history database"});
+    }
+    check_outputs_apart(outputs, files_read);
+
     const QcSpec spec = load_qc_spec(args.front());
     const std::vector<std::string> inputs(args.begin() + 1, args.end());
     const ProgressCallback progress = terminal_progress("qc", "files", 200);
@@ -77,22 +75,26 @@ failed (every file read); 4 both; 2 usage error.
     }
     std::string correction_html;
     if (!recipe.empty()) correction_html = print_lot_correction(run, recipe, f == Format::text);
-    if (!report.empty()) write_file(report, qc_html_report(run, correction_html));
-    if (record || !db.empty()) {
-        const std::string path = db.empty() ? kDefaultHistoryDb : db;
-        const RecordOutcome o = record_lot(path, run, lot_id, recipe);
-        if (o.recorded)
-            std::cerr << fmt::format("lampwright qc: lot {} recorded in {} ({} lamps new, {} already there)\n", o.lot_id, path, o.lamps_added,
-                                     o.lamps_skipped);
-        else
-            std::cerr << fmt::format("lampwright qc: lot {} is already in {}; nothing recorded\n", o.lot_id, path);
+    // The verdict's flags are kept whatever happens to the report or the database (cli_common.hpp).
+    int status = kExitOk;
+    if (!run.bad_files.empty()) status |= kExitBadInput;
+    if (run.stats.passed < run.stats.count) status |= kExitOutOfLimits;
+    if (!report.empty() && !write_output(report, qc_html_report(run, correction_html))) status |= kExitOutputNotWritten;
+    if (recording) {
+        const std::string& path = db_path;
+        try {
+            const RecordOutcome o = record_lot(path, run, lot_id, recipe);
+            if (o.recorded)
+                std::cerr << fmt::format("lampwright qc: lot {} recorded in {} ({} lamps new, {} already there)\n", o.lot_id, path, o.lamps_added,
+                                         o.lamps_skipped);
+            else
+                std::cerr << fmt::format("lampwright qc: lot {} is already in {}; nothing recorded\n", o.lot_id, path);
+        } catch (const std::exception& e) {
+            print_error(fmt::format("the lot was not recorded: {}", e.what()));
+            status |= kExitOutputNotWritten;
+        }
     }
-    const bool bad = !run.bad_files.empty();
-    const bool failed = run.stats.passed < run.stats.count;
-    if (bad && failed) return kQcBoth;
-    if (bad) return kQcBadFiles;
-    if (failed) return kQcLampsFailed;
-    return kQcAllPassed;
+    return status;
 }
 
 }  // namespace lampwright::cli
