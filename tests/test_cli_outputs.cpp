@@ -165,3 +165,22 @@ TEST_CASE("cli: --version and 'help COMMAND'") {
     CHECK(h.exit_code == 0);
     CHECK(h.out.find("Usage: lampwright assess") != std::string::npos);
 }
+
+TEST_CASE("outputs: every SVG and HTML report names the version, the command line and the time; the QC report also the lot") {
+    const TempDir dir("lampwright_outputs");
+    const std::string svg = dir.file("c.svg");
+    REQUIRE(run_cli_args({"compare", source("examples/spectra/triband_tube_sample.csv"), "--svg", svg}).exit_code == 0);
+    const std::string s = slurp(svg);
+    CHECK(s.find("<desc>lampwright ") != std::string::npos);
+    CHECK(s.find("lampwright compare ") != std::string::npos);
+    CHECK(s.find("Z \xC2\xB7 ") != std::string::npos);  // the UTC time stamp, then the next field
+
+    const std::string html = dir.file("r.html");
+    REQUIRE(run_cli_args({"qc", source("examples/qc/spec_F4100.toml"), source("examples/qc/lot_A"), "--report", html, "--db", dir.file("h.db"), "--lot",
+                          "LOT-7"})
+                .exit_code == 4);
+    const std::string h = slurp(html);
+    CHECK(h.find("Made by lampwright ") != std::string::npos);
+    CHECK(h.find("lot LOT-7") != std::string::npos);
+    CHECK(h.find("--report") != std::string::npos);
+}

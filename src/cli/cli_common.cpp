@@ -2,7 +2,10 @@
 
 #include <fmt/format.h>
 
+#include "lampwright/core/version.hpp"
+
 #include <chrono>
+#include <ctime>
 #include <iostream>
 #include <memory>
 
@@ -76,6 +79,39 @@ void check_outputs_apart(const std::vector<FileRole>& outputs, const std::vector
 
 void add_inputs(std::vector<FileRole>& inputs, const std::vector<std::string>& paths, const std::string& role) {
     for (const auto& p : paths) inputs.push_back({p, role});
+}
+
+RunProvenance& run_provenance() {
+    static RunProvenance p;
+    return p;
+}
+
+void set_run_provenance(int argc, char** argv) {
+    RunProvenance& p = run_provenance();
+    p.version = kVersion;
+    std::string line;
+    for (int i = 0; i < argc; ++i) {
+        std::string a = i == 0 ? std::string("lampwright") : std::string(argv[i]);
+        const bool plain = !a.empty() && a.find_first_of(" \t\n'\"\\$`*?;&|<>()#~") == std::string::npos;
+        if (!plain) {
+            std::string q = "'";
+            for (char c : a) q += c == '\'' ? std::string("'\\''") : std::string(1, c);
+            a = q + "'";
+        }
+        line += (i ? " " : "") + a;
+    }
+    p.command_line = line;
+    const std::time_t now = std::time(nullptr);
+    std::tm utc{};
+    gmtime_r(&now, &utc);
+    char buf[32];
+    std::strftime(buf, sizeof buf, "%Y-%m-%dT%H:%M:%SZ", &utc);
+    p.time_utc = buf;
+}
+
+bool write_document(const std::string& path, const std::string& document) { return write_output(path, stamp_document(document, run_provenance())); }
+void write_document_or_throw(const std::string& path, const std::string& document) {
+    write_output_or_throw(path, stamp_document(document, run_provenance()));
 }
 
 void write_output_or_throw(const std::string& path, std::string_view content) { write_file_atomically(path, content); }

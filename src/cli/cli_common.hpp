@@ -2,6 +2,7 @@
 // Shared pieces of the command-line front end: exit codes, output formats, messages.
 #include "lampwright/core/error.hpp"
 #include "lampwright/io/output_file.hpp"
+#include "lampwright/report/provenance.hpp"
 
 #include <boost/program_options.hpp>
 
@@ -63,6 +64,13 @@ void add_inputs(std::vector<FileRole>& inputs, const std::vector<std::string>& p
 [[nodiscard]] bool write_output(const std::string& path, std::string_view content);
 // Writes an output file atomically or throws OutputError (the command then exits with kExitOutputNotWritten).
 void write_output_or_throw(const std::string& path, std::string_view content);
+// The same for an SVG or HTML document, stamped first with the run's provenance (report/provenance.hpp).
+[[nodiscard]] bool write_document(const std::string& path, const std::string& document);
+void write_document_or_throw(const std::string& path, const std::string& document);
+
+// This run's version, command line and start time (set once by main); qc adds the lot id.
+RunProvenance& run_provenance();
+void set_run_provenance(int argc, char** argv);
 void print_warning(const std::string& message);
 
 // Parses a sub-command's options; `positional` (may be empty) collects the bare arguments.

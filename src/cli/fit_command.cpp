@@ -254,7 +254,7 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
             case Format::json: std::cout << front_json(p, tf, fms).dump(2) << '\n'; break;
         }
         if (!front_csv_path.empty()) write_output_or_throw(front_csv_path, front_csv(p, tf));
-        if (!front_svg_path.empty()) write_output_or_throw(front_svg_path, front_svg(p, tf));
+        if (!front_svg_path.empty()) write_document_or_throw(front_svg_path, front_svg(p, tf));
         if (std::none_of(tf.points.begin(), tf.points.end(), [](const FrontPoint& q) { return q.feasible; }))
             throw InputError(recipe.path, 0, "no point of the front is feasible");
         return kExitOk;

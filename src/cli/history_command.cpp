@@ -39,7 +39,7 @@ chart; Montgomery, Introduction to Statistical Quality Control); lots beyond a l
     if (std::filesystem::is_directory(db, ec)) throw InputError(db, 0, "is a folder, not a lot history database");
     const auto lots = list_lots(db);
     const auto charts = control_charts(lots);
-    if (!svg.empty()) write_output_or_throw(svg, control_charts_svg(charts));
+    if (!svg.empty()) write_document_or_throw(svg, control_charts_svg(charts));
     switch (f) {
         case Format::text:
             std::cout << "Lot history: " << db << " (" << lots.size() << (lots.size() == 1 ? " lot" : " lots") << ")\n\n" << lots_text(lots);

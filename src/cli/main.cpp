@@ -85,6 +85,7 @@ int main(int argc, char** argv) {
         return kExitUsage;
     }
     const std::string command = argv[1];
+    set_run_provenance(argc, argv);
     if (command == "--version" || command == "version") {
         std::cout << "lampwright " << lampwright::kVersion << '\n';
         return with_stdout_checked(kExitOk);

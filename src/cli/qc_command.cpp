@@ -59,6 +59,7 @@ other lamp was judged), 4 some lamps failed, 8 the report or the database could 
     }
     check_outputs_apart(outputs, files_read);
 
+    if (!lot_id.empty()) run_provenance().lot_id = lot_id;
     const QcSpec spec = load_qc_spec(args.front());
     const std::vector<std::string> inputs(args.begin() + 1, args.end());
     const ProgressCallback progress = terminal_progress("qc", "files", 200);
@@ -79,7 +80,7 @@ other lamp was judged), 4 some lamps failed, 8 the report or the database could 
     int status = kExitOk;
     if (!run.bad_files.empty()) status |= kExitBadInput;
     if (run.stats.passed < run.stats.count) status |= kExitOutOfLimits;
-    if (!report.empty() && !write_output(report, qc_html_report(run, correction_html))) status |= kExitOutputNotWritten;
+    if (!report.empty() && !write_document(report, qc_html_report(run, correction_html))) status |= kExitOutputNotWritten;
     if (recording) {
         const std::string& path = db_path;
         try {

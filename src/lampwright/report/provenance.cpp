@@ -1,0 +1,62 @@
+#include "lampwright/report/provenance.hpp"
+
+#include <fmt/format.h>
+
+namespace lampwright {
+
+namespace {
+
+std::string xml_escaped(const std::string& s) {
+    std::string o;
+    for (char c : s) {
+        switch (c) {
+            case '&': o += "&amp;"; break;
+            case '<': o += "&lt;"; break;
+            case '>': o += "&gt;"; break;
+            case '"': o += "&quot;"; break;
+            default: o += c;
+        }
+    }
+    return o;
+}
+
+// An XML comment may not contain "--" (XML 1.0, section 2.5).
+std::string comment_safe(std::string s) {
+    for (std::size_t i = s.find("--"); i != std::string::npos; i = s.find("--", i)) s.replace(i, 2, "- -");
+    return s;
+}
+
+// The end of the first opening tag `<name ...>` in `doc`, or npos.
+std::size_t after_opening_tag(const std::string& doc, const std::string& name) {
+    const std::size_t at = doc.find("<" + name);
+    if (at == std::string::npos) return std::string::npos;
+    const std::size_t end = doc.find('>', at);
+    return end == std::string::npos ? end : end + 1;
+}
+
+}  // namespace
+
+std::string provenance_line(const RunProvenance& p) {
+    std::string s = "lampwright " + p.version;
+    if (!p.time_utc.empty()) s += " \xC2\xB7 " + p.time_utc;
+    if (!p.lot_id.empty()) s += " \xC2\xB7 lot " + p.lot_id;
+    if (!p.command_line.empty()) s += " \xC2\xB7 " + p.command_line;
+    return s;
+}
+
+std::string stamp_document(std::string doc, const RunProvenance& p) {
+    const std::string line = provenance_line(p);
+    if (const std::size_t html = after_opening_tag(doc, "head"); html != std::string::npos && doc.find("<html") != std::string::npos) {
+        doc.insert(html, "\n<!-- " + comment_safe(xml_escaped(line)) + " -->");
+        if (const std::size_t body_end = doc.rfind("</body>"); body_end != std::string::npos)
+            doc.insert(body_end, fmt::format("<p class=\"provenance\" style=\"color:#555;font-size:smaller\">Made by {}</p>\n", xml_escaped(line)));
+        return doc;
+    }
+    if (const std::size_t svg = after_opening_tag(doc, "svg"); svg != std::string::npos) {
+        doc.insert(svg, fmt::format("\n<!-- {} -->\n<desc>{}</desc>", comment_safe(xml_escaped(line)), xml_escaped(line)));
+        return doc;
+    }
+    return doc;
+}
+
+}  // namespace lampwright
