@@ -8,6 +8,7 @@
 #include "test_support.hpp"
 
 #include <doctest/doctest.h>
+#include <nlohmann/json.hpp>
 
 #include <filesystem>
 #include <string>
@@ -183,4 +184,32 @@ TEST_CASE("outputs: every SVG and HTML report names the version, the command lin
     CHECK(h.find("Made by lampwright ") != std::string::npos);
     CHECK(h.find("lot LOT-7") != std::string::npos);
     CHECK(h.find("--report") != std::string::npos);
+}
+
+TEST_CASE("qc --recipe: the correction is in the JSON, --recipe-out writes a recipe that blend loads and that lands on the target") {
+    // Expected: the corrected lot lands on the spec's target (examples/qc/spec_F4100.toml, the ANSI C78.376
+    // F4100 centre of data/targets), expected_steps < 0.05; the written recipe reproduces that point in blend.
+    const TempDir dir("lampwright_outputs");
+    const std::string out = dir.file("corrected.toml");
+    const auto r = run_cli_args({"qc", source("examples/qc/spec_F4100.toml"), source("examples/qc/lot_A"), "--recipe",
+                                 source("examples/recipes/triband_4000K.toml"), "-f", "json", "--recipe-out", out});
+    CHECK(r.exit_code == 4);
+    const auto j = nlohmann::json::parse(r.out);
+    REQUIRE(j.contains("correction"));
+    CHECK(j["correction"]["feasible"].get<bool>());
+    CHECK(j["correction"]["expected_steps"].get<double>() < 0.05);
+    CHECK(j["correction"]["components"].size() == 3);
+    CHECK(r.err.find("Correction of") == std::string::npos);  // not on stderr as text any more
+    const auto b = run_cli_args({"blend", out, "-f", "json"});
+    REQUIRE(b.exit_code == 0);
+    const auto bj = nlohmann::json::parse(b.out);
+    // The correction keeps the lot's offset from the model (lot centroid - model centroid), so the
+    // corrected recipe's model point plus that offset is the expected centroid (blend prints 5 decimals).
+    const auto& c = j["correction"];
+    for (const char* k : {"x", "y"}) {
+        const double offset = c["lot_centroid"][k].get<double>() - c["model_centroid"][k].get<double>();
+        CHECK(bj[k].get<double>() + offset == doctest::Approx(c["expected_centroid"][k].get<double>()).epsilon(5e-5));
+    }
+    // --recipe-out alone is a usage error.
+    CHECK(run_cli_args({"qc", source("examples/qc/spec_F4100.toml"), source("examples/qc/lot_A"), "--recipe-out", out}).exit_code == 2);
 }

@@ -82,8 +82,6 @@ bool parse_command_line(int argc, char** argv, const boost::program_options::opt
 // The usual cautions of the trade, printed by --help and beside results where they apply.
 extern const char* const kSafetyNotice;
 
-// Prints the corrected recipe for a QC lot (text when `text`), returns an HTML fragment for the report.
-std::string print_lot_correction(const QcRun& run, const std::string& recipe_path, bool text);
 
 // fit on an LED layer design (called by run_fit).
 int run_layer_fit(const LayerFitProblem& problem, Format format, const std::string& design_out);

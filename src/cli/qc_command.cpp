@@ -3,6 +3,8 @@
 
 #include "lampwright/report/assessment_report.hpp"
 #include "lampwright/core/error.hpp"
+#include "lampwright/phosphor/recipe.hpp"
+#include "lampwright/production/lot_correction.hpp"
 #include "lampwright/production/lot_history.hpp"
 #include "lampwright/production/qc.hpp"
 #include "lampwright/report/qc_report.hpp"
@@ -10,6 +12,7 @@
 #include <fmt/format.h>
 
 #include <iostream>
+#include <optional>
 
 namespace po = boost::program_options;
 
@@ -32,7 +35,7 @@ Exit status: 0 all lamps passed; 2 usage error; otherwise the sum of 1 some file
 other lamp was judged), 4 some lamps failed, 8 the report or the database could not be written.
 
 )") + kSafetyNotice + "\nOptions");
-    std::string format = "text", report, db, lot_id, recipe;
+    std::string format = "text", report, db, lot_id, recipe, recipe_out;
     bool record = false;
     unsigned threads = 0;
     std::vector<std::string> args;
@@ -41,18 +44,20 @@ other lamp was judged), 4 some lamps failed, 8 the report or the database could 
         ("record", po::bool_switch(&record), "record the lot in the history database")
         ("db", po::value(&db), "history database (default lampwright.db in this folder); implies --record")
         ("lot", po::value(&lot_id), "lot id for the history (default: lot- and the UTC date and time)")
-        ("recipe", po::value(&recipe), "the recipe this lot was made with: print a corrected recipe")
+        ("recipe", po::value(&recipe), "the recipe this lot was made with: print a corrected recipe (in the JSON too)")
+        ("recipe-out", po::value(&recipe_out), "with --recipe: write the corrected recipe (TOML, loadable by blend and fit)")
         ("threads", po::value(&threads), "worker threads (default: all cores)");
     po::variables_map vm;
     if (!parse_command_line(argc, argv, opts, "input", &args, vm, "qc")) return kExitOk;
     const Format f = parse_format(format);
     if (args.size() < 2) throw UsageError{"qc: give a spec file and at least one spectrum file or folder (see lampwright qc --help)"};
+    if (!recipe_out.empty() && recipe.empty()) throw UsageError{"qc: --recipe-out needs --recipe (the recipe the lot was made with)"};
 
     const std::string db_path = db.empty() ? kDefaultHistoryDb : db;
     const bool recording = record || !db.empty();
     std::vector<FileRole> files_read{{args.front(), "the specification"}, {recipe, "--recipe"}};
     add_inputs(files_read, std::vector<std::string>(args.begin() + 1, args.end()), "a lamp input");
-    std::vector<FileRole> outputs{{report, "--report"}};
+    std::vector<FileRole> outputs{{report, "--report"}, {recipe_out, "--recipe-out"}};
     if (recording) {
         check_outputs_apart({{db_path, "the history database"}}, files_read);
         files_read.push_back({db_path, "the history database"});
@@ -61,26 +66,49 @@ other lamp was judged), 4 some lamps failed, 8 the report or the database could 
 
     if (!lot_id.empty()) run_provenance().lot_id = lot_id;
     const QcSpec spec = load_qc_spec(args.front());
+    const std::optional<Recipe> made_with = recipe.empty() ? std::nullopt : std::optional<Recipe>(load_recipe(recipe));
     const std::vector<std::string> inputs(args.begin() + 1, args.end());
     const ProgressCallback progress = terminal_progress("qc", "files", 200);
     QcRun run = run_qc(spec, inputs, threads, progress);
 
     for (const auto& b : run.bad_files) print_error(fmt::format("{}: {}", b.file, b.reason));
+    std::optional<LotCorrection> correction;
+    if (made_with) {
+        if (run.lamps.empty()) throw InputError(recipe, 0, "no lamps were read: nothing to correct");
+        correction = correct_recipe(made_with->blend, run.stats.centroid, run.spec.centre, run.spec.step_ellipse);
+    }
     switch (f) {
-        case Format::text: std::cout << qc_text(run); break;
+        case Format::text:
+            std::cout << qc_text(run);
+            if (correction) std::cout << lot_correction_text(*correction, made_with->blend, recipe);
+            break;
         case Format::csv:
+            // One row per lamp; the lot's correction is not a lamp: it goes to stderr, the JSON and --recipe-out.
             std::cout << csv_line(qc_lamp_columns()) << '\n';
             for (const auto& l : run.lamps) std::cout << csv_line(qc_lamp_values(l)) << '\n';
+            if (correction) std::cerr << lot_correction_text(*correction, made_with->blend, recipe);
             break;
-        case Format::json: std::cout << qc_json(run).dump(2) << '\n'; break;
+        case Format::json: {
+            auto j = qc_json(run);
+            if (correction) j["correction"] = lot_correction_json(*correction, made_with->blend, recipe);
+            std::cout << j.dump(2) << '\n';
+            break;
+        }
     }
-    std::string correction_html;
-    if (!recipe.empty()) correction_html = print_lot_correction(run, recipe, f == Format::text);
+    const std::string correction_html = correction ? lot_correction_html(*correction, made_with->blend) : std::string();
     // The verdict's flags are kept whatever happens to the report or the database (cli_common.hpp).
     int status = kExitOk;
     if (!run.bad_files.empty()) status |= kExitBadInput;
     if (run.stats.passed < run.stats.count) status |= kExitOutOfLimits;
     if (!report.empty() && !write_document(report, qc_html_report(run, correction_html))) status |= kExitOutputNotWritten;
+    if (correction && !recipe_out.empty()) {
+        if (!correction->feasible) {
+            print_error(fmt::format("{}: no corrected recipe written: {}", recipe_out, correction->message));
+            status |= kExitOutputNotWritten;
+        } else if (!write_output(recipe_out, lot_correction_toml(*correction))) {
+            status |= kExitOutputNotWritten;
+        }
+    }
     if (recording) {
         const std::string& path = db_path;
         try {

@@ -603,6 +603,30 @@ std::string lot_correction_text(const LotCorrection& c, const BlendInput& recipe
     return t + "\n" + recipe_to_toml(c.corrected, {correction_note()});
 }
 
+std::string lot_correction_toml(const LotCorrection& c) { return recipe_to_toml(c.corrected, {correction_note()}); }
+
+nlohmann::ordered_json lot_correction_json(const LotCorrection& c, const BlendInput& recipe, const std::string& recipe_path) {
+    auto xy = [](const Chromaticity& p) { return nlohmann::ordered_json{{"x", p.x}, {"y", p.y}}; };
+    nlohmann::ordered_json j;
+    j["recipe"] = recipe_path;
+    j["feasible"] = c.feasible;
+    j["message"] = c.message;
+    j["lot_centroid"] = xy(c.lot_centroid);
+    j["model_centroid"] = xy(c.model_centroid);
+    j["target"] = xy(c.target);
+    j["offset_steps"] = c.offset_steps;
+    j["expected_centroid"] = xy(c.expected_centroid);
+    j["expected_steps"] = c.expected_steps;
+    j["components"] = nlohmann::ordered_json::array();
+    for (std::size_t i = 0; i < c.old_fractions.size(); ++i)
+        j["components"].push_back({{"label", recipe.components[i].label},
+                                   {"old_mass_fraction", c.old_fractions[i]},
+                                   {"new_mass_fraction", c.new_fractions[i]},
+                                   {"change", c.new_fractions[i] - c.old_fractions[i]}});
+    j["corrected_recipe_toml"] = lot_correction_toml(c);
+    return j;
+}
+
 std::string lot_correction_html(const LotCorrection& c, const BlendInput& recipe) {
     std::string html = "<section id=\"correction\"><h2>Corrected recipe</h2><table><tr><th>component</th><th>was</th><th>new</th><th>change</th></tr>";
     for (std::size_t i = 0; i < c.old_fractions.size(); ++i)

@@ -27,5 +27,9 @@ std::vector<UV> tolerance_region_uv(const QcSpec& spec, int points = 180);
 // as TOML; as text and as the HTML section (id "correction") of the lot report.
 std::string lot_correction_text(const LotCorrection& c, const BlendInput& recipe, const std::string& recipe_path);
 std::string lot_correction_html(const LotCorrection& c, const BlendInput& recipe);
+// The correction for qc --format json ("correction" object; schema in README) and the corrected
+// recipe as a TOML file (qc --recipe-out), loadable by blend and fit.
+nlohmann::ordered_json lot_correction_json(const LotCorrection& c, const BlendInput& recipe, const std::string& recipe_path);
+std::string lot_correction_toml(const LotCorrection& c);
 
 }  // namespace lampwright
