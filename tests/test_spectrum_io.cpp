@@ -214,3 +214,23 @@ TEST_CASE("spectrum text: tab-separated rows with a decimal comma") {
     CHECK(f.spectra[0].values.front() == doctest::Approx(0.380));
     CHECK(f.spectra[0].values.back() == doctest::Approx(0.780));
 }
+
+TEST_CASE("spectrum text: a gap in the visible range (450-520 nm missing) is warned about, with its line; uniform grids are not") {
+    // A gap: a step above 10 nm (the common coarse instrument grid; CIE 15:2004 recommends 5 nm) and
+    // above twice the median step; common practice, no source.
+    auto table = [](double step, double gap_from, double gap_to) {
+        std::string t = "wavelength_nm,lamp\n";
+        for (double nm = 380; nm <= 780 + 1e-9; nm += step)
+            if (nm <= gap_from || nm >= gap_to) t += std::to_string(nm) + ",1.0\n";
+        return t;
+    };
+    std::istringstream gap(table(5, 450, 520));
+    const auto g = parse_spectrum_text(gap, "gap.csv", "gap");
+    REQUIRE(g.warnings.size() == 1);
+    CHECK(g.warnings[0].find("gap.csv:17:") == 0);  // line 1 header, 380 nm on line 2, 450 on line 16, 520 (after the gap) on 17
+    CHECK(g.warnings[0].find("no data from 450 to 520 nm") != std::string::npos);
+    for (double step : {1.0, 5.0, 10.0, 20.0}) {
+        std::istringstream ok(table(step, 1e9, 1e9));
+        CHECK(parse_spectrum_text(ok, "ok.csv", "ok").warnings.empty());
+    }
+}

@@ -89,6 +89,34 @@ bool looks_non_finite(const std::string& field) {
 
 // Checks shared by every format: wavelength unit and range, then per spectrum a positive value
 // and negative noise. columns[0] holds the wavelengths; lines[i] the source line of row i.
+// Sampling wider than this inside 380-780 nm is interpolated over more than the narrowest lamp
+// features (mercury and rare-earth lines are ~1-2 nm wide; CIE 15:2004 7.1 recommends 5 nm steps,
+// 10 nm being the common coarse instrument grid): a wider step usually means missing rows.
+constexpr double kLargestUsualStepNm = 10.0;
+
+// A warning when the table jumps over part of the visible range (say 450-520 nm missing): a step
+// above 10 nm and above twice the table's median step. A uniformly coarse table is not a gap.
+void warn_about_gaps(SpectrumFile& result, const std::string& source, const std::vector<double>& wl, const std::vector<std::size_t>& lines) {
+    std::size_t worst = 0;
+    double worst_step = 0;
+    std::vector<double> steps;
+    for (std::size_t i = 1; i < wl.size(); ++i) {
+        if (wl[i] <= 380.0 || wl[i - 1] >= 780.0) continue;
+        steps.push_back(wl[i] - wl[i - 1]);
+        if (wl[i] - wl[i - 1] > worst_step) {
+            worst_step = wl[i] - wl[i - 1];
+            worst = i;
+        }
+    }
+    if (steps.empty()) return;
+    std::nth_element(steps.begin(), steps.begin() + static_cast<std::ptrdiff_t>(steps.size() / 2), steps.end());
+    const double median_step = steps[steps.size() / 2];
+    if (worst_step > kLargestUsualStepNm + 1e-9 && worst_step > 2.0 * median_step + 1e-9)
+        result.warnings.push_back(fmt::format("{}:{}: no data from {:g} to {:g} nm (a {:g} nm step; the usual largest is {:g} nm): the values in between "
+                                              "are interpolated and the figures may be wrong",
+                                              source, lines[worst], wl[worst - 1], wl[worst], worst_step, kLargestUsualStepNm));
+}
+
 SpectrumFile validated_spectra(const std::string& source, const std::vector<std::string>& names, std::vector<std::vector<double>>& columns,
                                const std::vector<std::size_t>& value_lines, const SpectrumReadOptions& options) {
     const auto& wl = columns[0];
@@ -99,6 +127,7 @@ SpectrumFile validated_spectra(const std::string& source, const std::vector<std:
                                                 wl.front(), wl.back(), options.min_required_nm, options.max_required_nm));
 
     SpectrumFile result;
+    warn_about_gaps(result, source, wl, value_lines);
     for (std::size_t c = 1; c < columns.size(); ++c) {
         SampledSpectrum s;
         s.name = names[c - 1];
