@@ -9,6 +9,8 @@ packages=(
   libfmt-dev libtomlplusplus-dev nlohmann-json3-dev libsqlite3-dev libpugixml-dev
   # tests and benchmarks
   doctest-dev libbenchmark-dev
+  # sanitizer build and libFuzzer harnesses (scripts/check-robustness.sh)
+  clang-16 libclang-rt-16-dev
   # test-only references
   colord-data liblcms2-dev python3 python3-colorspacious python3-numpy
 )
