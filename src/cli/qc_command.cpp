@@ -47,7 +47,7 @@ failed (every file read); 4 both; 2 usage error.
 )") + kSafetyNotice + "\nOptions");
     std::string format = "text", report, db, lot_id, recipe;
     bool record = false;
-    unsigned threads = 0;
+    int threads = 0;  // signed, so "-1" is refused rather than read as 4294967295
     std::vector<std::string> args;
     opts.add_options()("help,h", "show this help")("format,f", po::value(&format), "text | csv | json (default text)")
         ("report", po::value(&report), "write a self-contained HTML report to this file")
@@ -55,16 +55,17 @@ failed (every file read); 4 both; 2 usage error.
         ("db", po::value(&db), "history database (default lampwright.db in this folder); implies --record")
         ("lot", po::value(&lot_id), "lot id for the history (default: lot- and the UTC date and time)")
         ("recipe", po::value(&recipe), "the recipe this lot was made with: print a corrected recipe")
-        ("threads", po::value(&threads), "worker threads (default: all cores)");
+        ("threads", po::value(&threads), "worker threads, a whole number >= 1; at most one per core is used (default: all cores)");
     po::variables_map vm;
     if (!parse_command_line(argc, argv, opts, "input", &args, vm, "qc")) return kExitOk;
     const Format f = parse_format(format);
+    if (vm.count("threads") && threads < 1) throw UsageError{fmt::format("qc: --threads must be a whole number >= 1, not {}", threads)};
     if (args.size() < 2) throw UsageError{"qc: give a spec file and at least one spectrum file or folder (see lampwright qc --help)"};
 
     const QcSpec spec = load_qc_spec(args.front());
     const std::vector<std::string> inputs(args.begin() + 1, args.end());
     const ProgressCallback progress = terminal_progress("qc", "files", 200);
-    QcRun run = run_qc(spec, inputs, threads, progress);
+    QcRun run = run_qc(spec, inputs, static_cast<unsigned>(threads), progress);
 
     for (const auto& b : run.bad_files) print_error(fmt::format("{}: {}", b.file, b.reason));
     switch (f) {
