@@ -175,3 +175,21 @@ TEST_CASE("is_uniformly_spaced and interpolate_linear") {
     CHECK(interpolate_linear(x, y, 0) == 10);  // clamps to the end values
     CHECK(interpolate_linear(x, y, 9) == 0);  // common practice, no source
 }
+
+TEST_CASE("resample_to_1nm: wavelengths beyond 100-100,000 nm or not finite are an Error, never a huge grid or an int overflow") {
+    // 3e9 nm does not fit an int (undefined behaviour when converted); 1e6 nm would be a
+    // million-point grid; NaN has no grid at all.
+    for (const double far : {3e9, 1e6, 100000.5, static_cast<double>(NAN), static_cast<double>(INFINITY)}) {
+        CAPTURE(far);
+        const SampledSpectrum s{"far", {380, 500, far}, {1, 1, 1}};
+        CHECK_THROWS_AS((void)resample_to_1nm(s), Error);
+    }
+    const SampledSpectrum below{"below", {-3e9, 380, 780}, {1, 1, 1}};
+    CHECK_THROWS_AS((void)resample_to_1nm(below), Error);
+    // The limits themselves are resampled: 99,901 grid points from 100 to 100,000 nm.
+    const SampledSpectrum edges{"edges", {100, 500, 100000}, {1, 1, 1}};
+    const Spectrum r = resample_to_1nm(edges);
+    CHECK(r.first_nm == 100);
+    CHECK(r.values.size() == 99901);
+    CHECK(r.values.back() == doctest::Approx(1.0));
+}

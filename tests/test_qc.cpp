@@ -18,7 +18,11 @@
 #include <cmath>
 #include <filesystem>
 #include <fstream>
+#include <map>
 #include <random>
+#include <thread>
+
+#include <sys/stat.h>
 
 using namespace lampwright;
 namespace fs = std::filesystem;
@@ -217,4 +221,55 @@ TEST_CASE("statistics: sample sd and type-7 quantiles") {
     CHECK(sample_sd({2, 4, 4, 4, 5, 5, 7, 9}) == doctest::Approx(std::sqrt(32.0 / 7.0)));
     CHECK(mean({2, 4, 4, 4, 5, 5, 7, 9}) == doctest::Approx(5.0));
     CHECK(std::isnan(sample_sd({3.0})));
+}
+
+TEST_CASE("qc folder: a link loop, a dangling link, a FIFO and a link to a lamp are named as bad inputs; the rest is judged, each lamp once") {
+    const TempDir dir("lampwright_qc_links");
+    write_spectrum(dir.path / "good1.csv", planckian(3950));
+    write_spectrum(dir.path / "good2.csv", planckian(4050));
+    fs::create_symlink("loop.csv", dir.path / "loop.csv");        // a link to itself: ELOOP
+    fs::create_symlink("nowhere.csv", dir.path / "dangling.csv");  // a link to nothing
+    fs::create_symlink("good2.csv", dir.path / "alias.csv");       // sorts before its target
+    REQUIRE(::mkfifo((dir.path / "pipe.txt").c_str(), 0600) == 0);
+    dir.write("notes.md", "not a spectrum file: ignored as before\n");
+    QcSpec spec;
+    spec.centre = {0.3805, 0.3768};
+    spec.step_ellipse = macadam_ellipse(spec.centre, 0.00313, 0.00134, 54.0);
+    spec.max_steps = 7;
+    const QcRun run = run_qc(spec, {dir.path.string()}, 2);
+    REQUIRE(run.lamps.size() == 2);
+    CHECK(run.lamps[0].name == "good1");
+    CHECK(run.lamps[1].name == "good2");  // judged under its own name, not the link's
+    CHECK(run.stats.count == 2);
+    std::map<std::string, std::string> reasons;
+    for (const auto& b : run.bad_files) reasons[fs::path(b.file).filename().string()] = b.reason;
+    CHECK(reasons.size() == 4);
+    CHECK(reasons["loop.csv"].find("symbolic link loop") != std::string::npos);
+    CHECK(reasons["dangling.csv"] == "dangling symbolic link (to 'nowhere.csv', which does not exist); skipped");
+    CHECK(reasons["pipe.txt"] == "is a FIFO, not a regular file; skipped");
+    CHECK(reasons["alias.csv"] == "is the same file as " + (dir.path / "good2.csv").string() + "; skipped so its lamps are judged once");
+    // A link loop given directly is named as such, not as missing.
+    std::vector<BadFile> bad;
+    CHECK(collect_spectrum_files({(dir.path / "loop.csv").string()}, bad).empty());
+    REQUIRE(bad.size() == 1);
+    CHECK(bad[0].reason.find("symbolic link loop") != std::string::npos);
+}
+
+TEST_CASE("qc threads: the worker count is at least 1, at most the cores and the files; any count judges the same lot") {
+    const unsigned cores = std::max(1u, std::thread::hardware_concurrency());
+    CHECK(qc_worker_count(0, 1000) == std::min(cores, 1000u));
+    CHECK(qc_worker_count(100000, 1000) == std::min(cores, 1000u));
+    CHECK(qc_worker_count(4294967295u, 1000) == std::min(cores, 1000u));
+    CHECK(qc_worker_count(100000, 1) == 1);
+    CHECK(qc_worker_count(3, 0) == 1);
+    CHECK(qc_worker_count(1, 1000) == 1);
+    const TempDir dir("lampwright_qc_threads");
+    for (int k = 0; k < 6; ++k) write_spectrum(dir.path / fmt::format("lamp{}.csv", k), planckian(3900 + 40 * k));
+    QcSpec spec;
+    spec.centre = {0.3805, 0.3768};
+    spec.step_ellipse = macadam_ellipse(spec.centre, 0.00313, 0.00134, 54.0);
+    const QcRun one = run_qc(spec, {dir.path.string()}, 1);
+    const QcRun many = run_qc(spec, {dir.path.string()}, 4294967295u);
+    REQUIRE(many.lamps.size() == 6);
+    for (std::size_t k = 0; k < 6; ++k) CHECK(many.lamps[k].steps == one.lamps[k].steps);
 }

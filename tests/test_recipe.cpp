@@ -3,6 +3,10 @@
 #include "lampwright/phosphor/blend.hpp"
 #include "lampwright/core/error.hpp"
 #include "lampwright/phosphor/recipe.hpp"
+#include "lampwright/io/toml_access.hpp"
+#include "lampwright/led/layer_design.hpp"
+#include "lampwright/phosphor/phosphor.hpp"
+#include "lampwright/production/qc.hpp"
 
 #include "test_support.hpp"
 
@@ -11,6 +15,7 @@
 #include <cmath>
 #include <cstdio>
 #include <filesystem>
+#include <functional>
 #include <string>
 #include <vector>
 
@@ -461,4 +466,74 @@ source = "model assumption, no source"
         CHECK(b.blend.components[0].phosphor.qe_254nm.has_value());
         CHECK(evaluate_blend(b.blend).quantum_yield == doctest::Approx(evaluate_blend(a.blend).quantum_yield).epsilon(1e-12));
     }
+}
+
+namespace {
+
+// "[a.a.a...]" with `levels` parts.
+std::string deep_header(std::size_t levels) {
+    std::string h = "[a";
+    for (std::size_t k = 1; k < levels; ++k) h += ".a";
+    return h + "]\n";
+}
+
+// The InputError a TOML reader throws (problem and line); fails the test when none is thrown.
+InputError toml_refusal(const std::function<void()>& read) {
+    try {
+        read();
+    } catch (const InputError& e) {
+        return e;
+    }
+    FAIL("no InputError");
+    return InputError("", 0, "");
+}
+
+}  // namespace
+
+TEST_CASE("toml nesting: 50,000-level headers, arrays and inline tables are refused with the file and the line, never a stack overflow") {
+    // Line 3 holds the deep part in every case, so the message must say line 3.
+    const std::string lead = "# deep\nname = \"x\"\n";
+    std::string arrays = "x = ", tables = "x = ";
+    for (int k = 0; k < 50000; ++k) arrays += "[", tables += "{a=";
+    const std::string texts[] = {lead + deep_header(50000), lead + arrays + "\n", lead + tables + "\n"};
+    for (const auto& text : texts) {
+        const InputError e = toml_refusal([&] { TomlDoc doc(text, "deep.toml"); });
+        CHECK(e.source() == "deep.toml");
+        CHECK(e.line() == 3);
+        CHECK(e.problem().find("nested deeper than 64 levels") != std::string::npos);
+    }
+    // Every reader goes through the same guard: recipes, phosphor files, layer designs, QC specs.
+    const TempDir dir("lampwright_toml_deep");
+    const std::string file = dir.write("deep.toml", lead + deep_header(50000));
+    const std::function<void()> readers[] = {
+        [&] { (void)load_recipe(file); },
+        [&] { (void)parse_phosphor(lwtest::slurp(file), file); },
+        [&] { (void)load_layer_design(file); },
+        [&] { (void)load_qc_spec(file); },
+    };
+    for (const auto& read : readers) {
+        const InputError e = toml_refusal(read);
+        CHECK(e.source() == file);
+        CHECK(e.line() == 3);
+        CHECK(e.problem().find("nested deeper than 64 levels") != std::string::npos);
+    }
+}
+
+TEST_CASE("toml nesting: 64 levels, and brackets in strings, keys and comments, are still read") {
+    std::string arrays = "x = ", closing;
+    for (int k = 0; k < 63; ++k) arrays += "[", closing += "]";
+    const std::string many(80, '[');
+    const std::string dotted = "a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a.a";
+    const std::string text = deep_header(64) + "v = 1\n[b]\ns = \"" + many + "{{{{\\\"\"\n" + "m = '''\n" + many + "\n'''\n" + "\"" + dotted + "\" = 2\n" +
+                             "# " + many + "\n" + "t = { p = 1.5, q = [1, 2], r = {} }\n" + arrays + "1" + closing + "\n";
+    const TomlDoc doc(text, "ok.toml");
+    const toml::node* leaf = &doc.root();
+    for (int k = 0; k < 64; ++k) leaf = leaf->as_table()->get("a");
+    CHECK(leaf->as_table()->get("v")->value<int>() == 1);
+    CHECK(doc.root()["b"]["s"].value<std::string>()->size() == 85);  // 80 '[', 4 '{', one '"'
+    CHECK(doc.root()["b"][dotted].value<int>() == 2);
+    CHECK(doc.root()["b"]["t"]["p"].value<double>() == 1.5);
+    const toml::node* x = doc.root()["b"].as_table()->get("x");
+    for (int k = 0; k < 63; ++k) x = x->as_array()->get(0);
+    CHECK(x->value<int>() == 1);
 }

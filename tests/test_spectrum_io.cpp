@@ -2,10 +2,14 @@
 // with the file and line it is reported against.
 #include "lampwright/core/error.hpp"
 #include "lampwright/io/spectrum_io.hpp"
+#include "lampwright/core/text_file.hpp"
 
 #include "test_support.hpp"
 
 #include <doctest/doctest.h>
+#include <fmt/format.h>
+
+#include <sys/stat.h>
 
 #include <cmath>
 #include <filesystem>
@@ -233,4 +237,113 @@ TEST_CASE("spectrum text: a gap in the visible range (450-520 nm missing) is war
         std::istringstream ok(table(step, 1e9, 1e9));
         CHECK(parse_spectrum_text(ok, "ok.csv", "ok").warnings.empty());
     }
+}
+
+TEST_CASE("spectrum readers: a wavelength outside 100-100,000 nm is refused with its line, in text and TM-27 XML, before any grid is built") {
+    // 1e9 nm would mean a billion-point 1 nm grid, 2147483647 nm an endless grid loop, 3e9 nm a
+    // float-to-int overflow: each must be refused where it is written.
+    const std::string header = "wavelength_nm,value\n";  // line 1; the 380 nm row is line 2, 780 nm line 22
+    for (const std::string huge : {"1e9", "2147483647", "3e9", "100000.5"}) {
+        CAPTURE(huge);
+        const InputError e = parse_error(header + rows(",", ones) + huge + ",1\n", "lamp_07.csv");
+        CHECK(e.source() == "lamp_07.csv");
+        CHECK(e.line() == 23);
+        CHECK(e.problem().find("outside 100-100000 nm") != std::string::npos);
+    }
+    const InputError low = parse_error("50,1\n" + rows(",", ones), "lamp_07.csv");
+    CHECK(low.line() == 1);
+    CHECK(low.problem().find("wavelength 50 nm is outside 100-100000 nm") != std::string::npos);
+    // The physical limits themselves are accepted.
+    const SpectrumFile edges = parse("100,1\n" + rows(",", ones) + "100000,1\n");
+    REQUIRE(edges.spectra.size() == 1);
+    CHECK(edges.spectra[0].wavelengths_nm.back() == 100000.0);
+    // TM-27 XML: the line of the element.
+    std::string xml = "<?xml version=\"1.0\"?>\n<IESTM2714>\n<SpectralDistribution>\n";  // lines 1-3
+    for (int nm = 380; nm <= 780; nm += 20) xml += "<SpectralData wavelength=\"" + std::to_string(nm) + "\">1</SpectralData>\n";  // lines 4-24
+    xml += "<SpectralData wavelength=\"1e9\">1</SpectralData>\n</SpectralDistribution>\n</IESTM2714>\n";  // line 25
+    try {
+        (void)parse_tm27_xml(xml, "lamp.xml", "lamp");
+        FAIL("no InputError");
+    } catch (const InputError& e) {
+        CHECK(e.source() == "lamp.xml");
+        CHECK(e.line() == 25);
+        CHECK(e.problem().find("wavelength 1e+09 nm is outside 100-100000 nm") != std::string::npos);
+    }
+}
+
+TEST_CASE("TM-27 XML: a 100,000-point file is read with every wavelength, value and error line right") {
+    // Element lines are looked up once per element; counting newlines from the start of the file
+    // for each one made this size take minutes. 380-780 nm in 0.004 nm steps: 100,001 points.
+    const int n = 100001;
+    std::string xml = "<?xml version=\"1.0\"?>\n<IESTM2714 xmlns=\"iestm2714\">\n<SpectralDistribution>\n";
+    for (int k = 0; k < n; ++k)
+        xml += fmt::format("<SpectralData wavelength=\"{:.3f}\">{}</SpectralData>\n", 380.0 + 0.004 * k, 1 + k % 7);
+    xml += "</SpectralDistribution>\n</IESTM2714>\n";
+    const SpectrumFile f = parse_tm27_xml(xml, "big.xml", "big");
+    REQUIRE(f.spectra.size() == 1);
+    const auto& s = f.spectra[0];
+    REQUIRE(s.wavelengths_nm.size() == static_cast<std::size_t>(n));
+    CHECK(s.wavelengths_nm.front() == 380.0);
+    CHECK(s.wavelengths_nm[50000] == doctest::Approx(580.0).epsilon(1e-12));
+    CHECK(s.wavelengths_nm.back() == doctest::Approx(780.0).epsilon(1e-12));
+    CHECK(s.values[0] == 1);
+    CHECK(s.values[50000] == 1 + 50000 % 7);
+    CHECK(s.values[n - 1] == 1 + (n - 1) % 7);
+    // A bad value in the last element is reported on its line (3 header lines + n elements).
+    const auto last = xml.rfind("<SpectralData");
+    std::string broken = xml;
+    broken.replace(broken.find('>', last) + 1, 1, "x");
+    try {
+        (void)parse_tm27_xml(broken, "big.xml", "big");
+        FAIL("no InputError");
+    } catch (const InputError& e) {
+        CHECK(e.line() == static_cast<std::size_t>(3 + n));
+    }
+}
+
+TEST_CASE("read_text_file: a FIFO, /dev/zero and a folder are refused with the reason, never read forever") {
+    const TempDir tmp("lampwright_special_files");
+    const std::string fifo = tmp.file("lamp.csv");
+    REQUIRE(::mkfifo(fifo.c_str(), 0600) == 0);
+    // No writer ever opens the FIFO: a blocking open would wait forever, so the test would hang.
+    try {
+        (void)read_spectrum_file(fifo);
+        FAIL("no InputError");
+    } catch (const InputError& e) {
+        CHECK(e.source() == fifo);
+        CHECK(e.problem() == "is not a regular file (a FIFO)");
+    }
+    try {
+        (void)read_text_file("/dev/zero");
+        FAIL("no InputError");
+    } catch (const InputError& e) {
+        CHECK(e.source() == "/dev/zero");
+        CHECK(e.problem() == "is not a regular file (a character device)");
+    }
+    try {
+        (void)read_text_file(tmp.path.string());
+        FAIL("no InputError");
+    } catch (const InputError& e) {
+        CHECK(e.problem() == "is a folder, not a file");
+    }
+}
+
+TEST_CASE("read_text_file: a file larger than 512 MiB is refused naming the limit, without reading it") {
+    const TempDir tmp("lampwright_big_file");
+    const std::string big = tmp.file("huge.csv");
+    // A sparse file: 600 MiB long, no disk space used.
+    {
+        std::ofstream out(big);
+    }
+    std::filesystem::resize_file(big, std::uintmax_t{600} << 20);
+    try {
+        (void)read_text_file(big);
+        FAIL("no InputError");
+    } catch (const InputError& e) {
+        CHECK(e.source() == big);
+        CHECK(e.problem().find("is larger than 512 MiB (600 MiB)") != std::string::npos);
+    }
+    // A file of ordinary size is still read whole.
+    const std::string small = tmp.write("small.csv", "wavelength_nm,v\n380,1\n");
+    CHECK(read_text_file(small) == "wavelength_nm,v\n380,1\n");
 }

@@ -37,7 +37,7 @@ other lamp was judged), 4 some lamps failed, 8 the report or the database could 
 )") + kSafetyNotice + "\nOptions");
     std::string format = "text", report, db, lot_id, recipe, recipe_out;
     bool record = false;
-    unsigned threads = 0;
+    int threads = 0;  // signed, so "-1" is refused rather than read as 4294967295
     std::vector<std::string> args;
     opts.add_options()("help,h", "show this help")("format,f", po::value(&format), "text | csv | json (default text)")
         ("report", po::value(&report), "write a self-contained HTML report to this file")
@@ -46,10 +46,11 @@ other lamp was judged), 4 some lamps failed, 8 the report or the database could 
         ("lot", po::value(&lot_id), "lot id for the history (default: lot- and the UTC date and time)")
         ("recipe", po::value(&recipe), "the recipe this lot was made with: print a corrected recipe (in the JSON too)")
         ("recipe-out", po::value(&recipe_out), "with --recipe: write the corrected recipe (TOML, loadable by blend and fit)")
-        ("threads", po::value(&threads), "worker threads (default: all cores)");
+        ("threads", po::value(&threads), "worker threads, a whole number >= 1; at most one per core is used (default: all cores)");
     po::variables_map vm;
     if (!parse_command_line(argc, argv, opts, "input", &args, vm, "qc")) return kExitOk;
     const Format f = parse_format(format);
+    if (vm.count("threads") && threads < 1) throw UsageError{fmt::format("qc: --threads must be a whole number >= 1, not {}", threads)};
     if (args.size() < 2) throw UsageError{"qc: give a spec file and at least one spectrum file or folder (see lampwright qc --help)"};
     if (!recipe_out.empty() && recipe.empty()) throw UsageError{"qc: --recipe-out needs --recipe (the recipe the lot was made with)"};
 
@@ -69,7 +70,7 @@ other lamp was judged), 4 some lamps failed, 8 the report or the database could 
     const std::optional<Recipe> made_with = recipe.empty() ? std::nullopt : std::optional<Recipe>(load_recipe(recipe));
     const std::vector<std::string> inputs(args.begin() + 1, args.end());
     const ProgressCallback progress = terminal_progress("qc", "files", 200);
-    QcRun run = run_qc(spec, inputs, threads, progress);
+    QcRun run = run_qc(spec, inputs, static_cast<unsigned>(threads), progress);
 
     for (const auto& b : run.bad_files) print_error(fmt::format("{}: {}", b.file, b.reason));
     std::optional<LotCorrection> correction;

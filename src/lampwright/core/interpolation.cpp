@@ -2,6 +2,8 @@
 
 #include "lampwright/core/error.hpp"
 
+#include <fmt/format.h>
+
 #include <algorithm>
 #include <cmath>
 
@@ -53,6 +55,7 @@ std::vector<double> sprague_interpolate(double x0, double step, const std::vecto
     std::vector<double> out(x_out.size());
     for (std::size_t k = 0; k < x_out.size(); ++k) {
         const double t = (x_out[k] - x0) / step;
+        if (!std::isfinite(t)) throw Error("Sprague interpolation at a non-finite position");
         const double seg = std::floor(t + 1e-9);
         std::size_t i = static_cast<std::size_t>(std::clamp(seg, 0.0, static_cast<double>(last_segment)));
         const double frac = std::clamp(t - static_cast<double>(i), 0.0, 1.0);
@@ -104,6 +107,12 @@ std::vector<double> pchip_interpolate(const std::vector<double>& x, const std::v
 Spectrum resample_to_1nm(const SampledSpectrum& s) {
     const auto& x = s.wavelengths_nm;
     if (x.size() < 2) throw Error("spectrum '" + s.name + "' has fewer than two points");
+    // Checked before any conversion to int (out of range it is undefined behaviour) and before the
+    // grid is built (its size is last - first + 1 points). The readers refuse such files with
+    // the line; this guards spectra built in code.
+    if (!(x.front() >= kMinGridNm && x.back() <= kMaxGridNm && x.front() < x.back()))
+        throw Error(fmt::format("spectrum '{}' runs {:g}-{:g} nm; wavelengths must lie within {:g}-{:g} nm and increase", s.name, x.front(), x.back(),
+                                kMinGridNm, kMaxGridNm));
     const int first = static_cast<int>(std::ceil(x.front() - 1e-9));
     const int last = static_cast<int>(std::floor(x.back() + 1e-9));
     std::vector<double> grid;

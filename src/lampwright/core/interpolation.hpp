@@ -21,7 +21,12 @@ std::vector<double> sprague_interpolate(double x0, double step, const std::vecto
 std::vector<double> pchip_interpolate(const std::vector<double>& x, const std::vector<double>& y,
                                       const std::vector<double>& x_out);
 
+// The range resample_to_1nm accepts (nm): the spectrum readers' physical range.
+inline constexpr double kMinGridNm = 100.0;
+inline constexpr double kMaxGridNm = 100000.0;
+
 // Resample onto integer wavelengths ceil(first) .. floor(last); method chosen by spacing.
+// Error when the wavelengths lie outside kMinGridNm..kMaxGridNm (or are not finite).
 Spectrum resample_to_1nm(const SampledSpectrum& s);
 
 // Linear interpolation in a table (x strictly increasing); clamps to the end values outside.

@@ -120,8 +120,14 @@ void warn_about_gaps(SpectrumFile& result, const std::string& source, const std:
 SpectrumFile validated_spectra(const std::string& source, const std::vector<std::string>& names, std::vector<std::vector<double>>& columns,
                                const std::vector<std::size_t>& value_lines, const SpectrumReadOptions& options) {
     const auto& wl = columns[0];
-    if (wl.back() < 100.0 || wl.front() > 100000.0)
-        throw InputError(source, value_lines.front(), fmt::format("wavelengths run {}-{}; the first column must be the wavelength in nm", wl.front(), wl.back()));
+    // Every wavelength must be physical before anything is resampled: the 1 nm grid runs from the
+    // first to the last wavelength, so 1e9 nm would mean a billion grid points. 100 nm (far UV) to
+    // 100,000 nm (far infrared) holds every source and measurement this program deals with
+    // (common practice, no source).
+    for (std::size_t i = 0; i < wl.size(); ++i)
+        if (!(wl[i] >= kMinWavelengthNm && wl[i] <= kMaxWavelengthNm))
+            throw InputError(source, value_lines[i], fmt::format("wavelength {:g} nm is outside {:g}-{:g} nm; the first column must be the wavelength in nm",
+                                                                 wl[i], kMinWavelengthNm, kMaxWavelengthNm));
     if (options.check_range && (wl.front() > options.min_required_nm + 1e-9 || wl.back() < options.max_required_nm - 1e-9))
         throw InputError(source, 0, fmt::format("covers {:g}-{:g} nm; at least {:g}-{:g} nm is needed for colorimetry (CIE 15:2004)",
                                                 wl.front(), wl.back(), options.min_required_nm, options.max_required_nm));
@@ -222,8 +228,13 @@ SpectrumFile parse_spectrum_text(std::istream& in, const std::string& source, co
 SpectrumFile parse_tm27_xml(const std::string& bytes, const std::string& source, const std::string& stem, const SpectrumReadOptions& options) {
     pugi::xml_document doc;
     const pugi::xml_parse_result ok = doc.load_buffer(bytes.data(), bytes.size());
+    // Offsets of the line starts, found once: the line of each element is then a binary search
+    // (counting newlines from the start of the file for every element made reading quadratic).
+    std::vector<std::ptrdiff_t> line_starts{0};
+    for (std::size_t k = 0; k < bytes.size(); ++k)
+        if (bytes[k] == '\n') line_starts.push_back(static_cast<std::ptrdiff_t>(k + 1));
     auto line_at = [&](std::ptrdiff_t offset) {
-        return static_cast<std::size_t>(1 + std::count(bytes.begin(), bytes.begin() + std::clamp<std::ptrdiff_t>(offset, 0, static_cast<std::ptrdiff_t>(bytes.size())), '\n'));
+        return static_cast<std::size_t>(std::upper_bound(line_starts.begin(), line_starts.end(), std::max<std::ptrdiff_t>(offset, 0)) - line_starts.begin());
     };
     if (!ok) throw InputError(source, line_at(ok.offset), fmt::format("XML: {}", ok.description()));
     auto local = [](const char* name) {

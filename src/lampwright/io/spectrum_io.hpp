@@ -5,7 +5,7 @@
 // row, then rows of numbers. The first column is the wavelength in nm; every further column is
 // one spectrum (named by the header, or by the file name). Separators: comma, semicolon, tab or
 // spaces; unless commas separate the columns, a decimal comma is accepted. Checks: numbers only, no NaN/Inf, strictly
-// increasing wavelengths, 380-780 nm covered (CIE 15:2004 minimum colorimetric range), at least
+// increasing wavelengths, each within 100-100,000 nm, 380-780 nm covered (CIE 15:2004 minimum colorimetric range), at least
 // one positive value. Negative values down to -1 % of the spectrum's maximum are measurement noise:
 // they are set to zero and counted in a warning; larger negative values are an error.
 #include "lampwright/core/spectrum.hpp"
@@ -15,6 +15,10 @@
 #include <vector>
 
 namespace lampwright {
+
+// Wavelengths outside this range (nm) are refused with the file and line, in every format.
+inline constexpr double kMinWavelengthNm = 100.0;
+inline constexpr double kMaxWavelengthNm = 100000.0;
 
 struct SpectrumReadOptions {
     bool check_range = true;

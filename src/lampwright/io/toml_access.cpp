@@ -31,7 +31,136 @@ std::string path_relative_to(const std::string& base_file, const std::string& pa
 
 std::string key_path(const std::string& where, const std::string& key) { return where.empty() ? key : where + "." + key; }
 
+namespace {
+
+// toml++ parses and destroys nested tables and arrays by recursion, so a file such as
+// [a.a.a....] with 50,000 levels, or x = [[[[...]]]], overflows the stack. No recipe, spec,
+// phosphor or layer file needs more than a handful of levels, so text nested deeper than this is
+// refused before toml++ sees it (limit: common practice, no source).
+constexpr std::size_t kMaxTomlNesting = 64;
+
+[[noreturn]] void too_deep(const std::string& source, std::size_t line) {
+    throw InputError(source, line, fmt::format("nested deeper than {} levels (tables, dotted keys, arrays or inline tables); no lampwright file needs that many",
+                                               kMaxTomlNesting));
+}
+
+// Scans the text as TOML (strings, comments, table headers, keys, values) and counts how deep
+// each table header, dotted key, array and inline table lies; fails at the first one deeper than
+// kMaxTomlNesting. Syntax errors are left for toml++ to report.
+void check_toml_nesting(const std::string& text, const std::string& source) {
+    const std::size_t n = text.size();
+    std::size_t i = 0, line = 1;
+    std::size_t header_depth = 0;      // levels of the current [table] header
+    std::vector<std::size_t> open;     // depth of each open '[' or '{' in a value
+    std::vector<char> kinds;           // '[' or '{'
+    bool in_key = true;                // reading a key (else a value)
+    bool line_start = true;            // at the start of a top-level statement
+    std::size_t key_parts = 1;         // parts of the dotted key being read
+    auto base = [&] { return open.empty() ? header_depth : open.back(); };
+    auto check = [&](std::size_t depth) {
+        if (depth > kMaxTomlNesting) too_deep(source, line);
+    };
+    // Skips a string starting at text[i] (a quote); counts the newlines of multi-line strings.
+    auto skip_string = [&] {
+        const char q = text[i];
+        const bool multi = text.compare(i, 3, std::string(3, q)) == 0;
+        i += multi ? 3 : 1;
+        while (i < n) {
+            const char c = text[i];
+            if (c == '\\' && q == '"') {
+                if (i + 1 < n && text[i + 1] == '\n') ++line;
+                i += 2;
+                continue;
+            }
+            if (c == '\n') {
+                ++line;
+                if (!multi) return;  // unterminated: toml++ reports it
+            }
+            if (c == q && (!multi || text.compare(i, 3, std::string(3, q)) == 0)) {
+                i += multi ? 3 : 1;
+                while (multi && i < n && text[i] == q) ++i;  // up to two quotes may end the content
+                return;
+            }
+            ++i;
+        }
+    };
+    while (i < n) {
+        const char c = text[i];
+        if (c == '"' || c == '\'') {
+            skip_string();
+            line_start = false;
+            continue;
+        }
+        if (c == '#') {
+            while (i < n && text[i] != '\n') ++i;
+            continue;
+        }
+        if (c == '\n') {
+            ++line;
+            ++i;
+            if (open.empty()) {
+                line_start = true;
+                in_key = true;
+                key_parts = 1;
+            }
+            continue;
+        }
+        if (c == ' ' || c == '\t' || c == '\r') {
+            ++i;
+            continue;
+        }
+        if (line_start && c == '[') {
+            // A [table] or [[array of tables]] header: one level per dotted part.
+            std::size_t parts = 1;
+            ++i;
+            while (i < n && text[i] != ']' && text[i] != '\n') {
+                if (text[i] == '"' || text[i] == '\'') {
+                    skip_string();
+                    continue;
+                }
+                if (text[i] == '.') check(++parts);
+                ++i;
+            }
+            header_depth = parts;
+            line_start = false;
+            in_key = false;  // the rest of the line holds at most "]" and a comment
+            continue;
+        }
+        line_start = false;
+        if (in_key) {
+            if (c == '.') check(base() + key_parts++);  // each dot opens one more table
+            else if (c == '=') in_key = false;
+            else if (c == '}' && !kinds.empty() && kinds.back() == '{') {  // empty inline table "{}"
+                open.pop_back();
+                kinds.pop_back();
+                in_key = false;
+            }
+            ++i;
+            continue;
+        }
+        if (c == '[' || c == '{') {
+            // A value of a key with k parts in a table at depth d lies at d + k; an element of an array one deeper.
+            const std::size_t depth = kinds.empty() || kinds.back() == '{' ? base() + key_parts : base() + 1;
+            check(depth);
+            open.push_back(depth);
+            kinds.push_back(c);
+            in_key = c == '{';
+            key_parts = 1;
+        } else if ((c == ']' || c == '}') && !kinds.empty()) {
+            open.pop_back();
+            kinds.pop_back();
+        } else if (c == ',' && !kinds.empty() && kinds.back() == '{') {
+            in_key = true;
+            key_parts = 1;
+        }
+        ++i;
+    }
+}
+
+}  // namespace
+
 TomlDoc::TomlDoc(const std::string& text, std::string source) : source_(std::move(source)) {
+    check_toml_nesting(text, source_);
     try {
         table_ = toml::parse(text, source_);
     } catch (const toml::parse_error& e) {

@@ -11,11 +11,16 @@
 #include <algorithm>
 #include <atomic>
 #include <cmath>
+#include <exception>
 #include <filesystem>
+#include <map>
 #include <mutex>
 #include <numeric>
 #include <sstream>
+#include <system_error>
 #include <thread>
+
+#include <sys/stat.h>
 
 namespace lampwright {
 
@@ -137,22 +142,105 @@ LampResult judge_lamp(const QcSpec& spec, Assessment a) {
     return r;
 }
 
+namespace {
+
+// Why a path that names no readable file or folder is bad: a dangling link, a link loop, or missing.
+std::string unreachable_reason(const std::filesystem::path& p, const std::error_code& status_error) {
+    std::error_code ec;
+    if (std::filesystem::is_symlink(std::filesystem::symlink_status(p, ec))) {
+        if (status_error == std::errc::too_many_symbolic_link_levels) return "symbolic link loop (the link leads back to itself); skipped";
+        const auto target = std::filesystem::read_symlink(p, ec);
+        return fmt::format("dangling symbolic link (to '{}', which does not exist); skipped", target.string());
+    }
+    if (status_error && status_error != std::errc::no_such_file_or_directory) return fmt::format("cannot be read: {}", status_error.message());
+    return "no such file or folder";
+}
+
+const char* special_kind(std::filesystem::file_type t) {
+    switch (t) {
+        case std::filesystem::file_type::fifo: return "a FIFO";
+        case std::filesystem::file_type::socket: return "a socket";
+        case std::filesystem::file_type::character: return "a character device";
+        case std::filesystem::file_type::block: return "a block device";
+        default: return "not a regular file";
+    }
+}
+
+// A file's identity (device and inode): two names, one of them a symbolic link, for the same file.
+struct FileId {
+    std::uintmax_t dev = 0, ino = 0;
+    bool operator<(const FileId& o) const { return dev != o.dev ? dev < o.dev : ino < o.ino; }
+};
+
+std::optional<FileId> file_id(const std::string& path) {
+    struct stat st {};
+    if (::stat(path.c_str(), &st) != 0) return std::nullopt;
+    return FileId{static_cast<std::uintmax_t>(st.st_dev), static_cast<std::uintmax_t>(st.st_ino)};
+}
+
+}  // namespace
+
 std::vector<std::string> collect_spectrum_files(const std::vector<std::string>& inputs, std::vector<BadFile>& bad) {
-    std::vector<std::string> files;
+    namespace fs = std::filesystem;
+    struct Found {
+        std::string path;
+        bool is_link = false;
+        std::optional<FileId> id;
+    };
+    std::vector<Found> all;
     for (const auto& in : inputs) {
         std::error_code ec;
-        if (std::filesystem::is_directory(in, ec)) {
-            std::vector<std::string> found;
-            for (const auto& e : std::filesystem::directory_iterator(in, ec))
-                if (e.is_regular_file() && is_spectrum_file(e.path())) found.push_back(e.path().string());
-            std::sort(found.begin(), found.end());
+        const fs::file_status st = fs::status(in, ec);
+        if (ec || !fs::exists(st)) {
+            bad.push_back({in, unreachable_reason(in, ec)});
+        } else if (fs::is_directory(st)) {
+            std::vector<Found> found;
+            // Every entry is examined with error codes, never exceptions: one bad entry (a link
+            // loop, a dangling link) is named as a bad input and the rest of the folder is judged.
+            fs::directory_iterator it(in, ec), end;
+            if (ec) {
+                bad.push_back({in, fmt::format("folder cannot be listed: {}", ec.message())});
+                continue;
+            }
+            for (; it != end; it.increment(ec)) {
+                if (ec) break;
+                const fs::path p = it->path();
+                if (!is_spectrum_file(p)) continue;
+                std::error_code lec, sec;
+                const bool is_link = fs::is_symlink(it->symlink_status(lec));
+                const fs::file_status target = it->status(sec);
+                if (sec || !fs::exists(target)) {
+                    bad.push_back({p.string(), unreachable_reason(p, sec)});
+                } else if (fs::is_regular_file(target)) {
+                    found.push_back({p.string(), is_link, file_id(p.string())});
+                } else if (!fs::is_directory(target)) {
+                    // Reading a FIFO would wait for a writer; a device could never end.
+                    bad.push_back({p.string(), fmt::format("is {}, not a regular file; skipped", special_kind(target.type()))});
+                }
+            }
+            if (ec) bad.push_back({in, fmt::format("folder could not be listed to the end: {}", ec.message())});
+            std::sort(found.begin(), found.end(), [](const Found& a, const Found& b) { return a.path < b.path; });
             if (found.empty()) bad.push_back({in, "folder holds no spectrum files (*.csv, *.txt, *.tsv, *.xml)"});
-            files.insert(files.end(), found.begin(), found.end());
-        } else if (std::filesystem::exists(in, ec)) {
-            files.push_back(in);
+            all.insert(all.end(), found.begin(), found.end());
         } else {
-            bad.push_back({in, "no such file or folder"});
+            all.push_back({in, fs::is_symlink(fs::symlink_status(in, ec)), file_id(in)});
         }
+    }
+    // One file reached under two names (a symbolic link beside its target, or given twice) is
+    // judged once, under the name that is not a link (else the first), so no lamp counts twice.
+    std::map<FileId, std::size_t> keeper;
+    for (std::size_t k = 0; k < all.size(); ++k) {
+        if (!all[k].id) continue;
+        const auto [pos, added] = keeper.emplace(*all[k].id, k);
+        if (!added && all[pos->second].is_link && !all[k].is_link) pos->second = k;
+    }
+    std::vector<std::string> files;
+    for (std::size_t k = 0; k < all.size(); ++k) {
+        if (all[k].id && keeper.at(*all[k].id) != k) {
+            bad.push_back({all[k].path, fmt::format("is the same file as {}; skipped so its lamps are judged once", all[keeper.at(*all[k].id)].path)});
+            continue;
+        }
+        files.push_back(all[k].path);
     }
     return files;
 }
@@ -166,6 +254,13 @@ std::string content_hash(const std::string& bytes) {
     return fmt::format("{:016x}", h);
 }
 
+unsigned qc_worker_count(unsigned requested, std::size_t files) {
+    // More threads than cores only add switching; more than files leave threads idle.
+    const unsigned cores = std::max(1u, std::thread::hardware_concurrency());
+    const unsigned wanted = requested == 0 ? cores : std::min(requested, cores);
+    return static_cast<unsigned>(std::min<std::size_t>(wanted, std::max<std::size_t>(1, files)));
+}
+
 QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigned threads, const ProgressCallback& progress) {
     QcRun run;
     run.spec = spec;
@@ -176,6 +271,8 @@ QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigne
     std::mutex progress_mutex;
     AssessOptions options;
     (void)assess(planckian(3000), options);  // build the shared tables before the workers start
+    std::exception_ptr unexpected;  // anything that is not std::exception: rethrown after the join
+    std::mutex unexpected_mutex;
     auto worker = [&] {
         for (std::size_t i = next++; i < files.size(); i = next++) {
             try {
@@ -194,20 +291,45 @@ QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigne
             } catch (const Error& e) {
                 bad[i] = BadFile{files[i], e.what()};
                 per_file[i].clear();
+            } catch (const std::exception& e) {
+                // An exception escaping a thread ends the program (std::terminate): the file is
+                // named as not judged instead (e.g. out of memory on it) and the rest go on.
+                bad[i] = BadFile{files[i], fmt::format("could not be judged: {}", e.what())};
+                per_file[i].clear();
+            } catch (...) {
+                std::lock_guard<std::mutex> lock(unexpected_mutex);
+                if (!unexpected) unexpected = std::current_exception();
+                per_file[i].clear();
             }
             const std::size_t d = ++done;
             if (progress) {
                 std::lock_guard<std::mutex> lock(progress_mutex);
-                progress(d, files.size());
+                try {
+                    progress(d, files.size());
+                } catch (...) {
+                    std::lock_guard<std::mutex> lock2(unexpected_mutex);
+                    if (!unexpected) unexpected = std::current_exception();
+                }
             }
         }
     };
-    if (threads == 0) threads = std::max(1u, std::thread::hardware_concurrency());
-    threads = static_cast<unsigned>(std::min<std::size_t>(threads, std::max<std::size_t>(1, files.size())));
-    std::vector<std::thread> pool;
-    for (unsigned t = 1; t < threads; ++t) pool.emplace_back(worker);
-    worker();
-    for (auto& t : pool) t.join();
+    threads = qc_worker_count(threads, files.size());
+    {
+        // jthreads join when they go out of scope, on every path: a thread that cannot be started
+        // (std::system_error) leaves the work to those that could, never a joinable std::thread
+        // destroyed (which is std::terminate).
+        std::vector<std::jthread> pool;
+        pool.reserve(threads);
+        for (unsigned t = 1; t < threads; ++t) {
+            try {
+                pool.emplace_back(worker);
+            } catch (const std::system_error&) {
+                break;
+            }
+        }
+        worker();
+    }
+    if (unexpected) std::rethrow_exception(unexpected);
     for (std::size_t i = 0; i < files.size(); ++i) {
         if (bad[i]) run.bad_files.push_back(*bad[i]);
         for (auto& l : per_file[i]) run.lamps.push_back(std::move(l));

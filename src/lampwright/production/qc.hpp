@@ -82,12 +82,19 @@ struct QcRun {
 using ProgressCallback = std::function<void(std::size_t done, std::size_t total)>;
 
 // Spectrum files under the inputs: files as given, folders' *.csv, *.txt, *.tsv, *.xml (sorted).
+// Named in `bad` and left out: missing inputs, dangling links and link loops, FIFOs, sockets and
+// devices, and a second name (a symbolic link) of a file already listed.
 std::vector<std::string> collect_spectrum_files(const std::vector<std::string>& inputs, std::vector<BadFile>& bad);
 
 // Judges one lamp (its assessment) against the spec.
 LampResult judge_lamp(const QcSpec& spec, Assessment a);
 
-// Reads and judges every file, in parallel over `threads` workers (0 = all cores).
+// The number of worker threads run_qc uses: `requested` (0 = all cores), at most the number of
+// cores and of files, at least 1.
+unsigned qc_worker_count(unsigned requested, std::size_t files);
+
+// Reads and judges every file, in parallel over `threads` workers (0 = all cores; capped by
+// qc_worker_count).
 QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigned threads = 0, const ProgressCallback& progress = {});
 
 // Lot statistics of judged lamps; also marks robust outliers (|0.6745 (v - median) / MAD| > 3.5,
