@@ -1,24 +1,12 @@
 #include "lampwright/report/provenance.hpp"
 
+#include "lampwright/report/svg_plot.hpp"
+
 #include <fmt/format.h>
 
 namespace lampwright {
 
 namespace {
-
-std::string xml_escaped(const std::string& s) {
-    std::string o;
-    for (char c : s) {
-        switch (c) {
-            case '&': o += "&amp;"; break;
-            case '<': o += "&lt;"; break;
-            case '>': o += "&gt;"; break;
-            case '"': o += "&quot;"; break;
-            default: o += c;
-        }
-    }
-    return o;
-}
 
 // An XML comment may not contain "--" (XML 1.0, section 2.5).
 std::string comment_safe(std::string s) {
@@ -47,13 +35,13 @@ std::string provenance_line(const RunProvenance& p) {
 std::string stamp_document(std::string doc, const RunProvenance& p) {
     const std::string line = provenance_line(p);
     if (const std::size_t html = after_opening_tag(doc, "head"); html != std::string::npos && doc.find("<html") != std::string::npos) {
-        doc.insert(html, "\n<!-- " + comment_safe(xml_escaped(line)) + " -->");
+        doc.insert(html, "\n<!-- " + comment_safe(xml_escape(line)) + " -->");
         if (const std::size_t body_end = doc.rfind("</body>"); body_end != std::string::npos)
-            doc.insert(body_end, fmt::format("<p class=\"provenance\" style=\"color:#555;font-size:smaller\">Made by {}</p>\n", xml_escaped(line)));
+            doc.insert(body_end, fmt::format("<p class=\"provenance\" style=\"color:#555;font-size:smaller\">Made by {}</p>\n", xml_escape(line)));
         return doc;
     }
     if (const std::size_t svg = after_opening_tag(doc, "svg"); svg != std::string::npos) {
-        doc.insert(svg, fmt::format("\n<!-- {} -->\n<desc>{}</desc>", comment_safe(xml_escaped(line)), xml_escaped(line)));
+        doc.insert(svg, fmt::format("\n<!-- {} -->\n<desc>{}</desc>", comment_safe(xml_escape(line)), xml_escape(line)));
         return doc;
     }
     return doc;
