@@ -38,8 +38,9 @@ int run_qc_command(int argc, char** argv) {
 Judges every measured spectrum (CSV/text tables as in 'assess', multi-column files as many lamps,
 IES TM-27 XML) against the specification: chromaticity region (MacAdam ellipse, ANSI C78.377
 quadrangle or u'v' circle), Ra, R9, CCT and Duv limits. Prints each lamp's figures and verdict and
-the lot statistics (means, standard deviations, centroid and its offset in MacAdam steps, Cpk,
-robust outliers). Files are read in parallel.
+the lot statistics (means, standard deviations, centroid and its offset in MacAdam steps, the
+fraction outside the region, Ppk with its 95 % interval, with and without robust outliers; no
+outliers are flagged in lots of fewer than 8 lamps). Files are read in parallel.
 
 Exit status: 0 all lamps passed; 1 some files were bad (every lamp read passed); 3 some lamps
 failed (every file read); 4 both; 2 usage error.
@@ -53,13 +54,15 @@ failed (every file read); 4 both; 2 usage error.
         ("report", po::value(&report), "write a self-contained HTML report to this file")
         ("record", po::bool_switch(&record), "record the lot in the history database")
         ("db", po::value(&db), "history database (default lampwright.db in this folder); implies --record")
-        ("lot", po::value(&lot_id), "lot id for the history (default: lot- and the UTC date and time)")
+        ("lot", po::value(&lot_id), "lot id for the history, with --record (default: lot-, the UTC time to the millisecond and a random suffix)")
         ("recipe", po::value(&recipe), "the recipe this lot was made with: print a corrected recipe")
         ("threads", po::value(&threads), "worker threads (default: all cores)");
     po::variables_map vm;
     if (!parse_command_line(argc, argv, opts, "input", &args, vm, "qc")) return kExitOk;
     const Format f = parse_format(format);
     if (args.size() < 2) throw UsageError{"qc: give a spec file and at least one spectrum file or folder (see lampwright qc --help)"};
+    // A lot id that is not recorded would be dropped without a word: refuse it instead.
+    if (vm.count("lot") && !record && db.empty()) throw UsageError{"qc: --lot names the lot in the history database; add --record (or --db PATH) to record it"};
 
     const QcSpec spec = load_qc_spec(args.front());
     const std::vector<std::string> inputs(args.begin() + 1, args.end());
@@ -81,7 +84,9 @@ failed (every file read); 4 both; 2 usage error.
     if (record || !db.empty()) {
         const std::string path = db.empty() ? kDefaultHistoryDb : db;
         const RecordOutcome o = record_lot(path, run, lot_id, recipe);
-        if (o.recorded)
+        if (!o.already_recorded_as.empty())
+            std::cerr << fmt::format("lampwright qc: every lamp is already recorded as lot {} in {}; nothing recorded\n", o.already_recorded_as, path);
+        else if (o.recorded)
             std::cerr << fmt::format("lampwright qc: lot {} recorded in {} ({} lamps new, {} already there)\n", o.lot_id, path, o.lamps_added,
                                      o.lamps_skipped);
         else
