@@ -295,21 +295,21 @@ TEST_CASE("lot history: SQLite errors name the database file") {
     CHECK(list_lots(empty).empty());
 }
 
-TEST_CASE("lot history: control chart limits are the mean plus and minus three standard deviations") {
-    // Hand-computed example (Shewhart chart, limits mean +- 3 s with the sample standard deviation
-    // over lots, as in Montgomery, Introduction to Statistical Quality Control; from memory):
-    //   Ra:    ten lots at 80, lot 11 at 91 -> mean 81, s = sqrt((10 * 1 + 100) / 10) = sqrt(11)
-    //          = 3.316625; limits 71.050125 .. 90.949875; lot 11 (91) is out of control.
-    //   CCT:   ten lots at 4000 K, lot 6 at 4110 K -> mean 4010, s = sqrt((10 * 100 + 10000) / 10)
-    //          = sqrt(1100) = 33.166248; limits 3910.501256 .. 4109.498744; lot 6 is out.
-    //   steps: five lots at 1, six at 2 -> mean 17/11 = 1.545455, s = sqrt(30/110) = 0.522233;
-    //          upper 3.112153; lower 1.545455 - 1.566699 < 0, set to 0 (non-negative quantity).
+TEST_CASE("lot history: control chart limits are the mean plus and minus 2.66 average moving ranges") {
+    // Hand-computed example (individuals chart, limits mean +- 2.66 MR-bar, MR-bar the mean of
+    // |x_i - x_(i-1)|; Montgomery, Introduction to Statistical Quality Control, 2.66 = 3 / 1.128):
+    //   Ra:    ten lots at 80, lot 11 at 91 -> mean 81, MR-bar = 11 / 10 = 1.1; limits
+    //          81 -+ 2.926 = 78.074 .. 83.926; lot 11 (91) is out of control.
+    //   CCT:   ten lots at 4000 K, lot 6 at 4110 K -> mean 4010, MR-bar = 220 / 10 = 22; limits
+    //          4010 -+ 58.52 = 3951.48 .. 4068.52; lot 6 is out.
+    //   steps: 1, 2, 1, 2, ... 1 (six 1s, five 2s) -> mean 16/11 = 1.454545, MR-bar = 1; upper
+    //          4.114545; lower 1.454545 - 2.66 < 0, set to 0 (non-negative quantity).
     std::vector<LotRecord> lots(11);
     for (std::size_t i = 0; i < lots.size(); ++i) {
         lots[i].lot_id = fmt::format("L{:02}", i + 1);
         lots[i].mean_ra = i == 10 ? 91 : 80;
         lots[i].mean_cct_K = i == 5 ? 4110 : 4000;
-        lots[i].centroid_steps = i < 5 ? 1 : 2;
+        lots[i].centroid_steps = i % 2 == 0 ? 1 : 2;
     }
     const auto charts = control_charts(lots);
     REQUIRE(charts.size() == 3);
@@ -321,19 +321,20 @@ TEST_CASE("lot history: control chart limits are the mean plus and minus three s
     CHECK(cct.quantity.find("CCT") != std::string::npos);
 
     CHECK(ra.centre == doctest::Approx(81.0).epsilon(1e-12));
-    CHECK(ra.lower == doctest::Approx(81.0 - 3 * std::sqrt(11.0)).epsilon(1e-12));
-    CHECK(ra.upper == doctest::Approx(90.949875).epsilon(1e-7));
+    CHECK(ra.average_moving_range == doctest::Approx(1.1).epsilon(1e-12));
+    CHECK(ra.lower == doctest::Approx(78.074).epsilon(1e-12));
+    CHECK(ra.upper == doctest::Approx(83.926).epsilon(1e-12));
     REQUIRE(ra.out_of_control.size() == 1);
     CHECK(ra.out_of_control[0] == 10);
 
     CHECK(cct.centre == doctest::Approx(4010.0).epsilon(1e-12));
-    CHECK(cct.lower == doctest::Approx(3910.501256).epsilon(1e-9));
-    CHECK(cct.upper == doctest::Approx(4109.498744).epsilon(1e-9));
+    CHECK(cct.lower == doctest::Approx(3951.48).epsilon(1e-12));
+    CHECK(cct.upper == doctest::Approx(4068.52).epsilon(1e-12));
     REQUIRE(cct.out_of_control.size() == 1);
     CHECK(cct.out_of_control[0] == 5);
 
-    CHECK(steps.centre == doctest::Approx(17.0 / 11).epsilon(1e-12));
-    CHECK(steps.upper == doctest::Approx(3.112153).epsilon(1e-6));
+    CHECK(steps.centre == doctest::Approx(16.0 / 11).epsilon(1e-12));
+    CHECK(steps.upper == doctest::Approx(16.0 / 11 + 2.66).epsilon(1e-12));
     CHECK(steps.lower == 0.0);
     CHECK(steps.out_of_control.empty());
     CHECK(steps.lot_ids.size() == 11);
@@ -362,6 +363,39 @@ TEST_CASE("lot history: control chart limits are the mean plus and minus three s
     CHECK(std::isnan(single[1].upper));
     CHECK(single[1].out_of_control.empty());
     CHECK(control_charts({}).at(0).values.empty());
+
+    // A sustained shift (five lots at 1 step, six at 2): the moving range stays small (MR-bar
+    // 0.1), so every lot is beyond mean -+ 0.266; limits from the overall sd (+- 1.57) would flag none.
+    for (std::size_t i = 0; i < lots.size(); ++i) lots[i].centroid_steps = i < 5 ? 1 : 2;
+    CHECK(control_charts(lots)[0].out_of_control.size() == 11);
+}
+
+TEST_CASE("lot history: history shows one spec, the most recent lot's unless one is named") {
+    std::vector<LotRecord> lots(5);
+    const char* specs[] = {"S1", "S2", "S1", "S3", "S1"};
+    for (std::size_t i = 0; i < lots.size(); ++i) {
+        lots[i].lot_id = fmt::format("L{}", i + 1);
+        lots[i].spec_name = specs[i];
+        lots[i].spec_path = fmt::format("/specs/{}.toml", specs[i]);
+    }
+    const SpecSelection latest = select_spec(lots, "");
+    CHECK(latest.spec == "S1");
+    REQUIRE(latest.lots.size() == 3);
+    CHECK(latest.lots[1].lot_id == "L3");
+    CHECK(latest.total_lots == 5);
+    CHECK(latest.other_specs == std::vector<std::string>{"S2", "S3"});
+    CHECK(spec_selection_text(latest) == "showing spec 'S1' (3 of 5 lots); other specs: 'S2', 'S3'");
+    CHECK(spec_selection_json(latest)["other_specs"].size() == 2);
+    CHECK(control_charts_svg(control_charts(latest.lots), spec_selection_text(latest)).find("showing spec 'S1'") != std::string::npos);
+
+    const SpecSelection by_path = select_spec(lots, "/specs/S2.toml");
+    CHECK(by_path.spec == "S2");
+    CHECK(by_path.lots.size() == 1);
+    CHECK(select_spec(lots, "S3").lots.at(0).lot_id == "L4");
+    CHECK(error_message([&] { select_spec(lots, "S9"); }).find("no lot recorded with spec 'S9'") != std::string::npos);
+
+    // One spec only: nothing to say.
+    CHECK(spec_selection_text(select_spec({lots[0], lots[2]}, "")).empty());
 }
 
 TEST_CASE("lot history: kill -9 during an import leaves the lot complete or absent") {
@@ -459,4 +493,78 @@ TEST_CASE("lot history: kill -9 during an import leaves the lot complete or abse
     }
     MESSAGE(fmt::format("{} of {} kills interrupted the import; {} found it complete", interrupted, kRepeats, completed));
     CHECK(interrupted >= 1);  // the test is only meaningful if some kill landed inside the transaction
+}
+
+TEST_CASE("lot history: default lot ids recorded within one second are all kept and unique") {
+    TempDir dir;
+    const std::string db = dir.file("history.db");
+    const QcSpec spec = f4100_spec();
+    std::vector<std::string> ids;
+    for (const char* p : {"A", "B", "C"}) {
+        const RecordOutcome r = record_lot(db, make_run(spec, fluorescent_kinds(), 3, p), "");
+        CHECK(r.recorded);
+        ids.push_back(r.lot_id);
+    }
+    CHECK(ids[0] != ids[1]);
+    CHECK(ids[1] != ids[2]);
+    // lot-YYYYMMDDTHHMMSS.mmmZ-xxxx: 4 + 15 + 5 + 5 characters.
+    CHECK(ids[0].size() == 29);
+    CHECK(ids[0].substr(19, 1) == ".");
+    CHECK(ids[0].substr(23, 2) == "Z-");
+    Sql sql(db);
+    CHECK(sql.integer("SELECT count(*) FROM lots") == 3);
+    CHECK(sql.integer("SELECT count(*) FROM lamps") == 9);
+}
+
+TEST_CASE("lot history: two concurrent recordings with default ids both land") {
+    TempDir dir;
+    const std::string db = dir.file("history.db");
+    const QcSpec spec = f4100_spec();
+    const QcRun a = make_run(spec, fluorescent_kinds(), 4, "A"), b = make_run(spec, fluorescent_kinds(), 4, "B");
+    for (int round = 0; round < 5; ++round) {
+        RecordOutcome ra, rb;
+        QcRun a2 = a, b2 = b;
+        for (auto& l : a2.lamps) l.content_hash += std::to_string(round);
+        for (auto& l : b2.lamps) l.content_hash += std::to_string(round);
+        std::thread ta([&] { ra = record_lot(db, a2, ""); });
+        std::thread tb([&] { rb = record_lot(db, b2, ""); });
+        ta.join();
+        tb.join();
+        CHECK(ra.recorded);
+        CHECK(rb.recorded);
+        CHECK(ra.lot_id != rb.lot_id);
+    }
+    Sql sql(db);
+    CHECK(sql.integer("SELECT count(*) FROM lots") == 10);
+    CHECK(sql.integer("SELECT count(*) FROM lamps") == 40);
+}
+
+TEST_CASE("lot history: a re-run of a recorded lot records no second, empty lot") {
+    TempDir dir;
+    const std::string db = dir.file("history.db");
+    const QcSpec spec = f4100_spec();
+    const QcRun run = make_run(spec, fluorescent_kinds(), 6, "A");
+    const RecordOutcome first = record_lot(db, run, "");
+    REQUIRE(first.recorded);
+    const RecordOutcome again = record_lot(db, run, "");
+    CHECK_FALSE(again.recorded);
+    CHECK(again.already_recorded_as == first.lot_id);
+    CHECK(again.lamps_added == 0);
+    Sql sql(db);
+    CHECK(sql.integer("SELECT count(*) FROM lots") == 1);
+    CHECK(list_lots(db).size() == 1);
+
+    // Part of the lamps new: a real new lot (the known lamps are skipped as before).
+    QcRun mixed = make_run(spec, fluorescent_kinds(), 2, "B");
+    mixed.lamps.push_back(run.lamps[0]);
+    mixed.stats = lot_statistics(spec, mixed.lamps);
+    const RecordOutcome m = record_lot(db, mixed, "");
+    CHECK(m.recorded);
+    CHECK(m.already_recorded_as.empty());
+    CHECK(m.lamps_added == 2);
+
+    // The same lamps under another spec are a different judgement: recorded.
+    QcRun other = run;
+    other.spec.name = "another spec";
+    CHECK(record_lot(db, other, "").recorded);
 }

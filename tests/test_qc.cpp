@@ -9,6 +9,7 @@
 #include "lampwright/phosphor/recipe.hpp"
 #include "lampwright/io/spectrum_io.hpp"
 #include "lampwright/core/statistics.hpp"
+#include "lampwright/core/error.hpp"
 
 #include "test_support.hpp"
 
@@ -101,14 +102,125 @@ TEST_CASE("qc: a lamp is judged against every limit and the failures are named")
     for (const auto& f : fl11.failures) CHECK(f.find("CCT") == std::string::npos);
 }
 
-TEST_CASE("qc: Cpk follows the textbook formula") {
-    // Cpk = min(USL - mean, mean - LSL) / 3 sigma (Montgomery, Introduction to Statistical Quality
-    // Control, process capability chapter; worked numbers from memory): mean 10, sd 1, LSL 7, USL 14 -> 1.0.
+TEST_CASE("qc: Ppk follows the textbook formula") {
+    // Ppk = min(USL - mean, mean - LSL) / 3 sigma with the overall sd (Montgomery, Introduction to
+    // Statistical Quality Control, process capability chapter; worked numbers from memory): mean 10, sd 1, LSL 7, USL 14 -> 1.0.
     CHECK(process_capability(10, 1, 7.0, 14.0) == doctest::Approx(1.0));
     CHECK(process_capability(10, 1, 7.0, std::nullopt) == doctest::Approx(1.0));
     CHECK(process_capability(10, 1, std::nullopt, 14.0) == doctest::Approx(4.0 / 3.0));
     CHECK(process_capability(10, 0.5, 8.5, 11.0) == doctest::Approx(2.0 / 3.0));
     CHECK(std::isnan(process_capability(10, 0, 7.0, 14.0)));
+}
+
+TEST_CASE("qc: the Ppk 95 % interval is Bissell's approximation") {
+    // Bissell (1990): Ppk -+ 1.96 sqrt(1/(9n) + Ppk^2/(2(n-1))). Ppk 1, n 30: sqrt(1/270 + 1/58)
+    // = 0.1447237, half width 0.2836585 (computed by hand).
+    const auto [lo, hi] = ppk_confidence_95(1.0, 30);
+    CHECK(lo == doctest::Approx(1.0 - 0.2836585).epsilon(1e-6));
+    CHECK(hi == doctest::Approx(1.0 + 0.2836585).epsilon(1e-6));
+    CHECK(std::isnan(ppk_confidence_95(1.0, 1).first));
+    CHECK(std::isnan(ppk_confidence_95(NAN, 30).second));
+}
+
+namespace {
+
+// n lamps of one 4000 K spectrum whose Ra is set to the given values (everything else equal).
+std::vector<LampResult> lamps_with_ra(const QcSpec& spec, const std::vector<double>& ra) {
+    Spectrum s = planckian(4000);
+    const LampResult base = judge_lamp(spec, assess(s));
+    std::vector<LampResult> lamps;
+    for (std::size_t i = 0; i < ra.size(); ++i) {
+        LampResult l = base;
+        l.name = fmt::format("lamp{}", i);
+        l.assessment.rendering->ra = ra[i];
+        lamps.push_back(std::move(l));
+    }
+    return lamps;
+}
+
+QcSpec spec_4000() {
+    QcSpec spec;
+    spec.centre = assess(planckian(4000)).xy;
+    spec.step_ellipse = macadam_ellipse(spec.centre, 0.003, 0.0013, 54.0);
+    spec.max_steps = 4;
+    spec.ra_min = 70;
+    return spec;
+}
+
+}  // namespace
+
+TEST_CASE("qc: no outliers are flagged in a lot of fewer than eight lamps") {
+    const QcSpec spec = spec_4000();
+    // Median 80.1, MAD 0.05: the old modified z of the 81.3 lamp was 0.6745 * 1.2 / 0.05 = 16.2.
+    auto lamps = lamps_with_ra(spec, {80.0, 80.05, 80.1, 80.15, 81.3});
+    const LotStatistics st = lot_statistics(spec, lamps);
+    CHECK_FALSE(st.outliers_checked);
+    CHECK(st.outliers == 0);
+    for (const auto& l : lamps) CHECK_FALSE(l.outlier);
+}
+
+TEST_CASE("qc: the outlier scale has a resolution floor, so a small Ra difference is no outlier") {
+    const QcSpec spec = spec_4000();
+    // Eleven lamps: 80.00 .. 80.45 and 81.5. Median 80.25, MAD 0.15, 1.4826 MAD = 0.222 < floor
+    // 0.5: z = 1.25 / 0.5 = 2.5, not beyond 3.5 (the unfloored modified z was 5.6).
+    std::vector<double> ra;
+    for (int i = 0; i < 10; ++i) ra.push_back(80.0 + 0.05 * i);
+    ra.push_back(81.5);
+    auto lamps = lamps_with_ra(spec, ra);
+    LotStatistics st = lot_statistics(spec, lamps);
+    CHECK(st.outliers_checked);
+    CHECK(st.outliers == 0);
+    CHECK(outlier_scale_floor("Ra") == 0.5);
+
+    // A real outlier (85) still is one: z = (85 - 80.25) / 0.5 = +9.5.
+    ra.back() = 85;
+    lamps = lamps_with_ra(spec, ra);
+    st = lot_statistics(spec, lamps);
+    CHECK(st.outliers == 1);
+    CHECK(lamps.back().outlier);
+    CHECK(lamps.back().outlier_note == "Ra z=+9.5");
+
+    // (c) Capability with and without the flagged lamp, each from its own values.
+    const Capability* cap = nullptr;
+    for (const auto& c : st.capabilities)
+        if (c.quantity == "Ra") cap = &c;
+    REQUIRE(cap);
+    CHECK(cap->all.n == 11);
+    CHECK(cap->without_outliers.n == 10);
+    std::vector<double> kept(ra.begin(), ra.end() - 1);
+    CHECK(cap->without_outliers.mean == doctest::Approx(mean(kept)).epsilon(1e-12));
+    CHECK(cap->without_outliers.ppk == doctest::Approx(process_capability(mean(kept), sample_sd(kept), 70.0, std::nullopt)).epsilon(1e-12));
+    CHECK(cap->all.ppk == doctest::Approx(process_capability(mean(ra), sample_sd(ra), 70.0, std::nullopt)).epsilon(1e-12));
+    CHECK(cap->all.ppk_ci_low == doctest::Approx(ppk_confidence_95(cap->all.ppk, 11).first).epsilon(1e-12));
+    CHECK(cap->without_outliers.ppk > cap->all.ppk);
+}
+
+TEST_CASE("qc: MacAdam steps get no capability index; the fraction outside the region is given") {
+    QcSpec spec = spec_4000();
+    spec.max_steps = 2;
+    std::vector<LampResult> lamps;
+    for (double t : {3900.0, 3950.0, 4000.0, 4050.0, 4300.0}) {
+        Spectrum s = planckian(t);
+        lamps.push_back(judge_lamp(spec, assess(s)));
+    }
+    std::size_t outside = 0;
+    for (const auto& l : lamps) outside += l.steps > 2 ? 1 : 0;
+    REQUIRE(outside >= 1);
+    REQUIRE(outside < 5);
+    const LotStatistics st = lot_statistics(spec, lamps);
+    for (const auto& c : st.capabilities) CHECK(c.quantity != "steps");
+    CHECK(st.fraction_outside_region == doctest::Approx(static_cast<double>(outside) / 5).epsilon(1e-12));
+}
+
+TEST_CASE("spectrum file: two columns of one name are rejected, naming line, name and both columns") {
+    try {
+        parse_spectrum_bytes("wl,lampX,lampX\n500,1,2\n510,1,2\n", "lot/two.csv");
+        FAIL("duplicate column names accepted");
+    } catch (const InputError& e) {
+        CHECK(e.source() == "lot/two.csv");
+        CHECK(e.line() == 1);
+        CHECK(e.problem() == "spectrum name 'lampX' is used by columns 2 and 3; give each column its own name");
+    }
 }
 
 TEST_CASE("qc: lot statistics, centroid and robust outliers") {

@@ -237,7 +237,8 @@ TEST_CASE("qc report: synthetic lot with awkward names, a far lamp and a bad fil
     CHECK(text.find("CCT 3000 K < 3800 K") != std::string::npos);
     CHECK(text.find("broken & <odd>.csv: line 3") != std::string::npos);
     CHECK(text.find("pass rate 66.7 %") != std::string::npos);
-    CHECK(text.find("Cpk") != std::string::npos);
+    CHECK(text.find("Ppk") != std::string::npos);
+    CHECK(text.find("Cpk") == std::string::npos);
 
     const auto cols = qc_lamp_columns();
     CHECK(cols.size() == qc_lamp_values(run.lamps[0]).size());

@@ -28,8 +28,9 @@ int run_qc_command(int argc, char** argv) {
 Judges every measured spectrum (CSV/text tables as in 'assess', multi-column files as many lamps,
 IES TM-27 XML) against the specification: chromaticity region (MacAdam ellipse, ANSI C78.377
 quadrangle or u'v' circle), Ra, R9, CCT and Duv limits. Prints each lamp's figures and verdict and
-the lot statistics (means, standard deviations, centroid and its offset in MacAdam steps, Cpk,
-robust outliers). Files are read in parallel.
+the lot statistics (means, standard deviations, centroid and its offset in MacAdam steps, the
+fraction outside the region, Ppk with its 95 % interval, with and without robust outliers; no
+outliers are flagged in lots of fewer than 8 lamps). Files are read in parallel.
 
 Exit status: 0 all lamps passed; 2 usage error; otherwise the sum of 1 some files were bad (every
 other lamp was judged), 4 some lamps failed, 8 the report or the database could not be written.
@@ -43,7 +44,7 @@ other lamp was judged), 4 some lamps failed, 8 the report or the database could 
         ("report", po::value(&report), "write a self-contained HTML report to this file")
         ("record", po::bool_switch(&record), "record the lot in the history database")
         ("db", po::value(&db), "history database (default lampwright.db in this folder); implies --record")
-        ("lot", po::value(&lot_id), "lot id for the history (default: lot- and the UTC date and time)")
+        ("lot", po::value(&lot_id), "lot id for the history, with --record (default: lot-, the UTC time to the millisecond and a random suffix)")
         ("recipe", po::value(&recipe), "the recipe this lot was made with: print a corrected recipe (in the JSON too)")
         ("recipe-out", po::value(&recipe_out), "with --recipe: write the corrected recipe (TOML, loadable by blend and fit)")
         ("threads", po::value(&threads), "worker threads, a whole number >= 1; at most one per core is used (default: all cores)");
@@ -53,6 +54,8 @@ other lamp was judged), 4 some lamps failed, 8 the report or the database could 
     if (vm.count("threads") && threads < 1) throw UsageError{fmt::format("qc: --threads must be a whole number >= 1, not {}", threads)};
     if (args.size() < 2) throw UsageError{"qc: give a spec file and at least one spectrum file or folder (see lampwright qc --help)"};
     if (!recipe_out.empty() && recipe.empty()) throw UsageError{"qc: --recipe-out needs --recipe (the recipe the lot was made with)"};
+    // A lot id that is not recorded would be dropped without a word: refuse it instead.
+    if (vm.count("lot") && !record && db.empty()) throw UsageError{"qc: --lot names the lot in the history database; add --record (or --db PATH) to record it"};
 
     const std::string db_path = db.empty() ? kDefaultHistoryDb : db;
     const bool recording = record || !db.empty();
@@ -114,7 +117,9 @@ other lamp was judged), 4 some lamps failed, 8 the report or the database could 
         const std::string& path = db_path;
         try {
             const RecordOutcome o = record_lot(path, run, lot_id, recipe);
-            if (o.recorded)
+            if (!o.already_recorded_as.empty())
+                std::cerr << fmt::format("lampwright qc: every lamp is already recorded as lot {} in {}; nothing recorded\n", o.already_recorded_as, path);
+            else if (o.recorded)
                 std::cerr << fmt::format("lampwright qc: lot {} recorded in {} ({} lamps new, {} already there)\n", o.lot_id, path, o.lamps_added,
                                          o.lamps_skipped);
             else

@@ -193,6 +193,11 @@ SpectrumFile parse_spectrum_text(std::istream& in, const std::string& source, co
             ncols = fields.size();
             for (std::size_t i = 1; i < fields.size(); ++i) {
                 if (fields[i].empty()) throw InputError(source, line_no, fmt::format("header column {} has no name", i + 1));
+                // Each column is one lamp, known by its name (qc stores lamps by name): two columns
+                // of one name would be two lamps judged but one stored.
+                if (const auto dup = std::find(names.begin(), names.end(), fields[i]); dup != names.end())
+                    throw InputError(source, line_no, fmt::format("spectrum name '{}' is used by columns {} and {}; give each column its own name", fields[i],
+                                                                  dup - names.begin() + 2, i + 1));
                 names.push_back(fields[i]);
             }
             continue;

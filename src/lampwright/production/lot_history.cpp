@@ -14,6 +14,7 @@
 #include <cmath>
 #include <ctime>
 #include <filesystem>
+#include <random>
 
 namespace lampwright {
 
@@ -51,7 +52,7 @@ CREATE TABLE IF NOT EXISTS lots (
     mean_cct_K REAL, sd_cct_K REAL, mean_duv REAL, sd_duv REAL,
     mean_ra REAL, sd_ra REAL, mean_r9 REAL, sd_r9 REAL,
     mean_steps REAL, sd_steps REAL,
-    capabilities   TEXT                      -- JSON: [{quantity, mean, sd, lower, upper, cpk}]
+    capabilities   TEXT                      -- JSON: [{quantity, lower, upper, n, mean, sd, ppk, ppk_ci95, without_outliers}]; before ppk: cpk
 );
 CREATE TABLE IF NOT EXISTS lamps (
     lamp_id      INTEGER PRIMARY KEY,
@@ -220,6 +221,30 @@ std::string utc_now(const char* format) {
     return buf;
 }
 
+// The one existing lot (same spec content, or same spec name when no content is stored) that
+// already holds every lamp of the run; empty when there is none.
+std::string lot_holding_every_lamp(const Database& db, const QcRun& run, const std::optional<std::string>& spec_toml) {
+    if (run.lamps.empty()) return {};
+    Statement q(db, "SELECT lot_id FROM lamps WHERE content_hash IS ?1 AND name = ?2");
+    std::string lot;
+    for (const auto& l : run.lamps) {
+        q.text_or_null(1, l.content_hash).text(2, l.name);
+        if (!q.step("looking up a lamp")) return {};
+        const std::string id = q.col_text(0);
+        q.reset();
+        if (lot.empty())
+            lot = id;
+        else if (id != lot)
+            return {};
+    }
+    Statement s(db, "SELECT spec_name, spec_toml FROM lots WHERE lot_id = ?1");
+    s.text(1, lot);
+    if (!s.step("looking up the lot")) return {};
+    const std::string stored_toml = s.col_text(1);
+    const bool same_spec = (spec_toml && !stored_toml.empty()) ? stored_toml == *spec_toml : s.col_text(0) == run.spec.name;
+    return same_spec ? lot : std::string();
+}
+
 const LotStatistics::Summary* summary(const LotStatistics& st, const char* quantity) {
     for (const auto& s : st.summaries)
         if (s.quantity == quantity) return &s;
@@ -231,9 +256,23 @@ double stat_sd(const LotStatistics& st, const char* q) { const auto* s = summary
 
 }  // namespace
 
+std::string default_lot_id() {
+    const auto now = std::chrono::system_clock::now();
+    const std::time_t t = std::chrono::system_clock::to_time_t(now);
+    const auto ms = std::chrono::duration_cast<std::chrono::milliseconds>(now.time_since_epoch()).count() % 1000;
+    std::tm tm{};
+    gmtime_r(&t, &tm);
+    char buf[32];
+    std::strftime(buf, sizeof buf, "%Y%m%dT%H%M%S", &tm);
+    // The random suffix separates two processes recording in the same millisecond.
+    static thread_local std::mt19937 rng{std::random_device{}()};
+    const unsigned suffix = std::uniform_int_distribution<unsigned>(0, 0xffff)(rng);
+    return fmt::format("lot-{}.{:03}Z-{:04x}", buf, ms, suffix);
+}
+
 RecordOutcome record_lot(const std::string& db_path, const QcRun& run, const std::string& lot_id, const std::string& recipe_path) {
     RecordOutcome out;
-    out.lot_id = lot_id.empty() ? "lot-" + utc_now("%Y%m%dT%H%M%SZ") : lot_id;
+    out.lot_id = lot_id.empty() ? default_lot_id() : lot_id;
     // The files' contents are read before the transaction starts, so a bad path leaves nothing.
     std::optional<std::string> spec_toml, recipe_toml;
     if (!run.spec.path.empty()) {
@@ -250,12 +289,18 @@ RecordOutcome record_lot(const std::string& db_path, const QcRun& run, const std
         exists.text(1, out.lot_id);
         if (exists.step("looking up the lot id")) return out;  // recorded already: nothing to do (rolled back, nothing written)
     }
+    // Checked inside the same IMMEDIATE transaction, so two concurrent re-runs cannot both pass it.
+    out.already_recorded_as = lot_holding_every_lamp(db, run, spec_toml);
+    if (!out.already_recorded_as.empty()) return out;
     const auto& st = run.stats;
     nlohmann::ordered_json caps = nlohmann::ordered_json::array();
     for (const auto& c : st.capabilities)
-        caps.push_back({{"quantity", c.quantity}, {"mean", number_or_null(c.mean)}, {"sd", number_or_null(c.sd)},
-                        {"lower", c.lower ? number_or_null(*c.lower) : nullptr}, {"upper", c.upper ? number_or_null(*c.upper) : nullptr},
-                        {"cpk", number_or_null(c.cpk)}});
+        caps.push_back({{"quantity", c.quantity}, {"lower", c.lower ? number_or_null(*c.lower) : nullptr},
+                        {"upper", c.upper ? number_or_null(*c.upper) : nullptr}, {"n", c.all.n}, {"mean", number_or_null(c.all.mean)},
+                        {"sd", number_or_null(c.all.sd)}, {"ppk", number_or_null(c.all.ppk)},
+                        {"ppk_ci95", {number_or_null(c.all.ppk_ci_low), number_or_null(c.all.ppk_ci_high)}},
+                        {"without_outliers", {{"n", c.without_outliers.n}, {"ppk", number_or_null(c.without_outliers.ppk)},
+                                              {"ppk_ci95", {number_or_null(c.without_outliers.ppk_ci_low), number_or_null(c.without_outliers.ppk_ci_high)}}}}});
     {
         Statement ins(db, R"sql(INSERT INTO lots (lot_id, recorded_at, spec_name, spec_path, spec_target, spec_toml, recipe_path, recipe_toml,
             lamps, passed, bad_files, outliers, pass_rate, centroid_x, centroid_y, centroid_steps,
@@ -360,6 +405,43 @@ std::vector<LotRecord> list_lots(const std::string& db_path) {
     return lots;
 }
 
+SpecSelection select_spec(const std::vector<LotRecord>& lots, const std::string& wanted) {
+    SpecSelection sel;
+    sel.total_lots = lots.size();
+    if (lots.empty()) {
+        if (!wanted.empty()) throw Error(fmt::format("no lot recorded with spec '{}' (the database holds no lots)", wanted));
+        return sel;
+    }
+    auto same_path = [](const std::string& a, const std::string& b) {
+        if (a.empty() || b.empty()) return false;
+        std::error_code e1, e2;
+        const auto ca = std::filesystem::weakly_canonical(a, e1), cb = std::filesystem::weakly_canonical(b, e2);
+        return a == b || (!e1 && !e2 && ca == cb);
+    };
+    if (wanted.empty()) {
+        sel.spec = lots.back().spec_name;
+    } else {
+        bool found = false;
+        for (const auto& l : lots)
+            if (!found && l.spec_name == wanted) sel.spec = wanted, found = true;
+        for (auto it = lots.rbegin(); it != lots.rend() && !found; ++it)
+            if (same_path(it->spec_path, wanted)) sel.spec = it->spec_name, found = true;
+        if (!found) {
+            std::string names;
+            for (const auto& l : lots)
+                if (names.find("'" + l.spec_name + "'") == std::string::npos) names += (names.empty() ? "'" : ", '") + l.spec_name + "'";
+            throw Error(fmt::format("no lot recorded with spec '{}' (a spec name or the spec file's path); specs recorded: {}", wanted, names));
+        }
+    }
+    for (const auto& l : lots) {
+        if (l.spec_name == sel.spec)
+            sel.lots.push_back(l);
+        else if (std::find(sel.other_specs.begin(), sel.other_specs.end(), l.spec_name) == sel.other_specs.end())
+            sel.other_specs.push_back(l.spec_name);
+    }
+    return sel;
+}
+
 // ---- control charts ----
 
 std::vector<ControlChart> control_charts(const std::vector<LotRecord>& lots) {
@@ -383,16 +465,20 @@ std::vector<ControlChart> control_charts(const std::vector<LotRecord>& lots) {
             c.values.push_back(q.get(l));
             if (std::isfinite(c.values.back())) finite.push_back(c.values.back());
         }
-        // Shewhart chart on the lot values: centre = mean, limits = mean +- 3 s with the sample
-        // standard deviation (n - 1) over lots (Montgomery, Introduction to Statistical Quality
-        // Control). A lower limit below zero is set to zero for a non-negative quantity, as for
-        // the R and s charts there.
+        // Individuals chart on the lot values (Montgomery, Introduction to Statistical Quality
+        // Control, individuals chart): centre = mean, limits = mean +- 3 sigma with sigma
+        // estimated as MR-bar / d2 (d2 = 1.128 for moving ranges of two), i.e. mean +- 2.66 MR-bar.
+        // The moving range follows short-term variation, so a drifting process widens the limits
+        // less than the overall standard deviation would. A lower limit below zero is set to
+        // zero for a non-negative quantity, as for the R and s charts there.
         c.centre = mean(finite);
-        c.lower = c.upper = NAN;
+        c.lower = c.upper = c.average_moving_range = NAN;
         if (finite.size() >= 2) {
-            const double sd = sample_sd(finite);
-            c.lower = c.centre - 3 * sd;
-            c.upper = c.centre + 3 * sd;
+            double sum = 0;
+            for (std::size_t i = 1; i < finite.size(); ++i) sum += std::abs(finite[i] - finite[i - 1]);
+            c.average_moving_range = sum / static_cast<double>(finite.size() - 1);
+            c.lower = c.centre - 2.66 * c.average_moving_range;
+            c.upper = c.centre + 2.66 * c.average_moving_range;
             if (q.non_negative && c.lower < 0) c.lower = 0;
             // Rounding noise (lots with equal values) is not a signal.
             const double tol = 1e-9 * std::max(1.0, std::abs(c.centre));

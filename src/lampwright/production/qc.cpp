@@ -19,6 +19,7 @@
 #include <sstream>
 #include <system_error>
 #include <thread>
+#include <tuple>
 
 #include <sys/stat.h>
 
@@ -340,10 +341,28 @@ QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigne
 
 double process_capability(double mean, double sd, std::optional<double> lower, std::optional<double> upper) {
     if (!(sd > 0) || (!lower && !upper)) return NAN;
-    double cpk = INFINITY;
-    if (upper) cpk = std::min(cpk, (*upper - mean) / (3 * sd));
-    if (lower) cpk = std::min(cpk, (mean - *lower) / (3 * sd));
-    return cpk;
+    double ppk = INFINITY;
+    if (upper) ppk = std::min(ppk, (*upper - mean) / (3 * sd));
+    if (lower) ppk = std::min(ppk, (mean - *lower) / (3 * sd));
+    return ppk;
+}
+
+std::pair<double, double> ppk_confidence_95(double ppk, std::size_t n) {
+    if (n < 2 || !std::isfinite(ppk)) return {NAN, NAN};
+    const double nn = static_cast<double>(n);
+    const double half = 1.96 * std::sqrt(1.0 / (9.0 * nn) + ppk * ppk / (2.0 * (nn - 1.0)));
+    return {ppk - half, ppk + half};
+}
+
+double outlier_scale_floor(const std::string& quantity) {
+    // About the repeatability of a spectroradiometer measurement of one lamp (common practice,
+    // no source): 0.0005 in x, y and Duv, 10 K in CCT, 0.5 in Ra, 1 in R9, 0.2 MacAdam steps.
+    if (quantity == "x" || quantity == "y" || quantity == "duv") return 0.0005;
+    if (quantity == "cct_K") return 10;
+    if (quantity == "Ra") return 0.5;
+    if (quantity == "R9") return 1;
+    if (quantity == "steps") return 0.2;
+    return 0;
 }
 
 LotStatistics lot_statistics(const QcSpec& spec, std::vector<LampResult>& lamps) {
@@ -351,6 +370,9 @@ LotStatistics lot_statistics(const QcSpec& spec, std::vector<LampResult>& lamps)
     st.count = lamps.size();
     for (const auto& l : lamps) st.passed += l.pass() ? 1 : 0;
     st.pass_rate = st.count ? static_cast<double>(st.passed) / static_cast<double>(st.count) : NAN;
+    std::size_t outside = 0;
+    for (const auto& l : lamps) outside += l.inside_region ? 0 : 1;
+    st.fraction_outside_region = st.count ? static_cast<double>(outside) / static_cast<double>(st.count) : NAN;
 
     struct Quantity {
         const char* name;
@@ -359,6 +381,7 @@ LotStatistics lot_statistics(const QcSpec& spec, std::vector<LampResult>& lamps)
     };
     auto ra = [](const LampResult& l) { return l.assessment.rendering ? l.assessment.rendering->ra : NAN; };
     auto r9 = [](const LampResult& l) { return l.assessment.rendering ? l.assessment.rendering->ri[8] : NAN; };
+    // Steps carry no limits here: no capability index on a distance (see LotStatistics).
     const std::vector<Quantity> quantities{
         {"x", [](const LampResult& l) { return l.assessment.xy.x; }, {}, {}},
         {"y", [](const LampResult& l) { return l.assessment.xy.y; }, {}, {}},
@@ -366,38 +389,58 @@ LotStatistics lot_statistics(const QcSpec& spec, std::vector<LampResult>& lamps)
         {"duv", [](const LampResult& l) { return l.assessment.cct.duv; }, spec.duv_min, spec.duv_max},
         {"Ra", ra, spec.ra_min, {}},
         {"R9", r9, spec.r9_min, {}},
-        {"steps", [](const LampResult& l) { return l.steps; }, {},
-         spec.region == QcSpec::Region::ellipse ? std::optional<double>(spec.max_steps) : std::nullopt},
+        {"steps", [](const LampResult& l) { return l.steps; }, {}, {}},
     };
+    // Pass 1: robust outliers, so that pass 2 can give the statistics with and without them.
     std::vector<std::string> notes(lamps.size());
-    for (const auto& q : quantities) {
-        std::vector<double> v;
-        for (const auto& l : lamps)
-            if (const double x = q.get(l); std::isfinite(x)) v.push_back(x);
-        LotStatistics::Summary s{q.name, mean(v), sample_sd(v), v.empty() ? NAN : *std::min_element(v.begin(), v.end()),
-                                 v.empty() ? NAN : *std::max_element(v.begin(), v.end())};
-        st.summaries.push_back(s);
-        if (q.lower || q.upper) st.capabilities.push_back({q.name, s.mean, s.sd, q.lower, q.upper, process_capability(s.mean, s.sd, q.lower, q.upper)});
-        // Robust z-score (Iglewicz and Hoaglin 1993): 0.6745 (x - median) / MAD, outlier beyond 3.5.
-        if (v.size() >= 5) {
+    for (auto& l : lamps) l.outlier = false;
+    st.outliers_checked = lamps.size() >= kMinLotForOutliers;
+    if (st.outliers_checked)
+        for (const auto& q : quantities) {
+            std::vector<double> v;
+            for (const auto& l : lamps)
+                if (const double x = q.get(l); std::isfinite(x)) v.push_back(x);
+            if (v.size() < kMinLotForOutliers) continue;
             const double med = median(v);
             std::vector<double> dev;
             for (double x : v) dev.push_back(std::abs(x - med));
-            const double mad = median(dev);
-            if (mad > 0)
-                for (std::size_t i = 0; i < lamps.size(); ++i) {
-                    const double x = q.get(lamps[i]);
-                    const double z = 0.6745 * (x - med) / mad;
-                    if (std::isfinite(z) && std::abs(z) > 3.5) {
-                        lamps[i].outlier = true;
-                        notes[i] += fmt::format("{}{} z={:+.1f}", notes[i].empty() ? "" : ", ", q.name, z);
-                    }
+            // 1.4826 MAD estimates the standard deviation of normal data (1.4826 = 1 / 0.6745,
+            // Iglewicz and Hoaglin 1993); the floor keeps measurement noise from looking like spread.
+            const double scale = std::max(1.4826 * median(dev), outlier_scale_floor(q.name));
+            if (!(scale > 0)) continue;
+            for (std::size_t i = 0; i < lamps.size(); ++i) {
+                const double z = (q.get(lamps[i]) - med) / scale;
+                if (std::isfinite(z) && std::abs(z) > 3.5) {
+                    lamps[i].outlier = true;
+                    notes[i] += fmt::format("{}{} z={:+.1f}", notes[i].empty() ? "" : ", ", q.name, z);
                 }
+            }
         }
-    }
     for (std::size_t i = 0; i < lamps.size(); ++i) {
         lamps[i].outlier_note = notes[i];
         st.outliers += lamps[i].outlier ? 1 : 0;
+    }
+    // Pass 2: summaries over every lamp, capability with and without the flagged lamps.
+    auto estimate = [](const std::vector<double>& v, std::optional<double> lower, std::optional<double> upper) {
+        CapabilityEstimate e;
+        e.n = v.size();
+        e.mean = mean(v);
+        e.sd = sample_sd(v);
+        e.ppk = process_capability(e.mean, e.sd, lower, upper);
+        std::tie(e.ppk_ci_low, e.ppk_ci_high) = ppk_confidence_95(e.ppk, e.n);
+        return e;
+    };
+    for (const auto& q : quantities) {
+        std::vector<double> v, kept;
+        for (const auto& l : lamps)
+            if (const double x = q.get(l); std::isfinite(x)) {
+                v.push_back(x);
+                if (!l.outlier) kept.push_back(x);
+            }
+        LotStatistics::Summary s{q.name, mean(v), sample_sd(v), v.empty() ? NAN : *std::min_element(v.begin(), v.end()),
+                                 v.empty() ? NAN : *std::max_element(v.begin(), v.end())};
+        st.summaries.push_back(s);
+        if (q.lower || q.upper) st.capabilities.push_back({q.name, q.lower, q.upper, estimate(v, q.lower, q.upper), estimate(kept, q.lower, q.upper)});
     }
     // Centroid of the lot in CIE 1931 x, y (the mean chromaticity).
     st.centroid = {st.summaries[0].mean, st.summaries[1].mean};

@@ -1,13 +1,14 @@
 #pragma once
 // Quality control of lamp lots from measured spectra: a specification (target and limits), each
 // lamp judged against it, and lot statistics (means, standard deviations, the chromaticity
-// centroid, process capability Cpk, robust outliers).
+// centroid, process performance Ppk with its confidence interval, robust outliers).
 #include "lampwright/colour/assessment.hpp"
 #include "lampwright/design/targets.hpp"
 
 #include <functional>
 #include <optional>
 #include <string>
+#include <utility>
 #include <vector>
 
 namespace lampwright {
@@ -51,11 +52,20 @@ struct BadFile {
     std::string file, reason;
 };
 
+// Process performance of one quantity against its spec limit(s). Ppk, not Cpk: the standard
+// deviation is the overall one of the lot, not a within-subgroup estimate (Montgomery,
+// Introduction to Statistical Quality Control, process capability chapter).
+struct CapabilityEstimate {
+    std::size_t n = 0;
+    double mean = 0, sd = 0;
+    double ppk = 0;                       // NaN when sd is 0 or fewer than 2 lamps
+    double ppk_ci_low = 0, ppk_ci_high = 0;  // approximate 95 % interval (Bissell 1990); NaN as ppk
+};
 struct Capability {
     std::string quantity;
-    double mean = 0, sd = 0;
     std::optional<double> lower, upper;
-    double cpk = 0;  // NaN when sd is 0 or fewer than 2 lamps
+    CapabilityEstimate all;               // every lamp with a value
+    CapabilityEstimate without_outliers;  // the lamps not flagged as outliers (== all when none is)
 };
 
 struct LotStatistics {
@@ -68,8 +78,13 @@ struct LotStatistics {
     std::vector<Summary> summaries;  // x, y, cct_K, duv, Ra, R9, steps
     Chromaticity centroid;
     double centroid_steps = 0;
+    // x, y, CCT, Duv, Ra, R9 where the spec limits them. Not MacAdam steps: a distance from the
+    // centre is not normally distributed, so a normal-theory index on it means little; the
+    // fraction outside the region says what the index would have tried to.
     std::vector<Capability> capabilities;
+    double fraction_outside_region = 0;  // lamps outside the chromaticity region / lamps; NaN for none
     std::size_t outliers = 0;
+    bool outliers_checked = false;       // false: the lot is below kMinLotForOutliers
 };
 
 struct QcRun {
@@ -97,13 +112,25 @@ unsigned qc_worker_count(unsigned requested, std::size_t files);
 // qc_worker_count).
 QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigned threads = 0, const ProgressCallback& progress = {});
 
-// Lot statistics of judged lamps; also marks robust outliers (|0.6745 (v - median) / MAD| > 3.5,
-// Iglewicz and Hoaglin 1993) on the lamps.
+// Robust outliers: no flags in a lot of fewer lamps, where median and MAD are too unsteady to
+// call anything an outlier (common practice, no source).
+inline constexpr std::size_t kMinLotForOutliers = 8;
+// Lower bound on the robust scale of each quantity, about the resolution of a lamp measurement
+// (common practice, no source): lamps that agree to within the instrument's repeatability give
+// a MAD near zero, and any small difference would otherwise have a huge z.
+double outlier_scale_floor(const std::string& quantity);
+
+// Lot statistics of judged lamps; also marks robust outliers on the lamps: z = (v - median) /
+// max(1.4826 MAD, floor) beyond 3.5 (the modified z-score of Iglewicz and Hoaglin 1993, with
+// 1.4826 MAD the normal-consistent scale), only in lots of kMinLotForOutliers lamps or more.
 LotStatistics lot_statistics(const QcSpec& spec, std::vector<LampResult>& lamps);
 
-// Process capability: Cpk = min(USL - mean, mean - LSL) / (3 sd), one-sided when one limit is
-// given (Montgomery, Introduction to Statistical Quality Control, ch. 8).
+// Process performance: Ppk = min(USL - mean, mean - LSL) / (3 sd) with the overall sample sd,
+// one-sided when one limit is given (Montgomery, Introduction to Statistical Quality Control).
 double process_capability(double mean, double sd, std::optional<double> lower, std::optional<double> upper);
+// Approximate 95 % confidence interval of Ppk from n values (Bissell 1990):
+// Ppk -+ 1.96 sqrt(1 / (9 n) + Ppk^2 / (2 (n - 1))). NaN for n < 2 or a NaN Ppk.
+std::pair<double, double> ppk_confidence_95(double ppk, std::size_t n);
 
 // FNV-1a 64-bit hash of bytes, as 16 hex digits (content identity of spectrum files).
 std::string content_hash(const std::string& bytes);

@@ -38,8 +38,9 @@ std::string control_charts_text(const std::vector<ControlChart>& charts) {
         if (!std::isfinite(c.upper)) {
             o += fmt::format("  centre {}; limits need at least two lots with a value\n", format_fixed_dash(c.centre, d));
         } else {
-            o += fmt::format("  centre {}, lower limit {}, upper limit {} (mean +- 3 sd over {} lots); {} out of control\n", format_fixed(c.centre, d),
-                             format_fixed(c.lower, d), format_fixed(c.upper, d), c.values.size(), c.out_of_control.size());
+            o += fmt::format("  centre {}, lower limit {}, upper limit {} (mean +- 2.66 x average moving range {} over {} lots); {} out of control\n",
+                             format_fixed(c.centre, d), format_fixed(c.lower, d), format_fixed(c.upper, d), format_fixed(c.average_moving_range, d + 1),
+                             c.values.size(), c.out_of_control.size());
         }
         // Each lot as a mark on a strip spanning the limits and the values: '|' limits, ':' centre, '*' the lot.
         constexpr int kWidth = 41;
@@ -72,14 +73,25 @@ std::string control_charts_text(const std::vector<ControlChart>& charts) {
     return o;
 }
 
-std::string control_charts_svg(const std::vector<ControlChart>& charts) {
+std::string spec_selection_text(const SpecSelection& s) {
+    if (s.other_specs.empty()) return {};
+    std::string others;
+    for (const auto& o : s.other_specs) others += (others.empty() ? "'" : ", '") + o + "'";
+    return fmt::format("showing spec '{}' ({} of {} lots); other specs: {}", s.spec, s.lots.size(), s.total_lots, others);
+}
+
+nlohmann::ordered_json spec_selection_json(const SpecSelection& s) {
+    return {{"spec", s.spec}, {"lots", s.lots.size()}, {"total_lots", s.total_lots}, {"other_specs", s.other_specs}};
+}
+
+std::string control_charts_svg(const std::vector<ControlChart>& charts, const std::string& note) {
     constexpr int kW = 640, kH = 300;
     std::string body;
     int y0 = 0;
     for (const auto& c : charts) {
         const std::size_t n = c.values.size();
         SvgAxes axes;
-        axes.title = "Control chart: " + c.quantity + " (centre, mean +- 3 sd)";
+        axes.title = "Control chart: " + c.quantity + " (centre, mean +- 2.66 MR-bar)" + (note.empty() ? "" : " - " + note);
         axes.x_label = "lot (recording order)";
         axes.y_label = c.quantity;
         axes.width = kW;
@@ -137,7 +149,8 @@ nlohmann::ordered_json control_charts_json(const std::vector<ControlChart>& char
         for (double v : c.values) vals.push_back(number_or_null(v));
         for (std::size_t i : c.out_of_control) out.push_back(c.lot_ids[i]);
         a.push_back({{"quantity", c.quantity}, {"centre", number_or_null(c.centre)}, {"lower", number_or_null(c.lower)},
-                     {"upper", number_or_null(c.upper)}, {"lot_ids", c.lot_ids}, {"values", vals}, {"out_of_control", out}});
+                     {"upper", number_or_null(c.upper)},
+                    {"average_moving_range", number_or_null(c.average_moving_range)}, {"lot_ids", c.lot_ids}, {"values", vals}, {"out_of_control", out}});
     }
     return a;
 }

@@ -93,6 +93,13 @@ nlohmann::ordered_json opt_json(const std::optional<double>& v) {
 }
 nlohmann::ordered_json num_json(double v) { return std::isfinite(v) ? nlohmann::ordered_json(v) : nlohmann::ordered_json(nullptr); }
 
+std::string format_percent(double fraction) { return std::isfinite(fraction) ? fmt::format("{:.1f} %", 100 * fraction) : "n/a"; }
+
+std::string interval_text(const CapabilityEstimate& e) {
+    if (!std::isfinite(e.ppk_ci_low)) return "n/a";
+    return fmt::format("{:.2f} .. {:.2f}", e.ppk_ci_low, e.ppk_ci_high);
+}
+
 const Capability* capability_of(const LotStatistics& st, const std::string& q) {
     for (const auto& c : st.capabilities)
         if (c.quantity == q) return &c;
@@ -396,7 +403,7 @@ std::string qc_text(const QcRun& run) {
         }
     }
     if (st.outliers) {
-        o += "\n  outliers (robust z-score beyond 3.5, Iglewicz and Hoaglin 1993)\n";
+        o += "\n  outliers (robust z = (v - median) / max(1.4826 MAD, resolution floor) beyond 3.5, Iglewicz and Hoaglin 1993)\n";
         for (const auto& l : run.lamps)
             if (l.outlier) o += fmt::format("    {}  {}  ({})\n", l.name, l.outlier_note, l.file);
     }
@@ -412,16 +419,24 @@ std::string qc_text(const QcRun& run) {
         const UV cu = uv_1976_from_xy(st.centroid);
         o += fmt::format("  centroid     x {:.4f}  y {:.4f}   u' {:.4f}  v' {:.4f}   {:.2f} MacAdam steps from the target centre\n", st.centroid.x,
                          st.centroid.y, cu.u, cu.v, st.centroid_steps);
+        o += fmt::format("  outside the chromaticity region: {}\n", format_percent(st.fraction_outside_region));
         if (!st.capabilities.empty()) {
-            o += "\n  process capability Cpk = min(USL - mean, mean - LSL) / (3 sd)\n";
-            o += fmt::format("    {:<14} {:>9} {:>9} {:>11} {:>11} {:>7}\n", "quantity", "lower", "upper", "mean", "sd", "Cpk");
+            o += "\n  process performance Ppk = min(USL - mean, mean - LSL) / (3 sd), overall sd; 95 % interval (Bissell 1990)\n";
+            o += fmt::format("    {:<14} {:>9} {:>9} {:>4} {:>11} {:>11} {:>7} {:>15}   {}\n", "quantity", "lower", "upper", "n", "mean", "sd", "Ppk",
+                             "95 % interval", st.outliers ? "without outliers: n, Ppk, 95 % interval" : "");
             for (const auto& c : st.capabilities) {
                 const auto f = quantity_format(c.quantity);
-                o += fmt::format("    {:<14} {:>9} {:>9} {:>11} {:>11} {:>7}\n", f.label, c.lower ? fmt::format("{:g}", *c.lower) : "-",
-                                 c.upper ? fmt::format("{:g}", *c.upper) : "-", format_fixed(c.mean, f.decimals, "-"), format_fixed(c.sd, f.decimals + 1, "-"),
-                                 format_fixed(c.cpk, 2, "n/a"));
+                const auto& a = c.all;
+                const auto& w = c.without_outliers;
+                o += fmt::format("    {:<14} {:>9} {:>9} {:>4} {:>11} {:>11} {:>7} {:>15}", f.label, c.lower ? fmt::format("{:g}", *c.lower) : "-",
+                                 c.upper ? fmt::format("{:g}", *c.upper) : "-", a.n, format_fixed(a.mean, f.decimals, "-"),
+                                 format_fixed(a.sd, f.decimals + 1, "-"), format_fixed(a.ppk, 2, "n/a"), interval_text(a));
+                if (st.outliers) o += fmt::format("   {}, {}, {}", w.n, format_fixed(w.ppk, 2, "n/a"), interval_text(w));
+                o += "\n";
             }
         }
+        if (!st.outliers_checked)
+            o += fmt::format("  outliers not looked for: fewer than {} lamps\n", kMinLotForOutliers);
     }
     if (!run.bad_files.empty()) {
         o += fmt::format("\n  bad files ({}): not judged\n", run.bad_files.size());
@@ -477,10 +492,20 @@ nlohmann::ordered_json qc_json(const QcRun& run) {
     const UV cu = uv_1976_from_xy(st.centroid);
     stats["centroid"] = {{"x", num_json(st.centroid.x)}, {"y", num_json(st.centroid.y)}, {"u_prime", num_json(cu.u)}, {"v_prime", num_json(cu.v)},
                          {"steps", num_json(st.centroid_steps)}};
+    auto estimate_json = [](const CapabilityEstimate& e) {
+        return J{{"n", e.n}, {"mean", num_json(e.mean)}, {"sd", num_json(e.sd)}, {"ppk", num_json(e.ppk)},
+                 {"ppk_ci95", {num_json(e.ppk_ci_low), num_json(e.ppk_ci_high)}}};
+    };
     J caps = J::array();
-    for (const auto& c : st.capabilities)
-        caps.push_back({{"quantity", c.quantity}, {"lower", opt_json(c.lower)}, {"upper", opt_json(c.upper)}, {"mean", num_json(c.mean)},
-                        {"sd", num_json(c.sd)}, {"cpk", num_json(c.cpk)}});
+    for (const auto& c : st.capabilities) {
+        J e = estimate_json(c.all);
+        J cj{{"quantity", c.quantity}, {"lower", opt_json(c.lower)}, {"upper", opt_json(c.upper)}};
+        for (auto it = e.begin(); it != e.end(); ++it) cj[it.key()] = it.value();
+        cj["without_outliers"] = estimate_json(c.without_outliers);
+        caps.push_back(std::move(cj));
+    }
+    stats["fraction_outside_region"] = num_json(st.fraction_outside_region);
+    stats["outliers_checked"] = st.outliers_checked;
     stats["capability"] = std::move(caps);
     j["statistics"] = std::move(stats);
     J bad = J::array();
@@ -544,23 +569,27 @@ std::string qc_html_report(const QcRun& run, const std::string& extra_html) {
     o += "</tbody>\n</table>\n";
 
     o += "<h2>Lot statistics</h2>\n<table id=\"lot-statistics\">\n<thead><tr><th class=\"text\">quantity</th><th>mean</th><th>sd</th><th>min</th>"
-         "<th>max</th><th>lower limit</th><th>upper limit</th><th>Cpk</th></tr></thead>\n<tbody>\n";
+         "<th>max</th><th>lower limit</th><th>upper limit</th><th>Ppk</th><th>Ppk 95 % interval</th><th>Ppk without outliers</th></tr></thead>\n<tbody>\n";
     for (const auto& q : st.summaries) {
         const auto f = quantity_format(q.quantity);
         const Capability* c = capability_of(st, q.quantity);
-        o += fmt::format("<tr data-quantity=\"{}\"><th class=\"text\">{}</th><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td></tr>\n",
+        o += fmt::format("<tr data-quantity=\"{}\"><th class=\"text\">{}</th><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td></tr>\n",
                          e(q.quantity), e(f.label), format_fixed(q.mean, f.decimals, "-"), format_fixed(q.sd, f.decimals + 1, "-"), format_fixed(q.min, f.decimals, "-"),
                          format_fixed(q.max, f.decimals, "-"), c ? limit_text(c->lower, f.decimals) : "", c ? limit_text(c->upper, f.decimals) : "",
-                         c ? format_fixed(c->cpk, 2, "n/a") : "");
+                         c ? format_fixed(c->all.ppk, 2, "n/a") : "", c ? interval_text(c->all) : "",
+                         c ? fmt::format("{} (n {})", format_fixed(c->without_outliers.ppk, 2, "n/a"), c->without_outliers.n) : "");
     }
     o += "</tbody>\n</table>\n";
     const UV cu = uv_1976_from_xy(st.centroid);
     o += fmt::format("<p id=\"centroid-text\">Lot centroid: x {}, y {} (u' {}, v' {}), {} MacAdam steps from the target centre. "
-                     "Cpk = min(USL − mean, mean − LSL) / (3 sd), one-sided where the spec gives one limit (Montgomery, Introduction to "
-                     "Statistical Quality Control, ch. 8).</p>\n",
-                     format_fixed(st.centroid.x, 4, "-"), format_fixed(st.centroid.y, 4, "-"), format_fixed(cu.u, 4, "-"), format_fixed(cu.v, 4, "-"), format_fixed(st.centroid_steps, 2, "-"));
+                     "{} of the lamps lie outside the chromaticity region. "
+                     "Ppk = min(USL − mean, mean − LSL) / (3 sd) with the overall sd, one-sided where the spec gives one limit (Montgomery, "
+                     "Introduction to Statistical Quality Control); approximate 95 % interval Ppk ± 1.96 √(1/(9n) + Ppk²/(2(n − 1))) (Bissell 1990). "
+                     "No index on MacAdam steps: a distance is not normally distributed.</p>\n",
+                     format_fixed(st.centroid.x, 4, "-"), format_fixed(st.centroid.y, 4, "-"), format_fixed(cu.u, 4, "-"), format_fixed(cu.v, 4, "-"), format_fixed(st.centroid_steps, 2, "-"),
+                     format_percent(st.fraction_outside_region));
     if (st.outliers) {
-        o += "<p id=\"outliers\">Outliers (robust z-score |0.6745 (v − median) / MAD| &gt; 3.5, Iglewicz and Hoaglin 1993): ";
+        o += "<p id=\"outliers\">Outliers (robust z = (v − median) / max(1.4826 MAD, resolution floor), |z| &gt; 3.5, Iglewicz and Hoaglin 1993): ";
         std::vector<std::string> names;
         for (const auto& l : run.lamps)
             if (l.outlier) names.push_back(e(l.name + " (" + l.outlier_note + ")"));
