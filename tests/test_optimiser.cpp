@@ -327,3 +327,45 @@ TEST_CASE("optimiser: fraction sensitivity") {
     const double du = evaluate_blend(hi).assessment.uv_prime.u - evaluate_blend(lo).assessment.uv_prime.u;
     CHECK(rows[0].d_u_prime == doctest::Approx(du).epsilon(1e-6));
 }
+
+// Issue 10, fit bugs.
+
+TEST_CASE("fit: a three-component fit with an active max_fraction is feasible on the exact path as on the NLopt path") {
+    FitProblem p = fit_problem("triband_4000K.toml", target_cct(4000), FitObjective::ra);
+    REQUIRE(p.blend.components.size() == 3);
+    p.blend.components[2].max_fraction = 0.186;  // BaMgAl10O17:Eu2+; the on-target blend needs 0.1864
+    FitOptions nl;
+    nl.method = FitMethod::nlopt;
+    const FitResult ref = solve(p, nl);
+    REQUIRE(ref.feasible);
+    for (FitMethod m : {FitMethod::automatic, FitMethod::exact}) {
+        FitOptions o;
+        o.method = m;
+        const FitResult r = solve(p, o);
+        check_answer(p, r);
+        CHECK(r.mass_fractions[2] == doctest::Approx(0.186).epsilon(1e-6));
+        CHECK(r.distance_uv_prime <= p.tolerance_uv_prime);
+        CHECK(ra_of(r.result) >= ra_of(ref.result) - 0.05);
+    }
+}
+
+TEST_CASE("fit: the default objective lands on the target centre, not on the edge of the tolerance") {
+    const FitResult r = solve(fit_problem("triband_4000K.toml", target_cct(6500), FitObjective::closest_to_start));
+    check_answer(fit_problem("triband_4000K.toml", target_cct(6500), FitObjective::closest_to_start), r);
+    CHECK(r.distance_uv_prime < 1e-5);
+    REQUIRE(r.result.assessment.cct.valid);
+    CHECK(std::abs(r.result.assessment.cct.cct_K - 6500) < 5);
+
+    const FitProblem q = fit_problem("triband_4000K.toml", target_ansi_c78376("F4100", 4), FitObjective::closest_to_start);
+    const FitResult s = solve(q);
+    check_answer(q, s);
+    REQUIRE(s.macadam_steps);
+    CHECK(*s.macadam_steps < 0.1);
+}
+
+TEST_CASE("fit: the default objective on four components stays on the target centre") {
+    const FitProblem p = fit_problem("multiband_5000K.toml", target_cct(5000), FitObjective::closest_to_start);
+    const FitResult r = solve(p);
+    check_answer(p, r);
+    CHECK(r.distance_uv_prime < 1e-5);
+}

@@ -79,6 +79,18 @@ double objective_of(const FitProblem& p, const Assessment& a, double efficacy, c
 // Chromaticity constraint value: (distance / tolerance)^2, <= 1 inside.
 double chromaticity_ratio2(const FitProblem& p, const Assessment& a) { return target_distance_ratio2(p.target, p.tolerance_uv_prime, a); }
 
+// The default objective ("smallest change") aims at the target centre: the distance from the
+// centre comes first (this weight makes 1 % of the tolerance cost as much as a 0.01 change of
+// the fractions, so the search does not stop at the edge of the tolerance), the change second.
+// With a maximised objective the tolerance is only a constraint.
+constexpr double kCentreWeight = 100.0;
+double search_objective(const FitProblem& p, const Assessment& a, double efficacy, const std::vector<double>& w,
+                        const std::vector<double>& w0) {
+    const double f = objective_of(p, a, efficacy, w, w0);
+    if (p.objective != FitObjective::closest_to_start) return f;
+    return f - kCentreWeight * chromaticity_ratio2(p, a);
+}
+
 struct Limits {
     std::vector<double> lo, hi;
 };
@@ -262,7 +274,7 @@ double nlopt_objective(unsigned n, const double* z, double*, void* data) {
     const auto& e = c.eval(z, n);
     if (!(e.a.xyz.Y > 0)) return kPenalty;
     if (c.phase == 1) return chromaticity_ratio2(*c.p, e.a);
-    return -objective_of(*c.p, e.a, e.efficacy, c.w, c.w0);
+    return -search_objective(*c.p, e.a, e.efficacy, c.w, c.w0);
 }
 
 struct IndexConstraint {
@@ -573,34 +585,32 @@ FitResult solve(const FitProblem& p, const FitOptions& opt) {
     FitResult r;
 
     std::vector<std::vector<double>> starts;
+    std::optional<ExactSolution> exact_failed;  // the exact solve's answer when it has no blend within the limits
     if (n == 3 && opt.method != FitMethod::nlopt) {
         const ExactSolution ex = exact_three(p, fb, lim);
-        if (!ex.w) {
-            r.method = "exact 3x3";
-            r.nearest_reachable = ex.nearest;
-            // The nearest blend, for the report: the shares at the nearest chromaticity.
-            std::vector<double> w = normalised_start(p);
-            if (ex.nearest)
-                if (const auto s = shares_for(fb, *ex.nearest)) w = mass_from_shares(fb, *s);
-            finish(p, r, w);
-            r.feasible = false;
-            r.message = "no feasible blend: " + ex.problem;
-            r.evaluations = fb.evaluations;
-            return r;
-        }
-        if (opt.method == FitMethod::exact) {
+        // The unique blend on the target is the answer when the objective is the smallest change
+        // (nothing to trade) or when asked for the exact solve alone.
+        if (ex.w && (opt.method == FitMethod::exact || p.objective == FitObjective::closest_to_start)) {
             r.method = "exact 3x3";
             finish(p, r, *ex.w);
             r.evaluations = fb.evaluations;
             r.message = r.feasible ? "exact solution on the target" : "the exact solution breaks a constraint (see the list)";
             return r;
         }
-        starts.push_back(*ex.w);
-        r.method = "exact 3x3 + NLopt COBYLA";
+        if (ex.w) {
+            starts.push_back(*ex.w);
+            r.method = "exact 3x3 + NLopt COBYLA";
+        } else {
+            // No blend exactly on the target within the limits (or inside the triangle): a blend
+            // within the tolerance may still exist, e.g. along a fraction limit. Search for it
+            // with NLopt rather than declaring the target infeasible.
+            exact_failed = ex;
+            r.method = "exact 3x3 (no on-target blend within the limits) + NLopt COBYLA";
+        }
     } else {
         r.method = "NLopt COBYLA";
     }
-    if (opt.method == FitMethod::exact) throw Error(fmt::format("the exact solve needs exactly three components, not {}", n));
+    if (opt.method == FitMethod::exact && n != 3) throw Error(fmt::format("the exact solve needs exactly three components, not {}", n));
 
     // Deterministic starts: the recipe, the equal split, then each component leading.
     starts.push_back(normalised_start(p));
@@ -628,7 +638,7 @@ FitResult solve(const FitProblem& p, const FitOptions& opt) {
         const auto cs = check_constraints(p, c.w, fake);
         c.violation = total_violation(cs);
         c.feasible = c.violation == 0;
-        c.objective = objective_of(p, e.a, e.efficacy, c.w, normalised_start(p));
+        c.objective = search_objective(p, e.a, e.efficacy, c.w, normalised_start(p));
         if (c.feasible && (!best || c.objective > best->objective + 1e-12)) best = c;
         if (!least_bad || c.violation < least_bad->violation) least_bad = c;
     };
@@ -640,7 +650,7 @@ FitResult solve(const FitProblem& p, const FitOptions& opt) {
             consider(run_on_target(p, fb, lim, *set, s0, opt));
             ++r.starts;
         }
-        if (best) {
+        if (best && p.objective != FitObjective::closest_to_start) {  // the default stays on the target centre
             FitOptions polish = opt;
             polish.max_evaluations = std::max(100, opt.max_evaluations / 4);
             consider(run_start(p, fb, lim, best->w, polish, true).second);
@@ -664,6 +674,18 @@ FitResult solve(const FitProblem& p, const FitOptions& opt) {
         r.message = r.feasible ? fmt::format("feasible; {} over {} starts", fit_objective_name(p.objective), r.starts)
                                : "the best blend found fails the re-check with evaluate_blend (see the list)";
     } else {
+        if (exact_failed) {
+            // The exact solve explains why better than the search: report its nearest blend.
+            r.nearest_reachable = exact_failed->nearest;
+            std::vector<double> w = least_bad ? least_bad->w : normalised_start(p);
+            if (exact_failed->nearest)
+                if (const auto s = shares_for(fb, *exact_failed->nearest)) w = mass_from_shares(fb, *s);
+            finish(p, r, w);
+            r.feasible = false;
+            r.message = "no feasible blend: " + exact_failed->problem;
+            r.evaluations = fb.evaluations;
+            return r;
+        }
         finish(p, r, least_bad ? least_bad->w : normalised_start(p));
         r.feasible = false;
         if (!nearest_w.empty()) {

@@ -25,6 +25,13 @@ std::string sigma_words(const std::vector<double>& v, double scale, const char* 
 
 }  // namespace
 
+std::string fit_chromaticity_aim(const FitProblem& p) {
+    if (p.objective == FitObjective::closest_to_start) return "aimed at the target centre";
+    const std::string limit = p.target.ellipse ? fmt::format("{:g} MacAdam steps", p.target.ellipse_steps)
+                                               : fmt::format("delta u'v' <= {:g}", p.tolerance_uv_prime);
+    return fmt::format("held within {} while maximising {}", limit, fit_objective_name(p.objective).substr(8));
+}
+
 std::string fit_text(const FitProblem& p, const FitResult& r, double ms) {
     std::ostringstream o;
     const Assessment& a = r.result.assessment;
@@ -33,6 +40,7 @@ std::string fit_text(const FitProblem& p, const FitResult& r, double ms) {
     if (p.target.kind != Target::Kind::chromaticity) o << fmt::format(" (x = {:.4f}, y = {:.4f})", p.target.xy.x, p.target.xy.y);
     o << '\n';
     o << fmt::format("  objective:  {}\n", fit_objective_name(p.objective));
+    o << fmt::format("  chromaticity: {}\n", fit_chromaticity_aim(p));
     o << fmt::format("  method:     {}, {} evaluations, {:.1f} ms\n", r.method, r.evaluations, ms);
     o << fmt::format("  result:     {}{}\n", r.feasible ? "" : "NOT FEASIBLE - ", r.message);
     o << "\n  component                                   start    fitted\n";

@@ -17,6 +17,9 @@
 namespace lampwright {
 
 std::string fit_text(const FitProblem& p, const FitResult& r, double ms);
+// How the fit treats the chromaticity: "aimed at the target centre" for the default objective,
+// "held within <tolerance> while maximising <figure>" otherwise.
+std::string fit_chromaticity_aim(const FitProblem& p);
 nlohmann::ordered_json fit_json(const FitProblem& p, const FitResult& r, double ms);
 // Column names and cells of the one CSV row of a blend fit (tolerance columns when `tolerance`).
 std::pair<std::vector<std::string>, std::vector<std::string>> fit_csv(const FitProblem& p, const FitResult& r,
