@@ -235,3 +235,24 @@ TEST_CASE("cli: odd but valid spectra never crash the program") {
         }
     }
 }
+
+TEST_CASE("cli: assess of a flat 1e304 spectrum prints finite LER and centroid; 1e308 exits 1 naming the spectrum and X, Y, Z") {
+    TempDir dir;
+    std::string big = "wavelength_nm,big\n", huge = "wavelength_nm,huge\n";
+    for (int w = 380; w <= 780; w += 5) {
+        big += std::to_string(w) + ",1e304\n";
+        huge += std::to_string(w) + ",1e308\n";
+    }
+    const Run r = run_cli("assess --format csv " + quote(dir.write("big.csv", big)));
+    CHECK(r.exit_code == 0);
+    const auto l = lines(r.out);
+    REQUIRE(l.size() == 2);
+    CHECK(std::stod(column(l[0], l[1], "ler_lm_per_W")) == doctest::Approx(182.0).epsilon(1e-3));
+    CHECK(std::stod(column(l[0], l[1], "centroid_nm")) == doctest::Approx(580.0).epsilon(1e-9));
+    CHECK(r.out.find("inf") == std::string::npos);
+    const Run h = run_cli("assess " + quote(dir.write("huge.csv", huge)));
+    CHECK(h.exit_code == 1);
+    CHECK(h.out.empty());
+    CHECK(h.err.find("huge.csv: spectrum '") != std::string::npos);
+    CHECK(h.err.find("values too large") != std::string::npos);
+}

@@ -167,3 +167,32 @@ TEST_CASE("outside its data a spectrum is extended by its nearest value on 360-8
     CHECK(s.at_nearest(100) == 380);  // CIE 15:2004 7.2.2.1
     CHECK(s.at_nearest(2000) == 780);  // CIE 15:2004 7.2.2.1
 }
+
+TEST_CASE("a relative spectrum of huge finite values (1e306) gives the same relative figures as at 1, X Y Z scaled") {
+    Spectrum one = planckian(4000);
+    const Assessment small = assess(one);
+    const Spectrum big = scaled(one, 1e306 / *std::max_element(one.values.begin(), one.values.end()));
+    const Assessment a = assess(big);
+    CHECK(a.xy.x == doctest::Approx(small.xy.x).epsilon(1e-12));
+    CHECK(a.xy.y == doctest::Approx(small.xy.y).epsilon(1e-12));
+    CHECK(a.ler_lm_per_W == doctest::Approx(small.ler_lm_per_W).epsilon(1e-12));
+    CHECK(a.cct.cct_K == doctest::Approx(4000).epsilon(1e-4));
+    CHECK(a.features.centroid_nm == doctest::Approx(small.features.centroid_nm).epsilon(1e-12));
+    REQUIRE(a.rendering);
+    CHECK(a.rendering->ra == doctest::Approx(100).epsilon(1e-6));
+    CHECK(std::isfinite(a.xyz.Y));
+    CHECK(a.xyz.Y / small.xyz.Y == doctest::Approx(1e306 / *std::max_element(one.values.begin(), one.values.end())).epsilon(1e-12));
+}
+
+TEST_CASE("a spectrum whose X, Y, Z overflow (values 1e308) is rejected naming the overflowing figures") {
+    Spectrum s;
+    s.name = "huge";
+    s.first_nm = 360;
+    s.values.assign(kColourSize, 1e308);
+    try {
+        (void)assess(s);
+        FAIL("no error");
+    } catch (const Error& e) {
+        CHECK(std::string(e.what()) == "values too large or not finite: X, Y, Z overflow or are undefined");
+    }
+}

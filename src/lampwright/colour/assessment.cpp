@@ -4,7 +4,11 @@
 
 #include <fmt/format.h>
 
+#include <algorithm>
 #include <array>
+#include <cmath>
+#include <string>
+#include <vector>
 
 namespace lampwright {
 
@@ -31,11 +35,52 @@ Assessment assess_from_tristimuli(const SampleTristimuli& tri, double radiant, C
     return a;
 }
 
-Assessment assess(const Spectrum& s, const AssessOptions& options) {
+namespace {
+
+// Above this largest value the tristimulus sums (value x colour matching function x 471 samples,
+// and the wavelength-weighted centroid sum) could overflow a double. Every figure but X, Y, Z is
+// independent of the spectrum's scale, so such a spectrum is assessed scaled to a largest value of 1.
+constexpr double kRescaleAbove = 1e250;
+
+// Every printed figure must be a finite number; a spectrum whose figures are not is a bad input.
+// FWHM is NaN by design when the peak runs off the data, and is left out.
+void require_finite(const Assessment& a) {
+    std::vector<std::string> bad;
+    const auto check = [&](const char* name, double v) {
+        if (!std::isfinite(v)) bad.push_back(name);
+    };
+    check("X", a.xyz.X);
+    check("Y", a.xyz.Y);
+    check("Z", a.xyz.Z);
+    check("x", a.xy.x);
+    check("y", a.xy.y);
+    check("u'", a.uv_prime.u);
+    check("v'", a.uv_prime.v);
+    check("Duv", a.cct.duv);
+    if (a.cct.valid) check("CCT", a.cct.cct_K);
+    if (a.rendering) {
+        check("Ra", a.rendering->ra);
+        for (double r : a.rendering->ri) check("Ri", r);
+    }
+    check("LER", a.ler_lm_per_W);
+    check("peak", a.features.peak_nm);
+    check("centroid", a.features.centroid_nm);
+    check("dominant wavelength", a.features.dominant_nm);
+    check("purity", a.features.purity);
+    if (bad.empty()) return;
+    bad.erase(std::unique(bad.begin(), bad.end()), bad.end());
+    std::string names;
+    for (const auto& b : bad) names += (names.empty() ? "" : ", ") + b;
+    throw Error("values too large or not finite: " + names + " overflow or are undefined");
+}
+
+Assessment assess_finite(const Spectrum& s, const AssessOptions& options) {
     std::array<double, kColourSize> values;
     colour_range_values(s, values.data());
     const SampleTristimuli tri = cie133_tristimuli(values.data());
-    Assessment a = assess_from_tristimuli(tri, radiant_integral(s), options.cct_method);
+    const double radiant = radiant_integral(s);
+    if (!(radiant > 0)) throw Error("the spectrum's integral over its range is not positive: no luminous efficacy can be computed");
+    Assessment a = assess_from_tristimuli(tri, radiant, options.cct_method);
     a.name = s.name;
     a.observer = options.observer;
     if (options.observer != Observer::cie1931_2deg) {
@@ -44,6 +89,28 @@ Assessment assess(const Spectrum& s, const AssessOptions& options) {
         a.uv_prime = uv_1976(a.xyz);
     }
     if (options.spectral_features) a.features = spectral_features(s, chromaticity(XYZ{tri[0], tri[1], tri[2]}));
+    return a;
+}
+
+}  // namespace
+
+Assessment assess(const Spectrum& s, const AssessOptions& options) {
+    double largest = 0;
+    for (double v : s.values) {
+        if (!std::isfinite(v)) throw Error("values too large: the spectrum holds a value that is not a finite number on the 1 nm grid (resampling overflowed)");
+        largest = std::max(largest, std::fabs(v));
+    }
+    if (largest <= kRescaleAbove) {
+        Assessment a = assess_finite(s, options);
+        require_finite(a);
+        return a;
+    }
+    // Relative figures from the spectrum scaled to 1; X, Y, Z (which scale with the spectrum) are
+    // scaled back, never silently changed: if they overflow the spectrum is rejected.
+    Assessment a = assess_finite(scaled(s, 1.0 / largest), options);
+    a.name = s.name;
+    a.xyz = XYZ{a.xyz.X * largest, a.xyz.Y * largest, a.xyz.Z * largest};
+    require_finite(a);
     return a;
 }
 
