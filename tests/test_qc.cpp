@@ -138,6 +138,15 @@ std::vector<LampResult> lamps_with_ra(const QcSpec& spec, const std::vector<doub
     return lamps;
 }
 
+// Centred near CIE FL11 (x 0.3805, y 0.3769, CIE 15:2004 as printed in shared/standards-facts.md) with the F4100 ellipse axes and angle of
+// ANSI C78.376 (shared/standards-facts.md); the ANSI F4100 centre itself is (0.3818, 0.3797).
+QcSpec spec_near_fl11() {
+    QcSpec spec;
+    spec.centre = {0.3805, 0.3768};
+    spec.step_ellipse = macadam_ellipse(spec.centre, 0.00313, 0.00134, 54.0);
+    return spec;
+}
+
 QcSpec spec_4000() {
     QcSpec spec;
     spec.centre = assess(planckian(4000)).xy;
@@ -277,9 +286,7 @@ TEST_CASE("qc run: bad files are named, the rest of the lot is still judged, XML
         out << "</SpectralDistribution>\n</IESTM2714>\n";
     }
     dir.write("broken.xml", "<IESTM2714><SpectralDistribution><SpectralData wavelength=\"380\">1</SpectralData>\n<SpectralData wavelength=\"390\">x</SpectralData></SpectralDistribution></IESTM2714>\n");
-    QcSpec spec;
-    spec.centre = {0.3805, 0.3768};
-    spec.step_ellipse = macadam_ellipse(spec.centre, 0.00313, 0.00134, 54.0);
+    QcSpec spec = spec_near_fl11();
     spec.max_steps = 7;
     const QcRun run = run_qc(spec, {dir.path.string()}, 2);
     CHECK(run.lamps.size() == 5);  // good1, good2, lampA, lampB, tm27
@@ -344,9 +351,7 @@ TEST_CASE("qc folder: a link loop, a dangling link, a FIFO and a link to a lamp 
     fs::create_symlink("good2.csv", dir.path / "alias.csv");       // sorts before its target
     REQUIRE(::mkfifo((dir.path / "pipe.txt").c_str(), 0600) == 0);
     dir.write("notes.md", "not a spectrum file: ignored as before\n");
-    QcSpec spec;
-    spec.centre = {0.3805, 0.3768};
-    spec.step_ellipse = macadam_ellipse(spec.centre, 0.00313, 0.00134, 54.0);
+    QcSpec spec = spec_near_fl11();
     spec.max_steps = 7;
     const QcRun run = run_qc(spec, {dir.path.string()}, 2);
     REQUIRE(run.lamps.size() == 2);
@@ -377,9 +382,7 @@ TEST_CASE("qc threads: the worker count is at least 1, at most the cores and the
     CHECK(qc_worker_count(1, 1000) == 1);
     const TempDir dir("lampwright_qc_threads");
     for (int k = 0; k < 6; ++k) write_spectrum(dir.path / fmt::format("lamp{}.csv", k), planckian(3900 + 40 * k));
-    QcSpec spec;
-    spec.centre = {0.3805, 0.3768};
-    spec.step_ellipse = macadam_ellipse(spec.centre, 0.00313, 0.00134, 54.0);
+    QcSpec spec = spec_near_fl11();
     const QcRun one = run_qc(spec, {dir.path.string()}, 1);
     const QcRun many = run_qc(spec, {dir.path.string()}, 4294967295u);
     REQUIRE(many.lamps.size() == 6);
