@@ -48,7 +48,8 @@ TEST_CASE("layer: zero thickness passes the bare pump") {
     const auto r = evaluate_layer(single(0, 0.1, test_phosphor("G", 530, 60, 480)));
     CHECK(r.pump_photons_leaked == doctest::Approx(1.0).epsilon(1e-12));
     CHECK(r.converted_W == doctest::Approx(0.0));
-    CHECK(r.conversion_efficiency == doctest::Approx(1.0).epsilon(1e-12));
+    CHECK(r.total_efficiency == doctest::Approx(1.0).epsilon(1e-12));
+    CHECK(r.converted_efficiency == doctest::Approx(0.0));
     CHECK(r.pump_leak_fraction == doctest::Approx(1.0).epsilon(1e-12));
 }
 

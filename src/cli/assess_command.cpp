@@ -82,12 +82,17 @@ int run_assess(int argc, char** argv) {
                     std::cout << (first ? "" : "\n") << assessment_text(a);
                     break;
                 case Format::csv: std::cout << csv_line(assessment_values(a)) << '\n'; break;
-                case Format::json: json_out.push_back(assessment_json(a)); break;
+                case Format::json: {
+                    auto j = assessment_json(a);
+                    for (const auto& w : parsed.warnings) j["warnings"].push_back(w);  // the file's warnings hold for each spectrum
+                    json_out.push_back(std::move(j));
+                    break;
+                }
             }
             first = false;
         }
     }
-    if (fmt_out == Format::json) std::cout << json_out.dump(2) << '\n';
+    if (fmt_out == Format::json) std::cout << dump_json(json_out) << '\n';
     return status;
 }
 

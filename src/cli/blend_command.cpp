@@ -50,7 +50,7 @@ efficiency, radiant efficiency and efficacy per W of absorbed excitation. See RE
         case Format::csv:
             std::cout << csv_line(blend_columns(result)) << '\n' << csv_line(blend_values(result)) << '\n';
             break;
-        case Format::json: std::cout << blend_json(result, recipe.blend).dump(2) << '\n'; break;
+        case Format::json: std::cout << dump_json(blend_json(result, recipe.blend)) << '\n'; break;
     }
     return kExitOk;
 }

@@ -1,6 +1,7 @@
 #pragma once
 // Shared pieces of the command-line front end: exit codes, output formats, messages.
 #include "lampwright/core/error.hpp"
+#include "lampwright/core/text_encoding.hpp"  // dump_json for every --format json
 #include "lampwright/io/output_file.hpp"
 #include "lampwright/report/provenance.hpp"
 

@@ -29,7 +29,7 @@ std::vector<ComparisonEntry> load_entries(const std::string& path, const std::ve
         const TomlDoc doc = TomlDoc::from_file(path);
         if (is_layer_design(doc)) {
             const LayerEvaluation rep = evaluate_layer_design(layer_design_from_toml(doc, folders));
-            return {{rep.design.name, "layer", rep.operating.spectrum, rep.operating.assessment, rep.operating.conversion_efficiency,
+            return {{rep.design.name, "layer", rep.operating.spectrum, rep.operating.assessment, rep.operating.converted_efficiency,
                      rep.operating.pump_leak_fraction, rep.operating.efficacy_lm_per_W_pump, layer_caution(rep)}};
         }
         const Recipe recipe = recipe_from_toml(doc, folders);
@@ -51,7 +51,8 @@ int run_compare(int argc, char** argv) {
 
 Side-by-side figures of LED layer designs (TOML with [layer]), blend recipes (other TOML) and
 measured spectra (CSV): chromaticity, CCT, Duv, Ra, R9, LER, efficiency, pump leakage, efficacy.
-Efficiency is W out per W pump for a layer and W per W absorbed for a blend; efficacy likewise.
+Efficiency is converted light (leaked pump not counted) per W pump for a layer and W per W absorbed
+for a blend; efficacy (all light) likewise.
 
 Options)");
     std::string svg, format = "text";

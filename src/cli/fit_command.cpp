@@ -251,7 +251,7 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
         switch (f) {
             case Format::text: std::cout << front_text(p, tf, fms); break;
             case Format::csv: std::cout << front_csv(p, tf); break;
-            case Format::json: std::cout << front_json(p, tf, fms).dump(2) << '\n'; break;
+            case Format::json: std::cout << dump_json(front_json(p, tf, fms)) << '\n'; break;
         }
         if (!front_csv_path.empty()) write_output_or_throw(front_csv_path, front_csv(p, tf));
         if (!front_svg_path.empty()) write_document_or_throw(front_svg_path, front_svg(p, tf));
@@ -318,7 +318,7 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
             if (tr) std::cout << tolerance_text(*tp, *tr, tms, tolerance_ellipse_source(p.target));
             break;
         case Format::csv: {
-            const auto [cols, vals] = fit_csv(p, r, tr ? &*tr : nullptr);
+            const auto [cols, vals] = fit_csv(p, r, tr ? &*tr : nullptr, tolerance_run);
             std::cout << csv_line(cols) << '\n' << csv_line(vals) << '\n';
             break;
         }
@@ -326,7 +326,7 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
             auto j = fit_json(p, r, ms);
             if (subsets) j["subsets"] = subsets_json(*subsets);
             if (tr) j["tolerance"] = tolerance_json(*tp, *tr, tms, tolerance_ellipse_source(p.target));
-            std::cout << j.dump(2) << '\n';
+            std::cout << dump_json(j) << '\n';
             break;
         }
     }

@@ -24,7 +24,7 @@ int run_layer_fit(const LayerFitProblem& problem, Format format, const std::stri
             std::cout << csv_line(cols) << '\n' << csv_line(vals) << '\n';
             break;
         }
-        case Format::json: std::cout << layer_fit_json(r).dump(2) << '\n'; break;
+        case Format::json: std::cout << dump_json(layer_fit_json(r)) << '\n'; break;
     }
     const std::string caution = layer_caution(r.evaluation);
     if (!caution.empty() && format != Format::text) std::cerr << "lampwright: CAUTION: " << caution << '\n';

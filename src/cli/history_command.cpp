@@ -68,10 +68,12 @@ of the most recent lot (the output says which, and names the others).
             nlohmann::ordered_json j;
             j["database"] = db;
             j["spec_selection"] = spec_selection_json(selection);
+            // What text and CSV output say beside the table (lots of other specs not shown).
+            j["warnings"] = shown.empty() ? nlohmann::ordered_json::array() : nlohmann::ordered_json::array({shown});
             j["lots"] = nlohmann::ordered_json::array();
             for (const auto& l : lots) j["lots"].push_back(lot_json(l));
             j["control_charts"] = control_charts_json(charts);
-            std::cout << j.dump(2) << '\n';
+            std::cout << dump_json(j) << '\n';
             break;
         }
     }

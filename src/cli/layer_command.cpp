@@ -55,7 +55,7 @@ local codes and licensed practice.
     switch (f) {
         case Format::text: std::cout << layer_text(rep); break;
         case Format::csv: std::cout << csv_line(layer_columns()) << '\n' << csv_line(layer_values(rep)) << '\n'; break;
-        case Format::json: std::cout << layer_json(rep).dump(2) << '\n'; break;
+        case Format::json: std::cout << dump_json(layer_json(rep)) << '\n'; break;
     }
     return kExitOk;
 }

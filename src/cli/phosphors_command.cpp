@@ -36,7 +36,7 @@ Emission spectra are models built from published peak positions and widths, not 
         case Format::json: {
             nlohmann::ordered_json j = nlohmann::ordered_json::array();
             for (const auto& p : lib.all()) j.push_back(phosphor_json(p));
-            std::cout << j.dump(2) << '\n';
+            std::cout << dump_json(j) << '\n';
             break;
         }
     }

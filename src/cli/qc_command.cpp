@@ -95,7 +95,7 @@ other lamp was judged), 4 some lamps failed, 8 the report or the database could 
         case Format::json: {
             auto j = qc_json(run);
             if (correction) j["correction"] = lot_correction_json(*correction, made_with->blend, recipe);
-            std::cout << j.dump(2) << '\n';
+            std::cout << dump_json(j) << '\n';
             break;
         }
     }

@@ -3,6 +3,7 @@
 #include "lampwright/core/error.hpp"
 #include "lampwright/core/interpolation.hpp"
 #include "lampwright/core/text_file.hpp"
+#include "lampwright/core/text_encoding.hpp"
 
 #include <fmt/format.h>
 
@@ -136,7 +137,7 @@ SpectrumFile validated_spectra(const std::string& source, const std::vector<std:
     warn_about_gaps(result, source, wl, value_lines);
     for (std::size_t c = 1; c < columns.size(); ++c) {
         SampledSpectrum s;
-        s.name = names[c - 1];
+        s.name = sanitize_utf8(names[c - 1]);  // also the file's stem, which may be in any encoding
         s.wavelengths_nm = wl;
         s.values = std::move(columns[c]);
         const double peak = *std::max_element(s.values.begin(), s.values.end());
@@ -158,6 +159,7 @@ SpectrumFile validated_spectra(const std::string& source, const std::vector<std:
             result.warnings.push_back(fmt::format("{}: spectrum '{}': {} small negative value(s) (noise) set to zero", source, s.name, clipped));
         result.spectra.push_back(std::move(s));
     }
+    for (auto& w : result.warnings) w = sanitize_utf8(w);  // they name the file
     return result;
 }
 
@@ -192,6 +194,8 @@ SpectrumFile parse_spectrum_text(std::istream& in, const std::string& source, co
             header_seen = true;
             ncols = fields.size();
             for (std::size_t i = 1; i < fields.size(); ++i) {
+                // A name in another encoding (a Latin-1 "\xB5W") is kept, its bad bytes shown as U+FFFD.
+                fields[i] = sanitize_utf8(fields[i]);
                 if (fields[i].empty()) throw InputError(source, line_no, fmt::format("header column {} has no name", i + 1));
                 // Each column is one lamp, known by its name (qc stores lamps by name): two columns
                 // of one name would be two lamps judged but one stored.

@@ -192,7 +192,8 @@ LayerResult evaluate_layer(const LayerDesign& d, std::optional<double> temperatu
     for (std::size_t k = 0; k < kGridSize; ++k) r.spectrum.values[k] += r.leaked_pump_spectrum.values[k];
     const double out_W = r.converted_W + r.leaked_pump_W;
     r.pump_leak_fraction = r.leaked_pump_W / out_W;
-    r.conversion_efficiency = out_W / d.pump_power_W;
+    r.converted_efficiency = r.converted_W / d.pump_power_W;
+    r.total_efficiency = out_W / d.pump_power_W;
     r.efficacy_lm_per_W_pump = kKm * tristimulus(r.spectrum).Y / d.pump_power_W;
     r.assessment = assess(r.spectrum, options);
     return r;

@@ -70,7 +70,12 @@ struct LayerResult {
     double pump_power_W = 0, leaked_pump_W = 0, converted_W = 0, stokes_loss_W = 0, quantum_loss_W = 0;
     double leaked_uv_violet_W = 0;       // leaked power below 420 nm
     double pump_leak_fraction = 0;       // leaked pump power / total output power
-    double conversion_efficiency = 0;    // total output power / pump power
+    // Two efficiencies, kept apart because leaked pump light is output but not converted light: a
+    // thin layer that lets 99.8 % of the pump through has a total efficiency near 1 and a converted
+    // efficiency near 0 (both per W of pump light, the input a package designer controls; common
+    // practice, no source).
+    double converted_efficiency = 0;     // converted light out (W) / pump power (W)
+    double total_efficiency = 0;         // all light out, leaked pump included (W) / pump power (W)
     double efficacy_lm_per_W_pump = 0;   // lm per W of pump light
     Assessment assessment;
 };

@@ -168,6 +168,7 @@ LayerFitResult fit_layer(const LayerFitProblem& p, int max_evaluations) {
     LayerFitResult r;
     r.evaluations = ctx.evaluations;
     r.design = design_from(p, best);
+    r.design.name = p.design.name + " (fitted)";  // as a fitted blend recipe is named: not to be taken for the start
     for (auto& c : r.design.components) c.loading = std::round(c.loading * 1e6) / 1e6;  // as written to a design file
     r.evaluation = evaluate_layer_design(r.design);
     const auto& a = r.evaluation.operating.assessment;

@@ -28,7 +28,7 @@ struct LayerFitProblem {
 struct LayerFitResult {
     bool feasible = false;
     std::string message;
-    LayerDesign design;        // the fitted design
+    LayerDesign design;        // the fitted design, named "<start name> (fitted)"
     LayerEvaluation evaluation;    // evaluate_layer_design(design)
     double distance_uv_prime = 0;
     std::optional<double> macadam_steps;

@@ -4,6 +4,7 @@
 
 #include "lampwright/core/format.hpp"
 #include "lampwright/core/error.hpp"
+#include "lampwright/core/text_encoding.hpp"
 #include "lampwright/io/toml_access.hpp"
 
 #include <fmt/format.h>
@@ -135,7 +136,11 @@ public:
     Statement(const Statement&) = delete;
     Statement& operator=(const Statement&) = delete;
 
-    Statement& text(int i, const std::string& s) {
+    // Text goes in and comes out as valid UTF-8 (a path or lamp name in another encoding gets
+    // U+FFFD for its bad bytes), so a recorded lot can always be shown as JSON, also from a
+    // database written before names were cleaned.
+    Statement& text(int i, const std::string& raw) {
+        const std::string s = sanitize_utf8(raw);
         db_.check(sqlite3_bind_text(st_, i, s.data(), static_cast<int>(s.size()), SQLITE_TRANSIENT), "binding a value");
         return *this;
     }
@@ -172,7 +177,7 @@ public:
     long long col_int(int i) const { return sqlite3_column_int64(st_, i); }
     std::string col_text(int i) const {
         const auto* p = sqlite3_column_text(st_, i);
-        return p ? std::string(reinterpret_cast<const char*>(p), static_cast<std::size_t>(sqlite3_column_bytes(st_, i))) : std::string();
+        return p ? sanitize_utf8(std::string_view(reinterpret_cast<const char*>(p), static_cast<std::size_t>(sqlite3_column_bytes(st_, i)))) : std::string();
     }
 
 private:
@@ -318,7 +323,7 @@ RecordOutcome record_lot(const std::string& db_path, const QcRun& run, const std
             ins.real(i++, stat_mean(st, q));
             ins.real(i++, stat_sd(st, q));
         }
-        ins.text(31, caps.dump());
+        ins.text(31, dump_json(caps, -1));
         ins.run("recording the lot");
     }
     {
@@ -334,7 +339,7 @@ RecordOutcome record_lot(const std::string& db_path, const QcRun& run, const std
             ins.real(9, a.cct.valid ? a.cct.cct_K : NAN).real(10, a.cct.duv).real(11, a.rendering ? a.rendering->ra : NAN);
             for (int k = 0; k < 14; ++k) ins.real(12 + k, a.rendering ? a.rendering->ri[static_cast<std::size_t>(k)] : NAN);
             ins.real(26, a.ler_lm_per_W).real(27, l.steps).integer(28, l.inside_region ? 1 : 0).integer(29, l.pass() ? 1 : 0);
-            ins.text(30, nlohmann::json(l.failures).dump()).integer(31, l.outlier ? 1 : 0).text_or_null(32, l.outlier_note);
+            ins.text(30, dump_json(nlohmann::json(l.failures))).integer(31, l.outlier ? 1 : 0).text_or_null(32, l.outlier_note);
             ins.step("recording a lamp");
             if (sqlite3_changes(db.handle()) > 0)
                 ++out.lamps_added;

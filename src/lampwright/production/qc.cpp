@@ -4,6 +4,7 @@
 #include "lampwright/core/interpolation.hpp"
 #include "lampwright/io/spectrum_io.hpp"
 #include "lampwright/core/statistics.hpp"
+#include "lampwright/core/text_encoding.hpp"
 #include "lampwright/io/toml_access.hpp"
 
 #include <fmt/format.h>
@@ -282,7 +283,9 @@ QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigne
                 const std::string hash = content_hash(bytes);
                 for (const auto& s : f.spectra) {
                     LampResult lr = judge_lamp(spec, assess(resample_to_1nm(s), options));
-                    lr.file = files[i];
+                    // The file's warnings (a gap in the data, negative noise) hold for each of its lamps.
+                    lr.assessment.warnings.insert(lr.assessment.warnings.begin(), f.warnings.begin(), f.warnings.end());
+                    lr.file = sanitize_utf8(files[i]);  // shown and stored; the path itself may be in any encoding
                     lr.content_hash = hash;
                     per_file[i].push_back(std::move(lr));
                 }
@@ -333,6 +336,10 @@ QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigne
     if (unexpected) std::rethrow_exception(unexpected);
     for (std::size_t i = 0; i < files.size(); ++i) {
         if (bad[i]) run.bad_files.push_back(*bad[i]);
+    }
+    // Bad files are only shown and stored: their names and reasons as valid UTF-8 (core/text_encoding.hpp).
+    for (auto& b : run.bad_files) b.file = sanitize_utf8(b.file), b.reason = sanitize_utf8(b.reason);
+    for (std::size_t i = 0; i < files.size(); ++i) {
         for (auto& l : per_file[i]) run.lamps.push_back(std::move(l));
     }
     run.stats = lot_statistics(spec, run.lamps);

@@ -4,6 +4,7 @@
 
 #include <fmt/format.h>
 
+#include <algorithm>
 #include <cmath>
 
 namespace lampwright {
@@ -98,8 +99,13 @@ std::vector<std::string> phosphor_values(const Phosphor& p) {
 nlohmann::ordered_json phosphor_json(const Phosphor& p) {
     const auto cols = phosphor_columns();
     const auto vals = phosphor_values(p);
+    // Text columns stay strings; the figures are numbers, null where the phosphor has none.
+    static const std::vector<std::string> text_cols{"id", "abbreviation", "use", "emission_model", "body_colour", "source"};
     nlohmann::ordered_json j;
-    for (std::size_t i = 0; i < cols.size(); ++i) j[cols[i]] = vals[i];
+    for (std::size_t i = 0; i < cols.size(); ++i) {
+        if (std::find(text_cols.begin(), text_cols.end(), cols[i]) != text_cols.end()) j[cols[i]] = vals[i];
+        else j[cols[i]] = vals[i].empty() ? nlohmann::ordered_json(nullptr) : nlohmann::ordered_json(std::stod(vals[i]));
+    }
     j["model_note"] = p.model_note;
     j["origin"] = p.origin;
     return j;

@@ -34,7 +34,7 @@ std::string comparison_text(const std::vector<ComparisonEntry>& entries) {
                          cell(a.xy.x, 4), cell(a.xy.y, 4), cell(cct, 0), cell(a.cct.duv, 4), cell(ra, 1), cell(r9, 1),
                          cell(a.ler_lm_per_W, 1), cell(e.efficiency, 3), cell(100 * e.leak_fraction, 2), cell(e.efficacy, 1));
     }
-    return o + "eff: W out per W pump (layer), W per W absorbed (blend); lm/W*: per W pump (layer), per W absorbed (blend)\n";
+    return o + "eff: converted W per W pump (layer), W per W absorbed (blend); lm/W*: per W pump (layer), per W absorbed (blend)\n";
 }
 
 std::string comparison_csv(const std::vector<ComparisonEntry>& entries) {
@@ -43,8 +43,10 @@ std::string comparison_csv(const std::vector<ComparisonEntry>& entries) {
     for (const auto& e : entries) {
         const auto& a = e.assessment;
         const auto [ra, r9, cct] = figures(e);
-        o += csv_line({e.name, e.kind, cell(a.xy.x, 5), cell(a.xy.y, 5), cell(cct, 1), cell(a.cct.duv, 5), cell(ra, 2), cell(r9, 2),
-                       cell(a.ler_lm_per_W, 2), cell(e.efficiency, 4), cell(e.leak_fraction, 5), cell(e.efficacy, 2)}) + "\n";
+        // Missing values are empty cells, as in every CSV (docs/output-schemas.md); "-" is for the table.
+        auto c = [](double v, int decimals) { return format_fixed(v, decimals); };
+        o += csv_line({e.name, e.kind, c(a.xy.x, 5), c(a.xy.y, 5), c(cct, 1), c(a.cct.duv, 5), c(ra, 2), c(r9, 2),
+                       c(a.ler_lm_per_W, 2), c(e.efficiency, 4), c(e.leak_fraction, 5), c(e.efficacy, 2)}) + "\n";
     }
     return o;
 }

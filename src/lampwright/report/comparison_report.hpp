@@ -15,7 +15,7 @@ struct ComparisonEntry {
     std::string name, kind;
     Spectrum spectrum;
     Assessment assessment;
-    double efficiency = NAN;   // conversion (layer) or radiant (blend) efficiency
+    double efficiency = NAN;   // converted (layer: leaked pump not counted) or radiant (blend) efficiency
     double leak_fraction = NAN;
     double efficacy = NAN;     // lm per W pump (layer) or per W absorbed (blend)
     std::string caution;

@@ -87,6 +87,7 @@ nlohmann::ordered_json fit_json(const FitProblem& p, const FitResult& r, double 
         cs.push_back({{"name", c.name}, {"value", c.value}, {"limit", c.limit}, {"satisfied", c.satisfied}, {"active", c.active}, {"text", c.text}});
     j["evaluations"] = r.evaluations;
     j["time_ms"] = ms;
+    j["warnings"] = r.result.assessment.warnings;
     j["blend"] = blend_json(r.result, r.blend);
     return j;
 }
@@ -132,6 +133,7 @@ nlohmann::ordered_json front_json(const FitProblem& p, const TradeoffFront& f, d
     j["solves"] = f.solves;
     j["evaluations"] = f.evaluations;
     j["time_ms"] = ms;
+    j["warnings"] = nlohmann::ordered_json::array();  // none yet; there for a stable schema (docs/output-schemas.md)
     auto& pts = j["points"] = nlohmann::ordered_json::array();
     for (const auto& pt : f.points) {
         nlohmann::ordered_json q;
@@ -194,13 +196,13 @@ std::string front_csv(const FitProblem& problem, const TradeoffFront& f) {
     for (const auto& c : problem.blend.components) cols.push_back("fraction_" + c.label);
     std::string out = csv_line(cols) + "\n";
     for (const auto& p : f.points) {
-        std::vector<std::string> v{fmt::format("{:.3f}", p.floor), p.feasible ? "yes" : "no"};
+        std::vector<std::string> v{fmt::format("{:.3f}", p.floor), p.feasible ? "true" : "false"};
         if (p.feasible) {
             for (double x : {p.objective, p.ra, p.r9, p.ler, p.efficacy}) v.push_back(fmt::format("{:.4f}", x));
             v.push_back(fmt::format("{:.5f}", p.xy.x));
             v.push_back(fmt::format("{:.5f}", p.xy.y));
             v.push_back(fmt::format("{:.6f}", p.distance_uv_prime));
-            v.push_back(p.from_other_point ? "yes" : "no");
+            v.push_back(p.from_other_point ? "true" : "false");
             for (double w : p.mass_fractions) v.push_back(fmt::format("{:.6f}", w));
         } else {
             for (std::size_t i = 2; i < cols.size(); ++i) v.push_back("");
@@ -236,27 +238,61 @@ std::string front_svg(const FitProblem& problem, const TradeoffFront& f) {
     return svg_chart(ax, {line, dots});
 }
 
-std::pair<std::vector<std::string>, std::vector<std::string>> fit_csv(const FitProblem& p, const FitResult& r, const ToleranceResult* tr) {
-    auto cols = blend_columns(r.result);
+std::pair<std::vector<std::string>, std::vector<std::string>> fit_csv(const FitProblem& p, const FitResult& r, const ToleranceResult* tr,
+                                                                      bool tolerance_run) {
+    // The same columns whatever the answer: the fitted blend leaves out components at zero (and an
+    // infeasible fit may have none at all), so the component columns follow the recipe, one group
+    // per recipe component, and the blend's own columns are taken without its component groups.
+    const std::size_t base = blend_columns(BlendResult{}).size();
+    auto cols = blend_columns(BlendResult{});
     auto vals = blend_values(r.result);
-    for (const char* k : {"fit_feasible", "fit_delta_uv_prime", "fit_objective_value"}) cols.push_back(k);
-    vals.push_back(r.feasible ? "yes" : "no");
+    vals.resize(base);
+    const auto component_cols = blend_columns([] {
+        BlendResult one;
+        one.components.resize(1);
+        return one;
+    }());
+    const std::vector<std::string> groups(component_cols.begin() + static_cast<std::ptrdiff_t>(base), component_cols.end());  // c1_id, c1_mass_fraction, ...
+    std::size_t next = 0;  // next component of the fitted blend
+    for (std::size_t i = 0; i < p.blend.components.size(); ++i) {
+        for (const auto& g : groups) cols.push_back(fmt::format("c{}{}", i + 1, g.substr(2)));
+        const bool present = i < r.mass_fractions.size() && r.mass_fractions[i] > 0 && next < r.result.components.size();
+        if (present) {
+            BlendResult one;
+            one.components = {r.result.components[next++]};
+            const auto v = blend_values(one);
+            vals.insert(vals.end(), v.begin() + static_cast<std::ptrdiff_t>(base), v.end());
+        } else {
+            // Not in the fitted blend: its label; at a zero fraction, zero shares and no Stokes
+            // efficiency; without any fitted blend, empty cells.
+            const bool zero = i < r.mass_fractions.size() && r.mass_fractions[i] == 0;
+            vals.push_back(p.blend.components[i].label);
+            for (std::size_t c = 1; c + 1 < groups.size(); ++c) vals.push_back(zero ? format_fixed(0.0, 6) : "");
+            vals.push_back("");
+        }
+    }
+    for (const char* key : {"fit_feasible", "fit_delta_uv_prime", "fit_objective_value"}) cols.push_back(key);
+    vals.push_back(r.feasible ? "true" : "false");
     vals.push_back(fmt::format("{:.6f}", r.distance_uv_prime));
     vals.push_back(fmt::format("{:.4f}", r.objective_value));
     for (std::size_t i = 0; i < p.blend.components.size(); ++i) {
         cols.push_back(fmt::format("fit_{}", p.blend.components[i].label));
-        vals.push_back(fmt::format("{:.6f}", r.mass_fractions[i]));
+        vals.push_back(i < r.mass_fractions.size() ? fmt::format("{:.6f}", r.mass_fractions[i]) : "");
     }
-    if (tr) {
+    if (tr || tolerance_run) {
         for (const char* k : {"tol_draws", "tol_seed", "tol_steps_limit", "tol_inside_share", "tol_inside_standard_error",
                               "tol_mean_steps", "tol_sd_steps", "tol_p50_steps", "tol_p90_steps", "tol_p95_steps", "tol_p99_steps",
                               "tol_max_steps", "tol_nominal_steps"})
             cols.push_back(k);
-        vals.push_back(fmt::format("{}", tr->draws));
-        vals.push_back(fmt::format("{}", tr->seed));
-        for (double v : {tr->steps_limit, tr->yield, tr->yield_standard_error, tr->mean_steps, tr->sd_steps, tr->p50, tr->p90, tr->p95,
-                         tr->p99, tr->max_steps, tr->nominal_steps})
-            vals.push_back(fmt::format("{:.6g}", v));
+        if (tr) {
+            vals.push_back(fmt::format("{}", tr->draws));
+            vals.push_back(fmt::format("{}", tr->seed));
+            for (double v : {tr->steps_limit, tr->yield, tr->yield_standard_error, tr->mean_steps, tr->sd_steps, tr->p50, tr->p90, tr->p95,
+                             tr->p99, tr->max_steps, tr->nominal_steps})
+                vals.push_back(fmt::format("{:.6g}", v));
+        } else {
+            vals.resize(cols.size());  // no tolerance run (the fit was infeasible): empty cells
+        }
     }
     return {cols, vals};
 }
@@ -313,7 +349,7 @@ std::pair<std::vector<std::string>, std::vector<std::string>> layer_fit_csv(cons
     auto cols = layer_columns();
     auto vals = layer_values(r.evaluation);
     cols.push_back("fit_feasible");
-    vals.push_back(r.feasible ? "1" : "0");
+    vals.push_back(r.feasible ? "true" : "false");
     cols.push_back("fit_delta_uv_prime");
     vals.push_back(fmt::format("{:.6f}", r.distance_uv_prime));
     cols.push_back("fit_thickness_um");

@@ -21,9 +21,11 @@ std::string fit_text(const FitProblem& p, const FitResult& r, double ms);
 // "held within <tolerance> while maximising <figure>" otherwise.
 std::string fit_chromaticity_aim(const FitProblem& p);
 nlohmann::ordered_json fit_json(const FitProblem& p, const FitResult& r, double ms);
-// Column names and cells of the one CSV row of a blend fit (tolerance columns when `tolerance`).
+// Column names and cells of the one CSV row of a blend fit: the same columns for a feasible and an
+// infeasible fit (one c<i>_* group per recipe component; empty cells where there is no value);
+// tolerance columns when `tolerance` is given or `tolerance_run` (empty cells without a result).
 std::pair<std::vector<std::string>, std::vector<std::string>> fit_csv(const FitProblem& p, const FitResult& r,
-                                                                      const ToleranceResult* tolerance = nullptr);
+                                                                      const ToleranceResult* tolerance = nullptr, bool tolerance_run = false);
 std::string sensitivity_text(const std::vector<SensitivityRow>& rows);
 
 std::string front_text(const FitProblem& p, const TradeoffFront& f, double ms);

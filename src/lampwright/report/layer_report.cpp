@@ -10,7 +10,7 @@ namespace lampwright {
 
 std::vector<std::string> layer_columns() {
     auto c = assessment_columns();
-    for (const char* k : {"temperature_C", "pump_leak_fraction", "conversion_efficiency", "efficacy_lm_per_W_pump", "pump_power_W",
+    for (const char* k : {"temperature_C", "pump_leak_fraction", "converted_efficiency", "total_efficiency", "efficacy_lm_per_W_pump", "pump_power_W",
                           "leaked_pump_W", "leaked_uv_violet_W", "converted_W", "stokes_loss_W", "quantum_loss_W",
                           "photons_leaked", "photons_escaping", "photons_lost", "x_25C", "y_25C", "shift_macadam_steps"})
         c.push_back(k);
@@ -20,7 +20,7 @@ std::vector<std::string> layer_columns() {
 std::vector<std::string> layer_values(const LayerEvaluation& rep) {
     const auto& r = rep.operating;
     auto v = assessment_values(r.assessment);
-    for (double x : {r.temperature_C, r.pump_leak_fraction, r.conversion_efficiency, r.efficacy_lm_per_W_pump, r.pump_power_W,
+    for (double x : {r.temperature_C, r.pump_leak_fraction, r.converted_efficiency, r.total_efficiency, r.efficacy_lm_per_W_pump, r.pump_power_W,
                      r.leaked_pump_W, r.leaked_uv_violet_W, r.converted_W, r.stokes_loss_W, r.quantum_loss_W,
                      r.pump_photons_leaked, r.photons_escaping, r.photons_lost, rep.room.assessment.xy.x, rep.room.assessment.xy.y,
                      rep.shift_steps})
@@ -33,13 +33,20 @@ nlohmann::ordered_json layer_json(const LayerEvaluation& rep) {
     nlohmann::ordered_json j = assessment_json(rep.operating.assessment);
     const auto vals = layer_values(rep);
     for (std::size_t i = assessment_columns().size(); i < cols.size(); ++i) j[cols[i]] = vals[i].empty() ? nlohmann::ordered_json(nullptr) : nlohmann::ordered_json(std::stod(vals[i]));
+    j["thickness_um"] = rep.design.thickness_um;
     auto& comps = j["components"] = nlohmann::ordered_json::array();
-    for (const auto& c : rep.operating.components)
-        comps.push_back({{"id", c.label}, {"quantum_efficiency", c.quantum_efficiency}, {"pump_photons_absorbed", c.pump_photons_absorbed},
+    for (std::size_t i = 0; i < rep.operating.components.size(); ++i) {
+        const auto& c = rep.operating.components[i];
+        comps.push_back({{"id", c.label}, {"loading", number_or_null(i < rep.design.components.size() ? rep.design.components[i].loading : NAN)},
+                         {"quantum_efficiency", c.quantum_efficiency}, {"pump_photons_absorbed", c.pump_photons_absorbed},
                          {"photons_absorbed", c.photons_absorbed}, {"photons_emitted", c.photons_emitted},
                          {"photons_escaping", c.photons_escaping}, {"power_escaping_W", c.power_escaping_W}});
+    }
     const std::string caution = layer_caution(rep);
-    if (!caution.empty()) j["caution"] = caution;
+    if (!caution.empty()) {
+        j["caution"] = caution;
+        j["warnings"].push_back("CAUTION: " + caution);  // also printed on stderr
+    }
     return j;
 }
 
@@ -57,7 +64,8 @@ std::string layer_text(const LayerEvaluation& rep) {
     o += "  (photons per pump photon)\n";
     o += fmt::format("  at {:g} degC: pump leak {:.2f} % of output ({:.4f} W, of which {:.4f} W below 420 nm)\n", r.temperature_C,
                      100 * r.pump_leak_fraction, r.leaked_pump_W, r.leaked_uv_violet_W);
-    o += fmt::format("  conversion efficiency {:.3f} W/W   efficacy {:.1f} lm per W of pump\n", r.conversion_efficiency, r.efficacy_lm_per_W_pump);
+    o += fmt::format("  efficiency: converted {:.3f} W/W, total {:.3f} W/W (leaked pump included)   efficacy {:.1f} lm per W of pump\n",
+                     r.converted_efficiency, r.total_efficiency, r.efficacy_lm_per_W_pump);
     o += fmt::format("  energy: pump {:.4f} W = leaked {:.4f} + converted {:.4f} + Stokes loss {:.4f} + quantum loss {:.4f}\n",
                      r.pump_power_W, r.leaked_pump_W, r.converted_W, r.stokes_loss_W, r.quantum_loss_W);
     o += fmt::format("  photons: 1 = leaked {:.4f} + escaping {:.4f} + lost {:.4f}\n", r.pump_photons_leaked, r.photons_escaping, r.photons_lost);

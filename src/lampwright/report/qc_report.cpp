@@ -511,6 +511,11 @@ nlohmann::ordered_json qc_json(const QcRun& run) {
     J bad = J::array();
     for (const auto& b : run.bad_files) bad.push_back({{"file", b.file}, {"reason", b.reason}});
     j["bad_files"] = std::move(bad);
+    // Every lamp's warnings, named by lamp, at the top (each lamp also has its own).
+    J warnings = J::array();
+    for (const auto& l : run.lamps)
+        for (const auto& w : l.assessment.warnings) warnings.push_back(fmt::format("{}: {}", l.name, w));
+    j["warnings"] = std::move(warnings);
     return j;
 }
 
