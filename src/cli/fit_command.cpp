@@ -318,6 +318,10 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
         const auto t1 = std::chrono::steady_clock::now();
         tr = naming_input(recipe.path, [&] { return run_tolerance(*tp, progress); }, "tolerance run: ");
         tms = std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - t1).count();
+        if (tr->failed > 0)
+            print_warning(fmt::format("tolerance run: {} of {} draws gave no light (every QE drawn at zero or below) and no chromaticity: "
+                                      "they count as outside the ellipse and are left out of the means, sds and percentiles",
+                                      tr->failed, tr->draws));
     }
     for (const auto& w : r.result.assessment.warnings) print_warning(fmt::format("{}: {}", r.result.name, w));
 
