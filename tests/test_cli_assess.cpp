@@ -256,3 +256,28 @@ TEST_CASE("cli: assess of a flat 1e304 spectrum prints finite LER and centroid; 
     CHECK(h.err.find("huge.csv: spectrum '") != std::string::npos);
     CHECK(h.err.find("values too large") != std::string::npos);
 }
+
+TEST_CASE("cli: a narrow spike of 5e306 W/nm is assessed like the same shape at 5, not refused as 'resampling overflowed'") {
+    // Sprague's segment coefficients (126 f0) overflowed for such values before the scaling in
+    // resample_to_1nm (interpolation.cpp); the radiant integral itself stays finite here.
+    const TempDir dir;
+    std::string unit = "wavelength_nm,lamp\n", huge = unit;
+    for (int nm = 380; nm <= 780; nm += 5) {
+        const char* v = nm == 560 ? "5" : (nm == 555 || nm == 565 ? "2" : "1");
+        const char* e = nm >= 555 && nm <= 565 ? "" : "e-6";
+        unit += std::to_string(nm) + "," + v + e + "\n";
+        huge += std::to_string(nm) + "," + v + (nm >= 555 && nm <= 565 ? "e306" : "e300") + "\n";
+    }
+    const Run a = run_cli("assess --format csv " + quote(dir.write("unit.csv", unit)));
+    const Run b = run_cli("assess --format csv " + quote(dir.write("huge.csv", huge)));
+    CAPTURE(b.err);
+    REQUIRE(a.exit_code == 0);
+    CHECK(b.exit_code == 0);
+    const auto la = lines(a.out), lb = lines(b.out);
+    REQUIRE(la.size() == 2);
+    REQUIRE(lb.size() == 2);
+    for (const char* c : {"x", "y", "u_prime", "v_prime", "duv", "ler_lm_per_W", "peak_nm", "fwhm_nm", "dominant_nm"}) {
+        CAPTURE(c);
+        CHECK(column(lb[0], lb[1], c) == column(la[0], la[1], c));
+    }
+}

@@ -7,6 +7,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <limits>
 #include <functional>
 #include <vector>
 
@@ -192,4 +193,43 @@ TEST_CASE("resample_to_1nm: wavelengths beyond 100-100,000 nm or not finite are 
     CHECK(r.first_nm == 100);
     CHECK(r.values.size() == 99901);
     CHECK(r.values.back() == doctest::Approx(1.0));
+}
+
+TEST_CASE("resample_to_1nm: huge finite values (1e306 to 1e308) resample to finite values in proportion, never inf or NaN") {
+    // Sprague's end extension multiplies values by up to 3033/209 and pchip divides differences by
+    // steps under 1 nm: unscaled, values near 1.8e308 overflow. Interpolation is linear in the
+    // values, so the result must be the scale times the result for the shape alone.
+    auto shape = [](double nm) { return std::exp(-0.5 * std::pow((nm - 550) / 30, 2)) + 0.3 * std::exp(-0.5 * std::pow((nm - 450) / 8, 2)) + 0.01; };
+    for (const bool uniform : {true, false}) {
+        SampledSpectrum unit{"unit", {}, {}};
+        for (double nm = 380; nm <= 780; nm += uniform ? 5.0 : (nm < 500 ? 0.5 : 7.0)) {
+            unit.wavelengths_nm.push_back(nm);
+            unit.values.push_back(shape(nm));
+        }
+        const Spectrum ref = resample_to_1nm(unit);
+        for (const double scale : {1e306, 1e307, 1e308}) {
+            CAPTURE(uniform);
+            CAPTURE(scale);
+            SampledSpectrum big = unit;
+            for (double& v : big.values) v *= scale;
+            const Spectrum r = resample_to_1nm(big);
+            REQUIRE(r.values.size() == ref.values.size());
+            bool all_finite = true;
+            double worst = 0;
+            for (std::size_t i = 0; i < r.values.size(); ++i) {
+                all_finite = all_finite && std::isfinite(r.values[i]);
+                worst = std::max(worst, std::abs(r.values[i] / scale - ref.values[i]) / ref.values[i]);
+            }
+            CHECK(all_finite);
+            CHECK(worst < 1e-12);
+        }
+    }
+    // Values whose interpolation truly exceeds the largest double (a step at DBL_MAX overshoots)
+    // are an Error naming the spectrum, never inf.
+    SampledSpectrum edge{"edge", {}, {}};
+    for (int nm = 380; nm <= 780; nm += 5) {
+        edge.wavelengths_nm.push_back(nm);
+        edge.values.push_back(nm < 580 ? 0.0 : std::numeric_limits<double>::max());
+    }
+    CHECK_THROWS_WITH_AS((void)resample_to_1nm(edge), doctest::Contains("edge"), Error);
 }

@@ -238,3 +238,81 @@ TEST_CASE("layer report: UV leakage caution names IEC 62471 and the leaked power
     thick.thickness_um = 3000;
     CHECK(layer_caution(evaluate_layer_design(thick)).empty());
 }
+
+namespace {
+
+// The InputError load_layer_design gives for a design `text` (fails the test when it loads).
+InputError design_error(const TempDir& dir, const std::string& text, std::string& path) {
+    path = dir.write("design.toml", text);
+    try {
+        (void)load_layer_design(path);
+    } catch (const InputError& e) {
+        return e;
+    }
+    FAIL("the design was accepted: " << text);
+    return InputError("", 0, "");
+}
+
+const char* kLayerBody = "[layer]\nthickness_um = 150\n[[component]]\nphosphor = 'BAM'\nloading = 0.12\n";
+
+}  // namespace
+
+TEST_CASE("layer design: a [pump] with both peak_nm and a measured spectrum is an InputError naming the file and the line") {
+    // Which one was meant cannot be known; the spectrum used to win without a word.
+    const TempDir dir;
+    std::string pump_csv = "wavelength_nm,power\n";
+    for (int nm = 360; nm <= 440; ++nm) pump_csv += std::to_string(nm) + "," + std::to_string(std::exp(-0.5 * std::pow((nm - 395) / 5.0, 2))) + "\n";
+    dir.write("pump.csv", pump_csv);
+    // The spectrum alone loads.
+    const std::string ok = dir.write("ok.toml", std::string("name = 'x'\n[pump]\nspectrum = 'pump.csv'\n") + kLayerBody);
+    CHECK(load_layer_design(ok).pump_spectrum.has_value());
+    for (const char* pump : {"peak_nm = 395\nfwhm_nm = 12\nspectrum = 'pump.csv'\n", "spectrum = 'pump.csv'\npeak_nm = 405\n",
+                             "spectrum = 'pump.csv'\nfwhm_nm = 12\n"}) {
+        const std::string p = pump;
+        CAPTURE(p);
+        std::string path;
+        const InputError e = design_error(dir, "name = 'x'\n[pump]\n" + p + kLayerBody, path);
+        const std::string what = e.what();
+        CAPTURE(what);
+        CHECK(what.find(path) != std::string::npos);
+        CHECK(e.line() >= 3);
+        CHECK(e.line() <= 5);
+        CHECK(what.find("spectrum") != std::string::npos);
+        CHECK(what.find("not both") != std::string::npos);
+    }
+}
+
+TEST_CASE("layer design: min_loading above max_loading is an InputError naming the file, the line and both values") {
+    const TempDir dir;
+    const std::string head = "name = 'x'\n[pump]\npeak_nm = 395\nfwhm_nm = 12\n[layer]\nthickness_um = 150\n[[component]]\nphosphor = 'BAM'\n";
+    {
+        std::string path;
+        const InputError e = design_error(dir, head + "loading = 0.12\nmin_loading = 0.2\nmax_loading = 0.1\n", path);
+        const std::string what = e.what();
+        CAPTURE(what);
+        CHECK(what.find(path) != std::string::npos);
+        CHECK(e.line() == 10);
+        CHECK(what.find("min_loading") != std::string::npos);
+        CHECK(what.find("0.2") != std::string::npos);
+        CHECK(what.find("max_loading 0.1") != std::string::npos);
+    }
+    // Each limit is a mass fraction of the layer.
+    for (const char* bad : {"min_loading = -0.1\n", "max_loading = 12\n", "max_loading = 0\n"}) {
+        const std::string b = bad;
+        CAPTURE(b);
+        std::string path;
+        const InputError e = design_error(dir, head + "loading = 0.12\n" + b, path);
+        CHECK(e.line() == 10);
+        CHECK(std::string(e.what()).find("_loading") != std::string::npos);
+    }
+    // Read, kept and written back.
+    const std::string good = dir.write("good.toml", head + "loading = 0.12\nmin_loading = 0.05\nmax_loading = 0.3\n");
+    const LayerDesign d = load_layer_design(good);
+    REQUIRE(d.components[0].min_loading.has_value());
+    REQUIRE(d.components[0].max_loading.has_value());
+    CHECK(*d.components[0].min_loading == 0.05);
+    CHECK(*d.components[0].max_loading == 0.3);
+    const LayerDesign again = load_layer_design(dir.write("again.toml", layer_design_to_toml(d)));
+    CHECK(again.components[0].min_loading == d.components[0].min_loading);
+    CHECK(again.components[0].max_loading == d.components[0].max_loading);
+}

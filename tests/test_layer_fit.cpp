@@ -88,3 +88,23 @@ TEST_CASE("layer fit: the fit command on a design writes a design that layer rep
     CHECK(header.find("pump_leak_fraction") != std::string::npos);
     CHECK(header.find("fit_loading_") != std::string::npos);
 }
+
+TEST_CASE("layer fit: min_loading and max_loading of a component bound its fitted loading") {
+    // The example is fitted to 4000 K with BAM at 0.12; with BAM held to at least 0.13 the fit must
+    // move the others, not BAM below its limit.
+    LayerFitProblem p;
+    p.design = load_layer_design(LAMPWRIGHT_SOURCE_DIR "/examples/layers/module395_150um.toml");
+    p.design.components[0].min_loading = 0.13;
+    p.design.components[2].max_loading = 0.06;
+    p.target = target_cct(4000, 0.0);
+    const LayerFitResult r = fit_layer(p);
+    CAPTURE(r.message);
+    CHECK(r.feasible);
+    CHECK(r.design.components[0].loading >= 0.13 - 1e-6);
+    CHECK(r.design.components[2].loading <= 0.06 + 1e-6);
+    // The limits are listed among the constraints.
+    int listed = 0;
+    for (const auto& c : r.constraints)
+        if (c.name.find("loading of") != std::string::npos) ++listed;
+    CHECK(listed == 2);
+}

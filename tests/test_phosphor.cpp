@@ -372,3 +372,112 @@ TEST_CASE("phosphor user folder: a repeated id is an error naming both files") {
     CHECK_THROWS_WITH_AS((void)PhosphorLibrary::with_folders({(dir.path / "nope").string()}),
                          doctest::Contains((dir.path / "nope").string().c_str()), InputError);
 }
+
+namespace {
+
+// A valid phosphor file with `emission` as its [emission] body and `thermal` appended.
+std::string phosphor_text(const std::string& emission, const std::string& thermal = "") {
+    return "id = \"Test:Grid\"\nuse = [\"lamp\"]\nmodel_note = \"test\"\n[emission]\n" + emission +  // lines 1-4
+           "source = \"test\"\n[absorption]\npoints = [[220, 1.0], [500, 0.0]]\nsource = \"test\"\n"
+           "[quantum_efficiency]\nat_254nm = 0.9\nsource = \"test\"\n" + thermal;
+}
+
+// The InputError parse_phosphor gives for `text` (fails the test when it loads).
+InputError parse_error(const std::string& text) {
+    try {
+        (void)parse_phosphor(text, "mine/grid.toml");
+    } catch (const InputError& e) {
+        return e;
+    }
+    FAIL("the file was accepted");
+    return InputError("", 0, "");
+}
+
+}  // namespace
+
+TEST_CASE("phosphor parse: a line or band peak outside the 300-900 nm emission grid is an InputError with the file and line") {
+    // The emission grid is 300-900 nm (phosphor.hpp); light beyond it would be cut off and the
+    // peak listed at the grid's edge (a line at 1000 nm listed as 300 nm).
+    struct Case {
+        const char* emission;
+        int line;
+        const char* says;
+    };
+    const Case cases[] = {
+        {"model = \"lines\"\nline_fwhm_nm = 2\nlines = [ { nm = 611, weight = 1 }, { nm = 1000, weight = 0.1 } ]\n", 7, "1000"},
+        {"model = \"lines\"\nline_fwhm_nm = 2\nlines = [ { nm = 254, weight = 1 } ]\n", 7, "254"},
+        {"model = \"bands\"\nbands = [ { peak_nm = 950, fwhm_nm = 40 } ]\n", 6, "950"},
+        {"model = \"bands\"\nbands = [ { peak_nm = 280, fwhm_nm = 20 } ]\n", 6, "280"},
+    };
+    for (const auto& c : cases) {
+        const std::string emission = c.emission;
+        CAPTURE(emission);
+        const InputError e = parse_error(phosphor_text(c.emission));
+        const std::string what = e.what();
+        CAPTURE(what);
+        CHECK(what.find("mine/grid.toml") != std::string::npos);
+        CHECK(e.line() == static_cast<std::size_t>(c.line));
+        CHECK(what.find(c.says) != std::string::npos);
+        CHECK(what.find("300-900 nm") != std::string::npos);
+    }
+    // A measured emission spectrum with no power on the grid (950-1100 nm): the file and its line.
+    const TempDir dir;
+    std::string ir = "wavelength_nm,power\n";
+    for (int nm = 950; nm <= 1100; nm += 5) ir += std::to_string(nm) + ",1\n";
+    dir.write("ir.csv", ir);
+    const std::string toml = dir.write("ir.toml", phosphor_text("model = \"measured\"\nfile = \"ir.csv\"\n"));
+    try {
+        (void)parse_phosphor(lwtest::slurp(toml), toml);
+        FAIL("a spectrum beyond the grid was accepted");
+    } catch (const InputError& e) {
+        const std::string what = e.what();
+        CHECK(what.find("ir.csv") != std::string::npos);
+        CHECK(what.find("300-900 nm") != std::string::npos);
+        CHECK(e.line() == 6);
+    }
+    // The edges themselves are inside.
+    const Phosphor p = parse_phosphor(phosphor_text("model = \"lines\"\nline_fwhm_nm = 2\nlines = [ { nm = 300 }, { nm = 900 } ]\n"), "edge.toml");
+    CHECK(p.lines.size() == 2);
+}
+
+TEST_CASE("phosphor parse: a misspelt key in any table is an InputError naming the file, the line, the key and the accepted keys") {
+    // Recipes already refuse unknown keys (TomlDoc::only_keys); a typo in [thermal] used to mean
+    // "no quenching" without a word.
+    const std::string bands = "model = \"bands\"\nbands = [ { peak_nm = 450, fwhm_nm = 50 } ]\n";
+    struct Case {
+        std::string text;
+        int line;
+        const char* key;
+        const char* known;
+    };
+    const Case cases[] = {
+        {phosphor_text(bands, "[thermal]\nquenchng = [[25, 1.0], [150, 0.8]]\n"), 15, "quenchng", "quenching"},
+        {phosphor_text(bands, "[thermal]\nquenching = [[25, 1.0], [150, 0.8]]\npeak_shift_nm_per_C = 0.05\n"), 16, "peak_shift_nm_per_C",
+         "peak_shift_nm_per_K"},
+        {phosphor_text("model = \"bands\"\nbands = [ { peak_nm = 450, fwhm = 50 } ]\n"), 6, "fwhm", "fwhm_nm"},
+        {phosphor_text("model = \"lines\"\nline_fwhm_nm = 2\nlines = [ { nm = 611, wieght = 1 } ]\n"), 7, "wieght", "weight"},
+        {phosphor_text(bands + "sauce = \"x\"\n"), 7, "sauce", "model"},
+        {phosphor_text(bands, "[density]\ng_per_cm = 5.0\n"), 15, "g_per_cm", "g_per_cm3"},
+    };
+    for (const auto& c : cases) {
+        const std::string key = c.key;
+        CAPTURE(key);
+        const InputError e = parse_error(c.text);
+        const std::string what = e.what();
+        CAPTURE(what);
+        CHECK(what.find("mine/grid.toml") != std::string::npos);
+        CHECK(e.line() == static_cast<std::size_t>(c.line));
+        CHECK(what.find(c.key) != std::string::npos);
+        CHECK(what.find(c.known) != std::string::npos);
+    }
+}
+
+TEST_CASE("phosphor parse: every shipped phosphor file still loads") {
+    const auto& all = PhosphorLibrary::builtin().all();
+    CHECK(all.size() == 19);  // the files in data/phosphors
+    for (const auto& p : all) {
+        CAPTURE(p.id);
+        CHECK(emission_summary(p).peak_nm > kEmissionFirstNm);
+        CHECK(emission_summary(p).peak_nm < kEmissionLastNm);
+    }
+}

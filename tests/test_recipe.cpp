@@ -271,6 +271,16 @@ TEST_CASE("recipe: refusals name the file, the line and the key") {
     // Every case below is a mistake a user makes; the message must point at the file, line and key
     // (recipe.hpp contract; common practice, no source). Units: nm, not micrometres or angstroms
     // (253.7 nm mercury line, IUPAC Gold Book); fractions of one, not percent.
+    SUBCASE("a recipe [pump] with a measured spectrum, which only layer designs read") {
+        // It used to be accepted and silently unused (the Gaussian of peak_nm, fwhm_nm was used).
+        expect_refused("name = \"x\"\n[pump]\npeak_nm = 395\nfwhm_nm = 12\nspectrum = \"pump.csv\"\n\n[[component]]\nphosphor = \"BAM\"\nmass_fraction = 0.5\n",
+                       5, "pump.spectrum", "layer design");
+    }
+    SUBCASE("min_fraction above max_fraction, with both values") {
+        expect_refused("name = \"x\"\nexcitation_nm = 253.7\n\n[[component]]\nphosphor = \"YOX\"\nmass_fraction = 0.5\n"
+                       "min_fraction = 0.6\nmax_fraction = 0.4\n",
+                       7, "component[1].min_fraction", "0.6 is above max_fraction 0.4");
+    }
     SUBCASE("unknown phosphor") {
         expect_refused("name = \"x\"\nexcitation_nm = 253.7\n\n[[component]]\nphosphor = \"Unobtainium:Eu\"\nmass_fraction = 0.5\n",
                        5, "component[1].phosphor", "Unobtainium:Eu");

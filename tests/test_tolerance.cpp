@@ -2,6 +2,7 @@
 // command-line options.
 #include "lampwright/phosphor/blend.hpp"
 #include "lampwright/core/error.hpp"
+#include "lampwright/core/statistics.hpp"
 #include "lampwright/phosphor/recipe.hpp"
 #include "lampwright/design/targets.hpp"
 #include "lampwright/design/tolerance.hpp"
@@ -209,6 +210,42 @@ TEST_CASE("tolerance: bad problems are errors") {
     t.weighing_sigma = {0.01};
     t.draws = 0;
     CHECK_THROWS_AS(run_tolerance(t), Error);
+}
+
+TEST_CASE("tolerance: draws with no finite chromaticity are counted as failed, never averaged or sorted") {
+    // A QE sigma of 5 (a percentage typed as a fraction, which the command line refuses) draws
+    // QE factors at zero for every phosphor of some lamps: no light, x and y are 0/0. Those lamps
+    // are failed: outside the ellipse, counted, and left out of the means and percentiles.
+    ToleranceProblem t = production("triband_4000K.toml", 4000);
+    t.weighing_sigma = {0.0};
+    t.peak_sigma_nm = {0.0};
+    t.qe_sigma = {5.0};
+    // No light has no distance from the target (not 0 steps, which would count it inside).
+    CHECK(std::isnan(macadam_steps(t.ellipse, Chromaticity{std::nan(""), std::nan("")})));
+    const ToleranceResult r = run_tolerance(t, {}, true);
+    REQUIRE(r.steps.size() == 4000);
+    std::vector<double> finite;
+    std::size_t not_finite = 0;
+    for (double s : r.steps) {
+        if (std::isfinite(s)) finite.push_back(s);
+        else ++not_finite;
+    }
+    MESSAGE(r.failed << " of " << r.draws << " draws failed");
+    CHECK(r.failed > 0);
+    CHECK(r.failed == not_finite);
+    CHECK(finite.size() + r.failed == r.draws);
+    for (double v : {r.mean_steps, r.sd_steps, r.p50, r.p90, r.p95, r.p99, r.max_steps, r.mean_x, r.mean_y, r.sd_x, r.sd_y, r.corr_xy})
+        CHECK(std::isfinite(v));
+    double sum = 0;
+    for (double s : finite) sum += s;
+    CHECK(r.mean_steps == doctest::Approx(sum / static_cast<double>(finite.size())).epsilon(1e-9));
+    std::sort(finite.begin(), finite.end());
+    CHECK(r.max_steps == finite.back());
+    CHECK(r.p50 == doctest::Approx(quantile_sorted(finite, 0.5)));
+    // The yield is over every lamp made: a failed lamp is not inside.
+    const auto inside = static_cast<std::size_t>(std::count_if(finite.begin(), finite.end(), [&](double s) { return s <= t.steps; }));
+    CHECK(r.inside == inside);
+    CHECK(r.yield == doctest::Approx(static_cast<double>(inside) / 4000.0));
 }
 
 TEST_CASE("fit command: tolerance run, reproducible, and its usage errors") {

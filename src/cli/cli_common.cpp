@@ -4,7 +4,9 @@
 
 #include "lampwright/core/version.hpp"
 
+#include <charconv>
 #include <chrono>
+#include <cmath>
 #include <ctime>
 #include <iostream>
 #include <memory>
@@ -26,6 +28,63 @@ const char* const kSafetyNotice =
     "UV sources used to excite samples injure eyes and skin (shield them, wear UV-rated eyewear);\n"
     "lamp circuits carry mains voltage. Follow local codes and licensed practice.\n";
 
+namespace {
+
+// A range bound as typed: whole values without an exponent (100000000, not 1e+08).
+std::string bound_text(double v) {
+    if (v == std::floor(v) && std::abs(v) < 1e15) return fmt::format("{:.0f}", v);
+    return fmt::format("{:g}", v);
+}
+
+bool within(double v, const NumberRange& r) {
+    return std::isfinite(v) && (r.min_exclusive ? v > r.min : v >= r.min) && v <= r.max && (!r.whole || v == std::floor(v));
+}
+
+}  // namespace
+
+std::string NumberRange::describe() const {
+    std::string s = whole ? "a whole number from " + bound_text(min) + " to " + bound_text(max)
+                    : min_exclusive ? "a number above " + bound_text(min) + " up to " + bound_text(max)
+                                    : "a number from " + bound_text(min) + " to " + bound_text(max);
+    if (!unit.empty()) s += " " + unit;
+    if (!note.empty()) s += " (" + note + ")";
+    return s;
+}
+
+void check_number(double value, const std::string& option, const NumberRange& r) {
+    if (!within(value, r)) throw UsageError{fmt::format("--{} must be {}, not {}", option, r.describe(), bound_text(value))};
+}
+
+double parse_number(const std::string& text, const std::string& option, const NumberRange& r) {
+    // std::from_chars: locale-independent, no leading blanks; a leading '+' is allowed here.
+    // It reads "nan" and "inf" as numbers, which within() then refuses as not finite.
+    const char* first = text.data();
+    const char* last = text.data() + text.size();
+    if (first != last && *first == '+') ++first;
+    double v = 0;
+    const auto [end, ec] = std::from_chars(first, last, v);
+    const bool ok = first != last && end == last && ec == std::errc() && within(v, r);
+    if (!ok) throw UsageError{fmt::format("--{} must be {}, not '{}'", option, r.describe(), text)};
+    return v;
+}
+
+std::vector<double> parse_number_list(const std::string& text, const std::string& option, const NumberRange& r) {
+    std::vector<double> out;
+    std::size_t start = 0;
+    while (true) {
+        const auto comma = text.find(',', start);
+        const std::string item = text.substr(start, comma == std::string::npos ? std::string::npos : comma - start);
+        try {
+            out.push_back(parse_number(item, option, r));
+        } catch (const UsageError&) {
+            throw UsageError{fmt::format("--{} takes {}, or one per component separated by commas, not '{}'", option, r.describe(), text)};
+        }
+        if (comma == std::string::npos) break;
+        start = comma + 1;
+    }
+    return out;
+}
+
 bool parse_command_line(int argc, char** argv, const boost::program_options::options_description& visible,
                         const std::string& positional, std::vector<std::string>* bare,
                         boost::program_options::variables_map& vm, const std::string& command) {
@@ -41,9 +100,20 @@ bool parse_command_line(int argc, char** argv, const boost::program_options::opt
     }
     try {
         po::store(po::command_line_parser(argc, argv).options(all).positional(pos).run(), vm);
-        po::notify(vm);
+        po::notify(vm);  // runs add_number_option's range checks
     } catch (const po::error& e) {
         throw UsageError{command + ": " + e.what() + " (see lampwright " + command + " --help)"};
+    } catch (const UsageError& e) {
+        throw UsageError{command + ": " + e.message};
+    }
+    // A net for any number option not declared with add_number_option: never a NaN or an
+    // infinity into the library (std::from_chars and lexical_cast both read "nan" and "inf").
+    for (const auto& [name, v] : vm) {
+        const boost::any& a = v.value();
+        const double* d = boost::any_cast<double>(&a);
+        const float* f = boost::any_cast<float>(&a);
+        if ((d && !std::isfinite(*d)) || (f && !std::isfinite(*f)))
+            throw UsageError{fmt::format("{}: --{} must be a finite number (see lampwright {} --help)", command, name, command)};
     }
     if (vm.count("help")) {
         std::cout << visible << '\n';

@@ -74,6 +74,37 @@ RunProvenance& run_provenance();
 void set_run_provenance(int argc, char** argv);
 void print_warning(const std::string& message);
 
+// The accepted range of a numeric option. Every numeric option of every command is declared with
+// add_number_option, so the help states the range and a bad value (not a number, "nan", "inf",
+// outside the range, a fraction for a whole number) is one UsageError (exit 2) naming the option,
+// the range and the unit. The ranges are those a lighting engineer would type; they are written in
+// each option's help and in README, "Numeric options".
+struct NumberRange {
+    double min = 0, max = 0;
+    std::string unit{};          // "K", "nm", "MacAdam steps", "lm/W", ...; "" for a pure number
+    bool min_exclusive = false;  // the minimum itself is refused ("above 0 up to 20")
+    bool whole = false;          // a whole number (counts, seeds, classes)
+    std::string note{};          // e.g. "a fraction: 0.01 = 1 %", added in parentheses
+    std::string describe() const;  // "a number from 1000 to 25000 K", "a whole number from 1 to 8 components"
+};
+
+// `text` as a number within `range`, or UsageError "--option must be <range>, not 'text'".
+double parse_number(const std::string& text, const std::string& option, const NumberRange& range);
+// `value` within `range`, or that UsageError.
+void check_number(double value, const std::string& option, const NumberRange& range);
+// A comma-separated list of numbers each within `range` ("0.005" or "0.005,0.01,0.002").
+std::vector<double> parse_number_list(const std::string& text, const std::string& option, const NumberRange& range);
+
+// Adds `--name` to `opts`: the value is parsed with parse_number(range) when the command line is
+// read (parse_command_line) and stored in *store; the help gets the range appended.
+template <class T>
+void add_number_option(boost::program_options::options_description& opts, const std::string& name, T* store, const NumberRange& range,
+                       const std::string& help) {
+    auto* value = boost::program_options::value<std::string>()->value_name(range.whole ? "N" : "X")->notifier(
+        [store, name, range](const std::string& text) { *store = static_cast<T>(parse_number(text, name, range)); });
+    opts.add_options()(name.c_str(), value, (help + " [" + range.describe() + "]").c_str());
+}
+
 // Parses a sub-command's options; `positional` (may be empty) collects the bare arguments.
 // Returns false when --help was given (the help has been printed).
 bool parse_command_line(int argc, char** argv, const boost::program_options::options_description& visible,

@@ -27,39 +27,49 @@ namespace lampwright::cli {
 
 namespace {
 
-std::pair<double, double> parse_pair(const std::string& s, const std::string& option) {
+// The ranges of fit's numeric options (cli_common.hpp, NumberRange). Targets: CCT 1000-25000 K
+// (the Planckian range of white-light targets, CIE 15:2004 9.5 for Duv within +-0.05); the index
+// floors span what CIE 13.3 can give (R9 of real sources goes well below -100; common practice,
+// no source); LER can never exceed 683 lm/W (the peak of V(lambda), CIE 15:2004); sigmas are
+// fractions, not percentages, and a sigma of 50 % of a mass or a QE is already no process.
+const NumberRange kCctRange{.min = 1000, .max = 25000, .unit = "K"};
+const NumberRange kDuvRange{.min = -0.05, .max = 0.05, .unit = "Duv"};
+const NumberRange kStepsRange{.min = 0, .max = 20, .unit = "MacAdam steps", .min_exclusive = true};
+const NumberRange kR9WeightRange{.min = 0, .max = 1};
+const NumberRange kToleranceRange{.min = 0, .max = 0.05, .unit = "delta u'v'", .min_exclusive = true};
+const NumberRange kMinRaRange{.min = -100, .max = 100, .unit = "Ra"};
+const NumberRange kMinR9Range{.min = -300, .max = 100, .unit = "R9"};
+const NumberRange kMinLerRange{.min = 0, .max = 683, .unit = "lm/W", .note = "683 lm/W is the most any light can reach"};
+const NumberRange kAnsiRange{.min = 2200, .max = 6500, .unit = "K", .whole = true};
+const NumberRange kPointsRange{.min = 2, .max = 1000, .unit = "points", .whole = true};
+const NumberRange kChooseRange{.min = 1, .max = 8, .unit = "components", .whole = true};
+const NumberRange kDrawsRange{.min = 1, .max = 100000000, .unit = "draws", .whole = true};
+const NumberRange kSeedRange{.min = 0, .max = 4294967295.0, .whole = true};
+const NumberRange kWeighingSigmaRange{.min = 0, .max = 0.5,
+                                      .note = "a fraction of each component's mass: 0.005 = 0.5 %; with --weighing-absolute in mass-fraction units"};
+const NumberRange kPeakSigmaRange{.min = 0, .max = 20, .unit = "nm"};
+const NumberRange kQeSigmaRange{.min = 0, .max = 0.5, .note = "a fraction of the QE: 0.01 = 1 %, not a percentage"};
+// Chromaticity coordinates of a target (CIE 15:2004): x, y and u', v' all lie in (0, 1).
+const NumberRange kXRange{.min = 0, .max = 1, .unit = "(CIE 1931 x or y)", .min_exclusive = true};
+const NumberRange kUvRange{.min = 0, .max = 1, .unit = "(CIE 1976 u' or v')", .min_exclusive = true};
+
+std::pair<double, double> parse_pair(const std::string& s, const std::string& option, const NumberRange& range) {
     const auto comma = s.find(',');
+    if (comma == std::string::npos || s.find(',', comma + 1) != std::string::npos)
+        throw UsageError{fmt::format("fit: --{} needs two numbers separated by a comma (e.g. 0.3805,0.3768), not '{}'", option, s)};
     try {
-        if (comma == std::string::npos) throw std::invalid_argument("no comma");
-        std::size_t used1 = 0, used2 = 0;
-        const std::string a = s.substr(0, comma), b = s.substr(comma + 1);
-        const double x = std::stod(a, &used1), y = std::stod(b, &used2);
-        if (used1 != a.size() || used2 != b.size()) throw std::invalid_argument("trailing text");
-        return {x, y};
-    } catch (const std::exception&) {
-        throw UsageError{fmt::format("fit: {} needs two numbers separated by a comma (e.g. 0.3805,0.3768), not '{}'", option, s)};
+        return {parse_number(s.substr(0, comma), option, range), parse_number(s.substr(comma + 1), option, range)};
+    } catch (const UsageError& e) {
+        throw UsageError{fmt::format("fit: {} (in '{}')", e.message, s)};
     }
 }
 
-
-std::vector<double> parse_list(const std::string& s, const std::string& option) {
-    std::vector<double> out;
-    std::size_t start = 0;
-    while (true) {
-        const auto comma = s.find(',', start);
-        const std::string item = s.substr(start, comma == std::string::npos ? std::string::npos : comma - start);
-        try {
-            std::size_t used = 0;
-            const double v = std::stod(item, &used);
-            if (used != item.size() || !std::isfinite(v) || v < 0) throw std::invalid_argument("bad");
-            out.push_back(v);
-        } catch (const std::exception&) {
-            throw UsageError{fmt::format("fit: {} takes a number >= 0, or one per component separated by commas, not '{}'", option, s)};
-        }
-        if (comma == std::string::npos) break;
-        start = comma + 1;
+std::vector<double> parse_list(const std::string& s, const std::string& option, const NumberRange& range) {
+    try {
+        return parse_number_list(s, option, range);
+    } catch (const UsageError& e) {
+        throw UsageError{"fit: " + e.message};
     }
-    return out;
 }
 
 }  // namespace
@@ -110,32 +120,39 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     int ansi = 0, points = 30, choose = 0;
     std::string front, front_csv_path, front_svg_path, weighing_sigma = "0", peak_sigma = "0", qe_sigma = "0";
     long long draws = 100000, seed = 1;
-    opts.add_options()("help,h", "show this help")("cct", po::value(&cct), "target CCT, K")("duv", po::value(&duv), "target Duv (with --cct)")
-        ("xy", po::value(&xy), "target x,y")("uv", po::value(&uv), "target u',v'")("ansi", po::value(&ansi), "ANSI C78.377 nominal CCT class")
-        ("flamp", po::value(&flamp), "ANSI C78.376 lamp colour, e.g. F4100")("steps", po::value(&steps), "MacAdam ellipse size with --flamp (default 4)")
-        ("maximize", po::value(&maximize), "ra | r9 | ra-r9 | ler | efficacy; default: the smallest change from the recipe")
-        ("r9-weight", po::value(&r9_weight), "k in (1-k) Ra + k R9 for --maximize ra-r9 (default 0.5)")
-        ("tolerance", po::value(&tolerance), "chromaticity tolerance, delta u'v' (default 0.0005; not with --flamp)")
-        ("min-ra", po::value<double>(), "require Ra >= this")("min-r9", po::value<double>(), "require R9 >= this")
-        ("min-ler", po::value<double>(), "require LER >= this (lm/W)")
-        ("method", po::value(&method), "auto | exact | nlopt (default auto)")
+    double min_ra = 0, min_r9 = 0, min_ler = 0;
+    opts.add_options()("help,h", "show this help");
+    add_number_option(opts, "cct", &cct, kCctRange, "target CCT");
+    add_number_option(opts, "duv", &duv, kDuvRange, "target Duv (with --cct; default 0)");
+    opts.add_options()("xy", po::value(&xy), "target x,y (each above 0, below 1)")("uv", po::value(&uv), "target u',v' (each above 0, below 1)");
+    add_number_option(opts, "ansi", &ansi, kAnsiRange, "ANSI C78.377 nominal CCT class");
+    opts.add_options()("flamp", po::value(&flamp), "ANSI C78.376 lamp colour, e.g. F4100");
+    add_number_option(opts, "steps", &steps, kStepsRange, "MacAdam ellipse size with --flamp or --tolerance-run (default 4)");
+    opts.add_options()("maximize", po::value(&maximize), "ra | r9 | ra-r9 | ler | efficacy; default: the smallest change from the recipe");
+    add_number_option(opts, "r9-weight", &r9_weight, kR9WeightRange, "k in (1-k) Ra + k R9 for --maximize ra-r9 (default 0.5)");
+    add_number_option(opts, "tolerance", &tolerance, kToleranceRange, "chromaticity tolerance, delta u'v' (default 0.0005; not with --flamp)");
+    add_number_option(opts, "min-ra", &min_ra, kMinRaRange, "require Ra >= this");
+    add_number_option(opts, "min-r9", &min_r9, kMinR9Range, "require R9 >= this");
+    add_number_option(opts, "min-ler", &min_ler, kMinLerRange, "require LER >= this");
+    opts.add_options()("method", po::value(&method), "auto | exact | nlopt (default auto)")
         ("sensitivity", "text format: also print what one percentage point more of each component does to u', v', CCT, Duv, Ra")
         ("recipe-out", po::value(&recipe_out), "write the fitted recipe (TOML, loadable by 'blend')")
         ("format,f", po::value(&format), "text | csv | json (default text)")
         ("phosphors", po::value(&folders), "a folder of your own phosphor files (*.toml); repeatable")
-        ("front", po::value(&front), "ra-efficacy | ra-ler | ra-r9: compute the trade-off front instead of one fit")
-        ("points", po::value(&points), "points on the front (default 30)")
-        ("front-csv", po::value(&front_csv_path), "write the front as CSV")
-        ("front-svg", po::value(&front_svg_path), "write the front as an SVG chart")
-        ("choose", po::value(&choose), "use the best K of the recipe's components")
-        ("tolerance-run", "Monte Carlo production tolerance of the fitted recipe")
-        ("draws", po::value(&draws), "Monte Carlo draws (default 100000)")
-        ("weighing-sigma", po::value(&weighing_sigma), "weighing error sigma, relative to each component's mass (0.005 = 0.5 %)")
+        ("front", po::value(&front), "ra-efficacy | ra-ler | ra-r9: compute the trade-off front instead of one fit");
+    add_number_option(opts, "points", &points, kPointsRange, "points on the front (default 30)");
+    opts.add_options()("front-csv", po::value(&front_csv_path), "write the front as CSV")
+        ("front-svg", po::value(&front_svg_path), "write the front as an SVG chart");
+    add_number_option(opts, "choose", &choose, kChooseRange, "use the best K of the recipe's components");
+    opts.add_options()("tolerance-run", "Monte Carlo production tolerance of the fitted recipe");
+    add_number_option(opts, "draws", &draws, kDrawsRange, "Monte Carlo draws (default 100000)");
+    opts.add_options()("weighing-sigma", po::value(&weighing_sigma),
+                       ("weighing error sigma, relative to each component's mass; one, or one per component [" + kWeighingSigmaRange.describe() + "]").c_str())
         ("weighing-absolute", "--weighing-sigma is in mass-fraction units instead")
-        ("peak-sigma", po::value(&peak_sigma), "phosphor lot emission peak shift sigma, nm")
-        ("qe-sigma", po::value(&qe_sigma), "phosphor lot QE sigma, relative (0.01 = 1 %)")
-        ("seed", po::value(&seed), "random-number seed (default 1)")
-        ("fit-thickness", "LED layer designs: fit the layer thickness as well as the loadings");
+        ("peak-sigma", po::value(&peak_sigma), ("phosphor lot emission peak shift sigma; one, or one per component [" + kPeakSigmaRange.describe() + "]").c_str())
+        ("qe-sigma", po::value(&qe_sigma), ("phosphor lot QE sigma, relative; one, or one per component [" + kQeSigmaRange.describe() + "]").c_str());
+    add_number_option(opts, "seed", &seed, kSeedRange, "random-number seed (default 1)");
+    opts.add_options()("fit-thickness", "LED layer designs: fit the layer thickness as well as the loadings");
     po::variables_map vm;
     if (!parse_command_line(argc, argv, opts, "recipe", &recipes, vm, "fit")) return kExitOk;
     const Format f = parse_format(format);
@@ -145,18 +162,13 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     if (vm.count("duv") && !vm.count("cct")) throw UsageError{"fit: --duv goes with --cct"};
     const bool tolerance_run = vm.count("tolerance-run") > 0;
     if (vm.count("steps") && !vm.count("flamp") && !tolerance_run) throw UsageError{"fit: --steps goes with --flamp or --tolerance-run"};
-    if (vm.count("steps") && !(steps > 0)) throw UsageError{"fit: --steps must be positive"};
     const bool want_front = vm.count("front") > 0;
     for (const char* o : {"points", "front-csv", "front-svg"})
         if (vm.count(o) && !want_front) throw UsageError{fmt::format("fit: --{} goes with --front", o)};
     for (const char* o : {"maximize", "choose", "tolerance-run", "recipe-out", "sensitivity"})
         if (want_front && vm.count(o)) throw UsageError{fmt::format("fit: --front sets its own objective and gives many blends; --{} does not apply", o)};
-    if (want_front && !(points >= 2 && points <= 1000)) throw UsageError{"fit: --points must lie between 2 and 1000"};
     for (const char* o : {"draws", "weighing-sigma", "weighing-absolute", "peak-sigma", "qe-sigma", "seed"})
         if (vm.count(o) && !tolerance_run) throw UsageError{fmt::format("fit: --{} goes with --tolerance-run", o)};
-    if (tolerance_run && !(draws >= 1 && draws <= 100000000)) throw UsageError{"fit: --draws must lie between 1 and 100000000"};
-    if (tolerance_run && seed < 0) throw UsageError{"fit: --seed must be zero or positive"};
-    if (vm.count("choose") && !(choose >= 1 && choose <= 8)) throw UsageError{"fit: --choose takes a number of components from 1 to 8"};
     std::optional<FrontKind> front_kind;
     if (want_front) {
         try {
@@ -168,8 +180,8 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
             throw UsageError{fmt::format("fit: --front {} sweeps the {} floor itself; drop --min-{}", front, front_floor_label(*front_kind),
                                          *front_kind == FrontKind::ra_r9 ? "r9" : "ra")};
     }
-    const std::vector<double> sw = parse_list(weighing_sigma, "--weighing-sigma"), sp = parse_list(peak_sigma, "--peak-sigma"),
-                              sq = parse_list(qe_sigma, "--qe-sigma");
+    const std::vector<double> sw = parse_list(weighing_sigma, "weighing-sigma", kWeighingSigmaRange),
+                              sp = parse_list(peak_sigma, "peak-sigma", kPeakSigmaRange), sq = parse_list(qe_sigma, "qe-sigma", kQeSigmaRange);
     if (tolerance_run) {
         bool any = false;
         for (const auto* v : {&sw, &sp, &sq})
@@ -177,17 +189,16 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
         if (!any) throw UsageError{"fit: --tolerance-run needs a sigma above zero: --weighing-sigma, --peak-sigma or --qe-sigma"};
     }
     if (vm.count("tolerance") && vm.count("flamp")) throw UsageError{"fit: --flamp uses its MacAdam ellipse; --tolerance does not apply"};
-    if (!(tolerance > 0)) throw UsageError{"fit: --tolerance must be positive"};
 
     FitProblem p;
     try {
         if (vm.count("cct")) p.target = target_cct(cct, duv);
         if (vm.count("xy")) {
-            const auto [x, y] = parse_pair(xy, "--xy");
+            const auto [x, y] = parse_pair(xy, "xy", kXRange);
             p.target = target_xy(x, y);
         }
         if (vm.count("uv")) {
-            const auto [u, v] = parse_pair(uv, "--uv");
+            const auto [u, v] = parse_pair(uv, "uv", kUvRange);
             p.target = target_uv_prime(u, v);
         }
         if (vm.count("ansi")) p.target = target_ansi_c78377(ansi);
@@ -205,9 +216,9 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     else if (method != "auto") throw UsageError{"fit: --method must be auto, exact or nlopt"};
     p.r9_weight = r9_weight;
     p.tolerance_uv_prime = tolerance;
-    if (vm.count("min-ra")) p.min_ra = vm["min-ra"].as<double>();
-    if (vm.count("min-r9")) p.min_r9 = vm["min-r9"].as<double>();
-    if (vm.count("min-ler")) p.min_ler = vm["min-ler"].as<double>();
+    if (vm.count("min-ra")) p.min_ra = min_ra;
+    if (vm.count("min-r9")) p.min_r9 = min_r9;
+    if (vm.count("min-ler")) p.min_ler = min_ler;
 
     std::vector<FileRole> inputs{{recipes.front(), "the recipe"}};
     add_inputs(inputs, folders, "--phosphors folder");
@@ -307,6 +318,10 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
         const auto t1 = std::chrono::steady_clock::now();
         tr = naming_input(recipe.path, [&] { return run_tolerance(*tp, progress); }, "tolerance run: ");
         tms = std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - t1).count();
+        if (tr->failed > 0)
+            print_warning(fmt::format("tolerance run: {} of {} draws gave no light (every QE drawn at zero or below) and no chromaticity: "
+                                      "they count as outside the ellipse and are left out of the means, sds and percentiles",
+                                      tr->failed, tr->draws));
     }
     for (const auto& w : r.result.assessment.warnings) print_warning(fmt::format("{}: {}", r.result.name, w));
 

@@ -38,7 +38,7 @@ other lamp was judged), 4 some lamps failed, 8 the report or the database could 
 )") + kSafetyNotice + "\nOptions");
     std::string format = "text", report, db, lot_id, recipe, recipe_out;
     bool record = false;
-    int threads = 0;  // signed, so "-1" is refused rather than read as 4294967295
+    int threads = 0;  // 0 = all cores; --threads is checked by its range, so "-1" is never read as 4294967295
     std::vector<std::string> args;
     opts.add_options()("help,h", "show this help")("format,f", po::value(&format), "text | csv | json (default text)")
         ("report", po::value(&report), "write a self-contained HTML report to this file")
@@ -46,12 +46,13 @@ other lamp was judged), 4 some lamps failed, 8 the report or the database could 
         ("db", po::value(&db), "history database (default lampwright.db in this folder); implies --record")
         ("lot", po::value(&lot_id), "lot id for the history, with --record (default: lot-, the UTC time to the millisecond and a random suffix)")
         ("recipe", po::value(&recipe), "the recipe this lot was made with: print a corrected recipe (in the JSON too)")
-        ("recipe-out", po::value(&recipe_out), "with --recipe: write the corrected recipe (TOML, loadable by blend and fit)")
-        ("threads", po::value(&threads), "worker threads, a whole number >= 1; at most one per core is used (default: all cores)");
+        ("recipe-out", po::value(&recipe_out), "with --recipe: write the corrected recipe (TOML, loadable by blend and fit)");
+    // More than the cores is allowed (and capped): a script need not know the machine.
+    add_number_option(opts, "threads", &threads, NumberRange{.min = 1, .max = 1000000, .unit = "threads", .whole = true},
+                      "worker threads; at most one per core is used (default: all cores)");
     po::variables_map vm;
     if (!parse_command_line(argc, argv, opts, "input", &args, vm, "qc")) return kExitOk;
     const Format f = parse_format(format);
-    if (vm.count("threads") && threads < 1) throw UsageError{fmt::format("qc: --threads must be a whole number >= 1, not {}", threads)};
     if (args.size() < 2) throw UsageError{"qc: give a spec file and at least one spectrum file or folder (see lampwright qc --help)"};
     if (!recipe_out.empty() && recipe.empty()) throw UsageError{"qc: --recipe-out needs --recipe (the recipe the lot was made with)"};
     // A lot id that is not recorded would be dropped without a word: refuse it instead.

@@ -9,6 +9,12 @@
 
 namespace lampwright {
 
+namespace {
+// Values above this are interpolated scaled (resample_to_1nm); below it the interpolation cannot
+// overflow (its coefficients are below 1e3) and the values are used as they are, bit for bit.
+constexpr double kScaleValuesAbove = 1e250;
+}  // namespace
+
 bool is_uniformly_spaced(const std::vector<double>& x) {
     if (x.size() < 2) return false;
     const double step = (x.back() - x.front()) / static_cast<double>(x.size() - 1);
@@ -118,11 +124,31 @@ Spectrum resample_to_1nm(const SampledSpectrum& s) {
     std::vector<double> grid;
     for (int nm = first; nm <= last; ++nm) grid.push_back(nm);
     Spectrum out{s.name, first, {}};
+    // Huge finite values (a file in odd units, 1e306 and up) would overflow inside the
+    // interpolation: Sprague's end extension multiplies them by up to 3033/209 (CIE 167:2005,
+    // Table 2) and pchip divides differences by steps under 1 nm. Both are linear in the values,
+    // so the values are interpolated scaled by a power of two (exact: only the exponent changes)
+    // and scaled back; only a result truly beyond the largest double is refused.
+    double largest = 0;
+    for (double v : s.values) largest = std::max(largest, std::abs(v));
+    int exponent = 0;
+    if (largest > kScaleValuesAbove) (void)std::frexp(largest, &exponent);
+    std::vector<double> y = s.values;
+    if (exponent != 0)
+        for (double& v : y) v = std::ldexp(v, -exponent);
     if (is_uniformly_spaced(x) && x.size() >= 6) {
         const double step = (x.back() - x.front()) / static_cast<double>(x.size() - 1);
-        out.values = sprague_interpolate(x.front(), step, s.values, grid);
+        out.values = sprague_interpolate(x.front(), step, y, grid);
     } else {
-        out.values = pchip_interpolate(x, s.values, grid);
+        out.values = pchip_interpolate(x, y, grid);
+    }
+    if (exponent != 0) {
+        for (double& v : out.values) v = std::ldexp(v, exponent);
+        for (std::size_t i = 0; i < out.values.size(); ++i)
+            if (!std::isfinite(out.values[i]))
+                throw Error(fmt::format("spectrum '{}': the interpolated value at {} nm exceeds the largest number a double holds (values up to {:g}); "
+                                        "rescale the file",
+                                        s.name, first + static_cast<int>(i), largest));
     }
     return out;
 }

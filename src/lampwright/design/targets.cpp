@@ -101,7 +101,11 @@ MacAdamEllipse macadam_ellipse(const Chromaticity& centre, double a, double b, d
 
 double macadam_steps(const MacAdamEllipse& e, const Chromaticity& xy) {
     const double dx = xy.x - e.centre.x, dy = xy.y - e.centre.y;
-    return std::sqrt(std::max(0.0, e.g11 * dx * dx + 2 * e.g12 * dx * dy + e.g22 * dy * dy));
+    const double q = e.g11 * dx * dx + 2 * e.g12 * dx * dy + e.g22 * dy * dy;
+    // A chromaticity that is not a number (no light: 0/0) has no distance: NaN, never the 0 that
+    // std::max(0.0, NaN) would give (which counted such a lamp as on the target).
+    if (std::isnan(q)) return q;
+    return std::sqrt(std::max(0.0, q));
 }
 
 Chromaticity xy_from_cct_duv(double cct_K, double duv) {

@@ -9,6 +9,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <limits>
 #include <numeric>
 
 namespace lampwright {
@@ -195,44 +196,60 @@ ToleranceResult run_tolerance(const ToleranceProblem& p, const ToleranceProgress
     }
     std::vector<double> steps(p.draws);
     ToleranceDraw d;
-    // Welford's running moments (common practice).
+    // Welford's running moments (common practice), over the draws with a finite chromaticity only:
+    // a draw that gives no light (every QE factor drawn at 0) is a failed lamp, counted in
+    // r.failed and outside the ellipse, and never averaged or sorted as a number.
     double mean_s = 0, m2_s = 0, mx = 0, my = 0, cxx = 0, cyy = 0, cxy = 0;
+    std::size_t good = 0;
     const std::size_t every = std::max<std::size_t>(1, p.draws / 100);
     for (std::size_t k = 0; k < p.draws; ++k) {
         sampler.next(d);
         const Chromaticity xy = model.chromaticity(d);
         const double s = macadam_steps(p.ellipse, xy);
         steps[k] = s;
-        if (s <= p.steps) ++r.inside;
-        const double nk = static_cast<double>(k + 1);
-        const double ds = s - mean_s;
-        mean_s += ds / nk;
-        m2_s += ds * (s - mean_s);
-        const double dx = xy.x - mx, dy = xy.y - my;
-        mx += dx / nk;
-        my += dy / nk;
-        cxx += dx * (xy.x - mx);
-        cyy += dy * (xy.y - my);
-        cxy += dx * (xy.y - my);
+        if (!std::isfinite(s) || !std::isfinite(xy.x) || !std::isfinite(xy.y)) {
+            steps[k] = std::numeric_limits<double>::quiet_NaN();
+            ++r.failed;
+        } else {
+            if (s <= p.steps) ++r.inside;
+            ++good;
+            const double nk = static_cast<double>(good);
+            const double ds = s - mean_s;
+            mean_s += ds / nk;
+            m2_s += ds * (s - mean_s);
+            const double dx = xy.x - mx, dy = xy.y - my;
+            mx += dx / nk;
+            my += dy / nk;
+            cxx += dx * (xy.x - mx);
+            cyy += dy * (xy.y - my);
+            cxy += dx * (xy.y - my);
+        }
         if (progress && ((k + 1) % every == 0 || k + 1 == p.draws)) progress(k + 1, p.draws);
     }
-    const double N = static_cast<double>(p.draws);
+    if (good == 0)
+        throw Error(fmt::format("no draw of {} gave a finite chromaticity (every lamp without light): the sigmas are too large", p.draws));
+    const double N = static_cast<double>(p.draws), G = static_cast<double>(good);
     r.mean_steps = mean_s;
-    r.sd_steps = p.draws > 1 ? std::sqrt(m2_s / (N - 1)) : 0.0;
+    r.sd_steps = good > 1 ? std::sqrt(m2_s / (G - 1)) : 0.0;
     r.mean_x = mx;
     r.mean_y = my;
-    r.sd_x = p.draws > 1 ? std::sqrt(cxx / (N - 1)) : 0.0;
-    r.sd_y = p.draws > 1 ? std::sqrt(cyy / (N - 1)) : 0.0;
+    r.sd_x = good > 1 ? std::sqrt(cxx / (G - 1)) : 0.0;
+    r.sd_y = good > 1 ? std::sqrt(cyy / (G - 1)) : 0.0;
     r.corr_xy = cxx > 0 && cyy > 0 ? cxy / std::sqrt(cxx * cyy) : 0.0;
+    // The yield is over every lamp made: a failed lamp is not inside.
     r.yield = static_cast<double>(r.inside) / N;
     r.yield_standard_error = std::sqrt(r.yield * (1 - r.yield) / N);
     if (keep_steps) r.steps = steps;
-    std::sort(steps.begin(), steps.end());
-    r.p50 = quantile_sorted(steps, 0.50);
-    r.p90 = quantile_sorted(steps, 0.90);
-    r.p95 = quantile_sorted(steps, 0.95);
-    r.p99 = quantile_sorted(steps, 0.99);
-    r.max_steps = steps.back();
+    std::vector<double> sorted;
+    sorted.reserve(good);
+    for (double s : steps)
+        if (std::isfinite(s)) sorted.push_back(s);
+    std::sort(sorted.begin(), sorted.end());
+    r.p50 = quantile_sorted(sorted, 0.50);
+    r.p90 = quantile_sorted(sorted, 0.90);
+    r.p95 = quantile_sorted(sorted, 0.95);
+    r.p99 = quantile_sorted(sorted, 0.99);
+    r.max_steps = sorted.back();
     return r;
 }
 

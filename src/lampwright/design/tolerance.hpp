@@ -68,9 +68,13 @@ struct ToleranceResult {
     double p50 = 0, p90 = 0, p95 = 0, p99 = 0, max_steps = 0;
     double mean_x = 0, mean_y = 0, sd_x = 0, sd_y = 0, corr_xy = 0;
     std::size_t inside = 0;           // draws within steps_limit
+    // Draws whose chromaticity is not a finite number (every phosphor's QE drawn at zero: no
+    // light, x = y = 0/0): failed lamps, outside the ellipse, left out of the means, standard
+    // deviations and percentiles above (which are over the draws - failed others).
+    std::size_t failed = 0;
     double yield = 0;                 // inside / draws
     double yield_standard_error = 0;  // sqrt(p (1 - p) / N)
-    std::vector<double> steps;        // per draw, when kept
+    std::vector<double> steps;        // per draw, when kept (NaN for a failed draw)
 };
 
 // The one-step ellipse for a target: its own (ANSI C78.376 targets), else the one-step ellipse of

@@ -31,6 +31,9 @@ struct LayerComponent {
     Phosphor phosphor;
     double loading = 0;  // mass fraction of this phosphor in the layer (phosphor + binder)
     std::optional<double> quantum_efficiency;  // overrides the phosphor's QE under the pump
+    // Limits on the fitted loading (design keys min_loading, max_loading; fit_layer honours them,
+    // evaluate_layer ignores them).
+    std::optional<double> min_loading{}, max_loading{};
 };
 
 struct LayerDesign {

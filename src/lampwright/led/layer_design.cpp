@@ -39,6 +39,11 @@ LayerDesign layer_design_from_toml(const TomlDoc& doc, const std::vector<std::st
     if (!pump) doc.fail(&r, "", "missing [pump] (peak_nm and fwhm_nm, or spectrum)");
     doc.only_keys(*pump, {"peak_nm", "fwhm_nm", "power_W", "spectrum"}, "pump");
     if (auto file = doc.string(*pump, "spectrum", "pump")) {
+        // A measured pump replaces the Gaussian: a peak or width beside it would be silently unused.
+        for (const char* k : {"peak_nm", "fwhm_nm"})
+            if (pump->get(k))
+                doc.fail(pump->get(k), key_path("pump", k),
+                         fmt::format("give either a measured 'spectrum' or peak_nm and fwhm_nm, not both (the spectrum sets the pump's shape)"));
         d.pump_spectrum = read_one_spectrum(doc, pump->get("spectrum"), "pump.spectrum", path_relative_to(doc.source(), *file));
         const auto& v = d.pump_spectrum->values;
         const auto peak = static_cast<double>(std::max_element(v.begin(), v.end()) - v.begin()) + d.pump_spectrum->first_nm;
@@ -134,6 +139,20 @@ LayerDesign layer_design_from_toml(const TomlDoc& doc, const std::vector<std::st
             lc.quantum_efficiency = *q;
         }
         lc.label = doc.string(*c, "label", where).value_or(lc.phosphor.id);
+        // Limits for the fit, as mass fractions of the layer like the loading itself.
+        if (auto v = doc.number(*c, "min_loading", where)) {
+            if (*v < 0 || *v >= 1)
+                doc.fail(c->get("min_loading"), key_path(where, "min_loading"), fmt::format("must be a mass fraction in [0, 1), not {:g} (percent?)", *v));
+            lc.min_loading = *v;
+        }
+        if (auto v = doc.number(*c, "max_loading", where)) {
+            if (!(*v > 0) || *v >= 1)
+                doc.fail(c->get("max_loading"), key_path(where, "max_loading"), fmt::format("must be a mass fraction in (0, 1), not {:g} (percent?)", *v));
+            lc.max_loading = *v;
+        }
+        if (lc.min_loading && lc.max_loading && *lc.min_loading > *lc.max_loading)
+            doc.fail(c->get("min_loading"), key_path(where, "min_loading"),
+                     fmt::format("{:g} is above max_loading {:g}", *lc.min_loading, *lc.max_loading));
         try {
             (void)absorption_for(lc.phosphor, d.pump.fwhm_nm > 0 ? d.pump : Excitation::led(d.pump.peak_nm, 1.0));
             if (!lc.quantum_efficiency) (void)quantum_efficiency_for(lc.phosphor, d.pump);
@@ -167,6 +186,8 @@ std::string layer_design_to_toml(const LayerDesign& d) {
         if (c.label != c.phosphor.id) o += fmt::format("label = {}\n", toml_quote(c.label));
         o += fmt::format("loading = {:.6f}\n", c.loading);
         if (c.quantum_efficiency) o += fmt::format("quantum_efficiency = {:g}\n", *c.quantum_efficiency);
+        if (c.min_loading) o += fmt::format("min_loading = {:g}\n", *c.min_loading);
+        if (c.max_loading) o += fmt::format("max_loading = {:g}\n", *c.max_loading);
     }
     return o;
 }

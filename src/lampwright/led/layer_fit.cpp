@@ -89,12 +89,21 @@ LayerFitResult fit_layer(const LayerFitProblem& p, int max_evaluations) {
     Context ctx{&p};
     const unsigned m = static_cast<unsigned>(n + (p.fit_thickness ? 1 : 0));
     std::vector<double> lower(m, std::log(1e-5)), upper(m, std::log(p.max_total_loading));
+    // A component's own min_loading / max_loading narrow its bounds (kept by NLopt as box bounds).
+    for (std::size_t i = 0; i < n; ++i) {
+        const auto& c = p.design.components[i];
+        if (c.min_loading) lower[i] = std::max(lower[i], std::log(std::max(*c.min_loading, 1e-5)));
+        if (c.max_loading) upper[i] = std::min(upper[i], std::log(std::max(*c.max_loading, 1e-5)));
+        if (lower[i] > upper[i])
+            throw Error(fmt::format("component '{}': min_loading {:g} is above its upper limit {:g} (max_loading or the total loading limit)", c.label,
+                                    std::exp(lower[i]), std::exp(upper[i])));
+    }
     if (p.fit_thickness) lower.back() = std::log(p.min_thickness_um), upper.back() = std::log(p.max_thickness_um);
     if (p.design.thickness_um <= 0 && !p.fit_thickness) throw Error("a layer of zero thickness cannot be fitted by its loadings: fit the thickness too");
 
     // Phase 1: onto the target, from the start and from deterministic variations of it.
     std::vector<double> start(m);
-    for (std::size_t i = 0; i < n; ++i) start[i] = std::log(std::clamp(p.design.components[i].loading, 1e-5, p.max_total_loading));
+    for (std::size_t i = 0; i < n; ++i) start[i] = std::clamp(std::log(std::max(p.design.components[i].loading, 1e-5)), lower[i], upper[i]);
     if (p.fit_thickness) start.back() = std::log(std::clamp(p.design.thickness_um, p.min_thickness_um, p.max_thickness_um));
     std::vector<std::vector<double>> starts{start};
     for (double scale : {0.5, 2.0})
@@ -188,6 +197,11 @@ LayerFitResult fit_layer(const LayerFitProblem& p, int max_evaluations) {
         add("delta u'v' from the target", r.distance_uv_prime, p.tolerance_uv_prime, r.distance_uv_prime <= p.tolerance_uv_prime * 1.001,
             r.distance_uv_prime > 0.95 * p.tolerance_uv_prime);
     add("total loading", total, p.max_total_loading, total <= p.max_total_loading, total > 0.99 * p.max_total_loading);
+    // The design's own limits (the loadings were rounded to 6 decimals: a 1e-6 slack).
+    for (const auto& c : r.design.components) {
+        if (c.min_loading) add("loading of " + c.label + " >=", c.loading, *c.min_loading, c.loading >= *c.min_loading - 1e-6, c.loading < *c.min_loading + 1e-4);
+        if (c.max_loading) add("loading of " + c.label + " <=", c.loading, *c.max_loading, c.loading <= *c.max_loading + 1e-6, c.loading > *c.max_loading - 1e-4);
+    }
     if (p.min_ra) add("Ra minimum", ra, *p.min_ra, ra >= *p.min_ra - 1e-6, std::abs(ra - *p.min_ra) < 0.05);
     if (p.min_r9) add("R9 minimum", r9, *p.min_r9, r9 >= *p.min_r9 - 1e-6, std::abs(r9 - *p.min_r9) < 0.05);
     r.feasible = true;

@@ -54,6 +54,18 @@ void require_positive(const TomlDoc& doc, const toml::table& t, const std::strin
     if (!(v > 0)) doc.fail(t.get(key), key_path(where, key), fmt::format("must be greater than zero, not {:g}", v));
 }
 
+// A measured emission spectrum, refused (InputError naming the file) when it has no power on the
+// emission grid: all of it would be cut off and the phosphor would give no light.
+Spectrum read_emission_file(const std::string& path) {
+    Spectrum s = read_single_spectrum(path);
+    double on_grid = 0;
+    for (int nm = kEmissionFirstNm; nm <= kEmissionLastNm; ++nm)
+        if (s.covers(nm)) on_grid += std::max(0.0, s.values[static_cast<std::size_t>(nm - s.first_nm)]);
+    if (!(on_grid > 0))
+        throw InputError(path, 0, fmt::format("the emission spectrum has no power on the emission grid {}-{} nm", kEmissionFirstNm, kEmissionLastNm));
+    return s;
+}
+
 }  // namespace
 
 Spectrum emission_grid(const std::string& name) { return {name, kEmissionFirstNm, std::vector<double>(kEmissionGridSize, 0.0)}; }
@@ -124,7 +136,7 @@ Phosphor phosphor_from_emission_file(const std::string& path) {
     p.id = file_stem(path);
     p.origin = path;
     p.emission_model = "measured";
-    p.measured_power = read_single_spectrum(path);
+    p.measured_power = read_emission_file(path);
     return p;
 }
 
@@ -146,6 +158,7 @@ Phosphor parse_phosphor(const std::string& text, const std::string& origin) {
         if (u != "lamp" && u != "led") doc.fail(r.get("use"), "use", fmt::format("items must be \"lamp\" or \"led\", not \"{}\"", u));
 
     if (const auto* d = doc.table(r, "density", "")) {
+        doc.only_keys(*d, {"g_per_cm3", "source"}, "density");
         p.density_g_per_cm3 = doc.require_number(*d, "g_per_cm3", "density");
         require_positive(doc, *d, "g_per_cm3", "density", p.density_g_per_cm3);
         p.density_source = doc.string(*d, "source", "density").value_or("");
@@ -153,6 +166,7 @@ Phosphor parse_phosphor(const std::string& text, const std::string& origin) {
 
     const auto* e = doc.table(r, "emission", "");
     if (!e) doc.fail(&r, "", "missing table [emission]");
+    doc.only_keys(*e, {"model", "bands", "lines", "line_fwhm_nm", "file", "source"}, "emission");
     p.emission_model = doc.require_string(*e, "model", "emission");
     p.emission_source = doc.string(*e, "source", "emission").value_or("");
     if (p.emission_model == "bands") {
@@ -162,12 +176,15 @@ Phosphor parse_phosphor(const std::string& text, const std::string& origin) {
             const auto* b = bands->get(i)->as_table();
             const std::string where = fmt::format("emission.bands[{}]", i + 1);
             if (!b) doc.fail(bands->get(i), where, "must be { peak_nm = ..., fwhm_nm = ..., weight = ... }");
+            doc.only_keys(*b, {"peak_nm", "fwhm_nm", "weight"}, where);
             EmissionBand band{doc.require_number(*b, "peak_nm", where), doc.require_number(*b, "fwhm_nm", where),
                               doc.number(*b, "weight", where).value_or(1.0)};
             require_positive(doc, *b, "fwhm_nm", where, band.fwhm_nm);
             require_positive(doc, *b, "weight", where, band.weight);
-            if (band.peak_nm < 250 || band.peak_nm > 1000 || band.fwhm_nm >= band.peak_nm)
-                doc.fail(b->get("peak_nm"), where, fmt::format("peak {:g} nm / FWHM {:g} nm is not a visible-range band (nm expected)", band.peak_nm, band.fwhm_nm));
+            if (band.peak_nm < kEmissionFirstNm || band.peak_nm > kEmissionLastNm || band.fwhm_nm >= band.peak_nm)
+                doc.fail(b->get("peak_nm"), key_path(where, "peak_nm"),
+                         fmt::format("peak {:g} nm / FWHM {:g} nm is not a band the emission grid {}-{} nm holds (nm expected)", band.peak_nm,
+                                     band.fwhm_nm, kEmissionFirstNm, kEmissionLastNm));
             p.bands.push_back(band);
         }
     } else if (p.emission_model == "lines") {
@@ -179,16 +196,20 @@ Phosphor parse_phosphor(const std::string& text, const std::string& origin) {
             const auto* l = lines->get(i)->as_table();
             const std::string where = fmt::format("emission.lines[{}]", i + 1);
             if (!l) doc.fail(lines->get(i), where, "must be { nm = ..., weight = ... }");
+            doc.only_keys(*l, {"nm", "weight"}, where);
             EmissionLine line{doc.require_number(*l, "nm", where), doc.number(*l, "weight", where).value_or(1.0)};
             require_positive(doc, *l, "weight", where, line.weight);
-            if (line.nm < 250 || line.nm > 1000) doc.fail(l->get("nm"), where, fmt::format("{:g} is not a wavelength in nm", line.nm));
+            // Outside the grid the line would be lost and the peak listed at the grid's edge.
+            if (line.nm < kEmissionFirstNm || line.nm > kEmissionLastNm)
+                doc.fail(l->get("nm"), key_path(where, "nm"),
+                         fmt::format("{:g} nm is outside the emission grid {}-{} nm", line.nm, kEmissionFirstNm, kEmissionLastNm));
             p.lines.push_back(line);
         }
     } else if (p.emission_model == "measured") {
         const std::string file = doc.require_string(*e, "file", "emission");
         const auto path = path_relative_to(origin, file);
         try {
-            p.measured_power = read_single_spectrum(path);
+            p.measured_power = read_emission_file(path);
         } catch (const InputError& err) {
             doc.fail(e->get("file"), "emission.file", err.what());
         }
@@ -198,6 +219,7 @@ Phosphor parse_phosphor(const std::string& text, const std::string& origin) {
 
     const auto* a = doc.table(r, "absorption", "");
     if (!a) doc.fail(&r, "", "missing table [absorption]");
+    doc.only_keys(*a, {"points", "source"}, "absorption");
     doc.pairs(*a, "points", "absorption", p.absorption_nm, p.absorption_rel);
     for (double v : p.absorption_rel)
         if (v < 0) doc.fail(a->get("points"), "absorption.points", "relative absorption must not be negative");
@@ -205,6 +227,7 @@ Phosphor parse_phosphor(const std::string& text, const std::string& origin) {
 
     const auto* q = doc.table(r, "quantum_efficiency", "");
     if (!q) doc.fail(&r, "", "missing table [quantum_efficiency]");
+    doc.only_keys(*q, {"at_254nm", "at_365_405nm", "source"}, "quantum_efficiency");
     p.qe_254nm = doc.number(*q, "at_254nm", "quantum_efficiency");
     p.qe_365_405nm = doc.number(*q, "at_365_405nm", "quantum_efficiency");
     for (const char* k : {"at_254nm", "at_365_405nm"}) {
@@ -216,6 +239,7 @@ Phosphor parse_phosphor(const std::string& text, const std::string& origin) {
     p.qe_source = doc.string(*q, "source", "quantum_efficiency").value_or("");
 
     if (const auto* t = doc.table(r, "thermal", "")) {
+        doc.only_keys(*t, {"quenching", "peak_shift_nm_per_K", "source"}, "thermal");
         if (t->get("quenching")) doc.pairs(*t, "quenching", "thermal", p.quench_C, p.quench_rel);
         for (double v : p.quench_rel)
             if (v < 0 || v > 1.5) doc.fail(t->get("quenching"), "thermal.quenching", "relative QE values must lie in 0..1.5");

@@ -31,6 +31,11 @@ Excitation parse_excitation(const TomlDoc& doc) {
     }
     if (!pump) doc.fail(&r, "", "missing the excitation: excitation_nm = 253.7 or a [pump] table with peak_nm and fwhm_nm");
     doc.only_keys(*pump, {"peak_nm", "fwhm_nm", "power_W", "spectrum"}, "pump");
+    // The blend model's pump is the Gaussian of peak_nm and fwhm_nm; a measured spectrum here
+    // would be silently unused.
+    if (pump->get("spectrum"))
+        doc.fail(pump->get("spectrum"), "pump.spectrum",
+                 "a recipe's pump is peak_nm and fwhm_nm; a measured pump spectrum is read only in an LED layer design (a TOML file with [layer])");
     const double peak = doc.require_number(*pump, "peak_nm", "pump");
     const double fwhm = doc.require_number(*pump, "fwhm_nm", "pump");
     if (peak < 1.0) doc.fail(pump->get("peak_nm"), "pump.peak_nm", fmt::format("{:g} looks like micrometres; give nanometres", peak));
