@@ -7,6 +7,7 @@
 #include <boost/program_options.hpp>
 
 #include <functional>
+#include <optional>
 #include <iosfwd>
 #include <string>
 #include <string_view>
@@ -14,6 +15,7 @@
 
 namespace lampwright {
 struct QcRun;
+struct SpectrumReadOptions;
 struct LayerFitProblem;
 }
 
@@ -52,6 +54,12 @@ auto naming_input(const std::string& path, Work&& work, const std::string& what 
 std::function<void(std::size_t, std::size_t)> terminal_progress(const std::string& label, const std::string& unit, std::size_t min_total);
 
 void print_error(const std::string& message);
+
+// --units and --power-W (assess, qc): checked (UsageError naming the option) into read options
+// for files that declare no unit or power of their own.
+void apply_photometry_options(const std::string& units, const std::optional<double>& power_W, lampwright::SpectrumReadOptions& read);
+extern const char* const kUnitsHelp;
+extern const char* const kPowerHelp;
 
 // Refuses (UsageError, exit 2, naming both) an output that is the same file as an input, the
 // database or another output; call it before any work. Inputs that are folders cover their files.

@@ -118,6 +118,8 @@ Spectrum resample_to_1nm(const SampledSpectrum& s) {
     std::vector<double> grid;
     for (int nm = first; nm <= last; ++nm) grid.push_back(nm);
     Spectrum out{s.name, first, {}};
+    out.absolute = s.absolute;
+    out.electrical_power_W = s.electrical_power_W;
     if (is_uniformly_spaced(x) && x.size() >= 6) {
         const double step = (x.back() - x.front()) / static_cast<double>(x.size() - 1);
         out.values = sprague_interpolate(x.front(), step, s.values, grid);
