@@ -281,3 +281,28 @@ TEST_CASE("cli: a narrow spike of 5e306 W/nm is assessed like the same shape at 
         CHECK(column(lb[0], lb[1], c) == column(la[0], la[1], c));
     }
 }
+
+TEST_CASE("cli: assess --units W/nm --power-W gives flux and efficacy in CSV and JSON; a relative file gives empty cells; a bad unit is a usage error") {
+    TempDir dir;
+    const std::string f = dir.write("line.csv", "wavelength_nm,lamp\n380,0\n554,0\n555,1\n556,0\n780,0\n");
+    Run r = run_cli("assess --units W/nm --power-W 2 --format csv " + quote(f));
+    REQUIRE(r.exit_code == 0);
+    auto l = lines(r.out);
+    REQUIRE(l.size() == 2);
+    CHECK(column(l[0], l[1], "photometry") == "absolute");
+    CHECK(std::stod(column(l[0], l[1], "luminous_flux_lm")) == doctest::Approx(683.002).epsilon(1e-5));  // Km V(555), CIE S 017
+    CHECK(std::stod(column(l[0], l[1], "efficacy_lm_per_W")) == doctest::Approx(341.501).epsilon(1e-5));
+    r = run_cli("assess --format json " + quote(f));
+    REQUIRE(r.exit_code == 0);
+    const auto j = nlohmann::json::parse(r.out);
+    CHECK(j[0]["photometry"] == "relative");
+    CHECK(j[0]["luminous_flux_lm"].is_null());
+    r = run_cli("assess " + quote(f));
+    CHECK(r.out.find("relative spectrum: no flux") != std::string::npos);
+    r = run_cli("assess --units W/m2 " + quote(f));
+    CHECK(r.exit_code == 2);
+    CHECK(r.err.find("--units must be W/nm, mW/nm, uW/nm (or µW/nm) or relative, not 'W/m2'") != std::string::npos);
+    r = run_cli("assess --power-W -1 " + quote(f));
+    CHECK(r.exit_code == 2);
+    CHECK(r.err.find("--power-W must be a number above 0 up to 100000 W") != std::string::npos);
+}

@@ -103,10 +103,10 @@ TEST_CASE("chromaticity conversions follow CIE 15:2004 eqs. 8.1-8.2 and invert e
 }
 
 TEST_CASE("luminous efficacy of radiation: 683 lm/W at 555 nm, and V(l) averaged for equal energy") {
-    // Km = 683 lm/W and V(555 nm) = 1 (CIE 15:2004 Table T.4; SI definition of the candela).
+    // Km = 683.002 lm/W and V(555 nm) = 1 (CIE 15:2004 Table T.4; CIE S 017; SI definition of the candela).
     Spectrum mono{"555 nm", kColourFirstNm, std::vector<double>(kColourSize, 0.0)};
     mono.values[555 - kColourFirstNm] = 1.0;
-    CHECK(std::abs(luminous_efficacy_of_radiation(mono) - 683.0) <= 1e-9);  // CIE 15:2004 Table T.4, Km = 683 lm/W
+    CHECK(std::abs(luminous_efficacy_of_radiation(mono) - 683.002) <= 1e-9);  // CIE 15:2004 Table T.4, CIE S 017: Km = 683.002 lm/W
 
     // Equal energy on 360-830 nm: LER = 683 * sum V(l) / 471 with V from the official 1 nm table.
     const std::string path = lwtest::reference_file("cie1924_photopic_v.csv");
@@ -116,7 +116,7 @@ TEST_CASE("luminous efficacy of radiation: 683 lm/W at 555 nm, and V(l) averaged
     for (std::size_t i = 0; i < v.values.size(); ++i)
         if (v.wavelengths_nm[i] >= kColourFirstNm && v.wavelengths_nm[i] <= kColourLastNm) sum_v += v.values[i];
     const Spectrum e{"E", kColourFirstNm, std::vector<double>(kColourSize, 1.0)};
-    const double expected = 683.0 * sum_v / kColourSize;
+    const double expected = 683.002 * sum_v / kColourSize;
     CHECK(std::abs(luminous_efficacy_of_radiation(e) / expected - 1) <= 1e-5);  // CIE 1924 V(l), ISO 23539:2005 1 nm table
     MESSAGE("equal-energy LER relative difference against the 1 nm V(l): " << luminous_efficacy_of_radiation(e) / expected - 1);
 }

@@ -2,6 +2,7 @@
 // lot ids recorded once, control chart limits, and consistency after kill -9 mid-import.
 #include "lampwright/colour/cie_tables.hpp"
 #include "lampwright/core/error.hpp"
+#include "lampwright/core/version.hpp"
 #include "lampwright/colour/illuminants.hpp"
 #include "lampwright/production/lot_history.hpp"
 #include "lampwright/report/history_report.hpp"
@@ -567,4 +568,59 @@ TEST_CASE("lot history: a re-run of a recorded lot records no second, empty lot"
     QcRun other = run;
     other.spec.name = "another spec";
     CHECK(record_lot(db, other, "").recorded);
+}
+
+TEST_CASE("lot history: every recorded lot stores the lampwright version, shown by history text and JSON") {
+    TempDir dir;
+    const std::string db = dir.file("history.db");
+    const QcSpec spec = f4100_spec();
+    REQUIRE(record_lot(db, make_run(spec, fluorescent_kinds(), 3, "lotV"), "L-V").recorded);
+    Sql sql(db);
+    CHECK(sql.text("SELECT lampwright_version FROM lots WHERE lot_id = 'L-V'") == std::string(kVersion));
+    const auto lots = list_lots(db);
+    REQUIRE(lots.size() == 1);
+    CHECK(lots[0].lampwright_version == std::string(kVersion));
+    CHECK(lot_json(lots[0])["lampwright_version"] == std::string(kVersion));
+    const std::string text = lots_text(lots);
+    CHECK(text.find("version") != std::string::npos);
+    CHECK(text.find(std::string(kVersion)) != std::string::npos);
+    const auto cols = lot_columns();
+    CHECK(std::find(cols.begin(), cols.end(), "lampwright_version") != cols.end());
+    CHECK(lot_values(lots[0]).size() == cols.size());
+}
+
+TEST_CASE("lot history: a database from before the version column gains it, and its old lots show unknown") {
+    TempDir dir;
+    const std::string db = dir.file("history.db");
+    const QcSpec spec = f4100_spec();
+    REQUIRE(record_lot(db, make_run(spec, fluorescent_kinds(), 3, "lotOld"), "L-old").recorded);
+    {
+        // Back to the first schema: the lots table without the version column, user_version 1.
+        Sql sql(db);
+        std::string create = sql.text("SELECT sql FROM sqlite_schema WHERE type = 'table' AND name = 'lots'");
+        const auto col = create.find("lampwright_version TEXT");
+        REQUIRE(col != std::string::npos);
+        const auto comma = create.find(",", create.find("capabilities"));  // the comma ending the column before it
+        create.erase(comma, col + std::string("lampwright_version TEXT").size() - comma);
+        create.replace(create.find("CREATE TABLE lots"), 17, "CREATE TABLE lots_v1");
+        const std::string cols = sql.text("SELECT group_concat(name) FROM pragma_table_info('lots') WHERE name <> 'lampwright_version'");
+        const std::string downgrade = create + "; INSERT INTO lots_v1 SELECT " + cols +
+                                      " FROM lots; PRAGMA foreign_keys = OFF; PRAGMA legacy_alter_table = ON; DROP TABLE lots; ALTER TABLE lots_v1 RENAME TO lots; PRAGMA user_version = 1;";
+        char* err = nullptr;
+        const int rc = sqlite3_exec(sql.db, downgrade.c_str(), nullptr, nullptr, &err);
+        const std::string message = err ? err : "";
+        INFO(message);
+        REQUIRE(rc == SQLITE_OK);
+    }
+    auto lots = list_lots(db);  // read-only listing of the old schema works
+    REQUIRE(lots.size() == 1);
+    CHECK(lots[0].lampwright_version == "unknown");
+    REQUIRE(record_lot(db, make_run(spec, fluorescent_kinds(), 3, "lotNew"), "L-new").recorded);
+    lots = list_lots(db);
+    REQUIRE(lots.size() == 2);
+    CHECK(lots[0].lampwright_version == "unknown");
+    CHECK(lots[1].lampwright_version == std::string(kVersion));
+    CHECK(lot_json(lots[0])["lampwright_version"] == "unknown");
+    Sql sql(db);
+    CHECK(sql.integer("PRAGMA user_version") == 2);
 }

@@ -21,7 +21,10 @@ namespace {
 const char* kAssessHelp = R"(Usage: lampwright assess [options] FILE...
 
 Computes, for every spectrum: CIE x, y and u', v'; CCT and Duv; CIE 13.3 colour rendering
-(Ra, R1-R14); luminous efficacy of radiation; peak, centroid, FWHM, dominant wavelength.
+(Ra, R1-R14); luminous efficacy of radiation; peak, centroid, FWHM, dominant wavelength. Spectra in absolute
+units (W/nm, mW/nm, uW/nm: a '# units: W/nm' line in the file, a TM-27 SpectralQuantity of flux,
+or --units) also get the luminous flux Phi_v = 683.002 lm/W x integral S V dl, and with the
+electrical power ('# power_W: 12.5' in the file, or --power-W) the luminous efficacy in lm/W.
 
 FILE is a text table: wavelength in nm in the first column, one spectrum per further column
 (named by the header row, if any), separated by commas, semicolons, tabs or spaces; '#' starts a
@@ -35,11 +38,14 @@ Options)";
 
 int run_assess(int argc, char** argv) {
     po::options_description opts(kAssessHelp);
-    std::string format = "text", observer = "2", cct_method = "ohno";
+    std::string format = "text", observer = "2", cct_method = "ohno", units;
+    double power_W = 0;
     opts.add_options()("help,h", "show this help")
         ("format,f", po::value(&format), "text | csv | json (default text)")
         ("observer", po::value(&observer), "2 | 10: observer for x, y, u', v' (CCT and Ra always use 2°)")
-        ("cct-method", po::value(&cct_method), "ohno (Ohno 2014, default) | robertson (Robertson 1968)");
+        ("cct-method", po::value(&cct_method), "ohno (Ohno 2014, default) | robertson (Robertson 1968)")
+        ("units", po::value(&units), kUnitsHelp);
+    add_number_option(opts, "power-W", &power_W, kPowerRange, kPowerHelp);
     std::vector<std::string> files;
     po::variables_map vm;
     if (!parse_command_line(argc, argv, opts, "file", &files, vm, "assess")) return kExitOk;
@@ -51,6 +57,8 @@ int run_assess(int argc, char** argv) {
     if (cct_method == "ohno") options.cct_method = CctMethod::ohno2014;
     else if (cct_method == "robertson") options.cct_method = CctMethod::robertson1968;
     else throw UsageError{"--cct-method must be ohno or robertson, not '" + cct_method + "'"};
+    SpectrumReadOptions read;
+    apply_photometry_options(units, vm.count("power-W") ? std::optional<double>(power_W) : std::nullopt, read);
     if (files.empty()) throw UsageError{"assess: no input file (use '-' for standard input); see lampwright assess --help"};
 
     int status = kExitOk;
@@ -60,7 +68,7 @@ int run_assess(int argc, char** argv) {
     for (const auto& file : files) {
         SpectrumFile parsed;
         try {
-            parsed = file == "-" ? parse_spectrum_text(std::cin, "stdin", "stdin") : read_spectrum_file(file);
+            parsed = file == "-" ? parse_spectrum_text(std::cin, "stdin", "stdin", read) : read_spectrum_file(file, read);
         } catch (const InputError& e) {
             print_error(e.what());
             status = kExitBadInput;

@@ -3,6 +3,9 @@
 #include <fmt/format.h>
 
 #include "lampwright/core/version.hpp"
+#include "lampwright/io/spectrum_io.hpp"
+
+#include <cmath>
 
 #include <charconv>
 #include <chrono>
@@ -134,6 +137,22 @@ std::function<void(std::size_t, std::size_t)> terminal_progress(const std::strin
                                  100.0 * static_cast<double>(done) / static_cast<double>(total))
                   << (done == total ? "\n" : "") << std::flush;
     };
+}
+
+const char* const kUnitsHelp =
+    "W/nm | mW/nm | uW/nm | relative: the unit of spectra whose file declares none (a file's '# units:' line or TM-27 "
+    "SpectralQuantity; a different one there is refused). Absolute spectra get luminous flux in lm";
+const char* const kPowerHelp = "electrical input power of lamps whose file gives none ('# power_W:'): luminous efficacy in lm/W";
+// From a pilot lamp to a high-bay fixture; 0 would make the efficacy infinite.
+const NumberRange kPowerRange{.min = 0, .max = 100000, .unit = "W", .min_exclusive = true};
+
+void apply_photometry_options(const std::string& units, const std::optional<double>& power_W, lampwright::SpectrumReadOptions& read) {
+    if (!units.empty() && !spectral_unit_to_W_per_nm(units))
+        throw UsageError{fmt::format("--units must be {}, not '{}'", kSpectralUnitsAccepted, units)};
+    if (power_W && !(std::isfinite(*power_W) && *power_W > 0))
+        throw UsageError{fmt::format("--power-W must be a positive number of watts, not {}", *power_W)};
+    read.units = units;
+    read.power_W = power_W;
 }
 
 void print_error(const std::string& message) { std::cerr << "lampwright: error: " << message << '\n'; }

@@ -8,6 +8,7 @@
 #include <boost/program_options.hpp>
 
 #include <functional>
+#include <optional>
 #include <iosfwd>
 #include <string>
 #include <string_view>
@@ -15,6 +16,7 @@
 
 namespace lampwright {
 struct QcRun;
+struct SpectrumReadOptions;
 struct LayerFitProblem;
 }
 
@@ -53,6 +55,11 @@ auto naming_input(const std::string& path, Work&& work, const std::string& what 
 std::function<void(std::size_t, std::size_t)> terminal_progress(const std::string& label, const std::string& unit, std::size_t min_total);
 
 void print_error(const std::string& message);
+
+// --units and --power-W (assess, qc): checked (UsageError naming the option) into read options
+// for files that declare no unit or power of their own.
+void apply_photometry_options(const std::string& units, const std::optional<double>& power_W, lampwright::SpectrumReadOptions& read);
+extern const char* const kUnitsHelp;
 
 // Refuses (UsageError, exit 2, naming both) an output that is the same file as an input, the
 // database or another output; call it before any work. Inputs that are folders cover their files.
@@ -104,6 +111,10 @@ void add_number_option(boost::program_options::options_description& opts, const 
         [store, name, range](const std::string& text) { *store = static_cast<T>(parse_number(text, name, range)); });
     opts.add_options()(name.c_str(), value, (help + " [" + range.describe() + "]").c_str());
 }
+
+// --power-W (assess, qc): the electrical input power of lamps whose file states none.
+extern const char* const kPowerHelp;
+extern const NumberRange kPowerRange;
 
 // Parses a sub-command's options; `positional` (may be empty) collects the bare arguments.
 // Returns false when --help was given (the help has been printed).

@@ -27,7 +27,9 @@ int run_qc_command(int argc, char** argv) {
 
 Judges every measured spectrum (CSV/text tables as in 'assess', multi-column files as many lamps,
 IES TM-27 XML) against the specification: chromaticity region (MacAdam ellipse, ANSI C78.377
-quadrangle or u'v' circle), Ra, R9, CCT and Duv limits. Prints each lamp's figures and verdict and
+quadrangle or u'v' circle), Ra, R9, CCT and Duv limits, and for spectra in W/nm (see assess
+--help) luminous flux and efficacy limits (flux_min_lm, flux_max_lm, efficacy_min_lm_per_W; a
+relative spectrum fails them with "relative spectrum: no flux"). Prints each lamp's figures and verdict and
 the lot statistics (means, standard deviations, centroid and its offset in MacAdam steps, the
 fraction outside the region, Ppk with its 95 % interval, with and without robust outliers; no
 outliers are flagged in lots of fewer than 8 lamps). Files are read in parallel.
@@ -36,7 +38,8 @@ Exit status: 0 all lamps passed; 2 usage error; otherwise the sum of 1 some file
 other lamp was judged), 4 some lamps failed, 8 the report or the database could not be written.
 
 )") + kSafetyNotice + "\nOptions");
-    std::string format = "text", report, db, lot_id, recipe, recipe_out;
+    std::string format = "text", report, db, lot_id, recipe, recipe_out, units;
+    double power_W = 0;
     bool record = false;
     int threads = 0;  // 0 = all cores; --threads is checked by its range, so "-1" is never read as 4294967295
     std::vector<std::string> args;
@@ -46,13 +49,17 @@ other lamp was judged), 4 some lamps failed, 8 the report or the database could 
         ("db", po::value(&db), "history database (default lampwright.db in this folder); implies --record")
         ("lot", po::value(&lot_id), "lot id for the history, with --record (default: lot-, the UTC time to the millisecond and a random suffix)")
         ("recipe", po::value(&recipe), "the recipe this lot was made with: print a corrected recipe (in the JSON too)")
-        ("recipe-out", po::value(&recipe_out), "with --recipe: write the corrected recipe (TOML, loadable by blend and fit)");
+        ("recipe-out", po::value(&recipe_out), "with --recipe: write the corrected recipe (TOML, loadable by blend and fit)")
+        ("units", po::value(&units), kUnitsHelp);
+    add_number_option(opts, "power-W", &power_W, kPowerRange, kPowerHelp);
     // More than the cores is allowed (and capped): a script need not know the machine.
     add_number_option(opts, "threads", &threads, NumberRange{.min = 1, .max = 1000000, .unit = "threads", .whole = true},
                       "worker threads; at most one per core is used (default: all cores)");
     po::variables_map vm;
     if (!parse_command_line(argc, argv, opts, "input", &args, vm, "qc")) return kExitOk;
     const Format f = parse_format(format);
+    SpectrumReadOptions read;
+    apply_photometry_options(units, vm.count("power-W") ? std::optional<double>(power_W) : std::nullopt, read);
     if (args.size() < 2) throw UsageError{"qc: give a spec file and at least one spectrum file or folder (see lampwright qc --help)"};
     if (!recipe_out.empty() && recipe.empty()) throw UsageError{"qc: --recipe-out needs --recipe (the recipe the lot was made with)"};
     // A lot id that is not recorded would be dropped without a word: refuse it instead.
@@ -74,7 +81,7 @@ other lamp was judged), 4 some lamps failed, 8 the report or the database could 
     const std::optional<Recipe> made_with = recipe.empty() ? std::nullopt : std::optional<Recipe>(load_recipe(recipe));
     const std::vector<std::string> inputs(args.begin() + 1, args.end());
     const ProgressCallback progress = terminal_progress("qc", "files", 200);
-    QcRun run = run_qc(spec, inputs, static_cast<unsigned>(threads), progress);
+    QcRun run = run_qc(spec, inputs, static_cast<unsigned>(threads), progress, read);
 
     for (const auto& b : run.bad_files) print_error(fmt::format("{}: {}", b.file, b.reason));
     std::optional<LotCorrection> correction;

@@ -63,6 +63,8 @@ void require_finite(const Assessment& a) {
         for (double r : a.rendering->ri) check("Ri", r);
     }
     check("LER", a.ler_lm_per_W);
+    if (a.luminous_flux_lm) check("luminous flux", *a.luminous_flux_lm);
+    if (a.efficacy_lm_per_W) check("luminous efficacy", *a.efficacy_lm_per_W);
     check("peak", a.features.peak_nm);
     check("centroid", a.features.centroid_nm);
     check("dominant wavelength", a.features.dominant_nm);
@@ -89,7 +91,20 @@ Assessment assess_finite(const Spectrum& s, const AssessOptions& options) {
         a.uv_prime = uv_1976(a.xyz);
     }
     if (options.spectral_features) a.features = spectral_features(s, chromaticity(XYZ{tri[0], tri[1], tri[2]}));
+    if (s.absolute) {
+        a.absolute = true;
+        a.luminous_flux_lm = luminous_flux_lm(s);
+    }
     return a;
+}
+
+// Luminous efficacy of the source = luminous flux / electrical input power (lm/W).
+void add_efficacy(Assessment& a, const Spectrum& s) {
+    if (!s.electrical_power_W) return;
+    if (!(std::isfinite(*s.electrical_power_W) && *s.electrical_power_W > 0))
+        throw Error(fmt::format("electrical input power {:g} W is not a positive number", *s.electrical_power_W));
+    a.electrical_power_W = s.electrical_power_W;
+    if (a.luminous_flux_lm) a.efficacy_lm_per_W = *a.luminous_flux_lm / *s.electrical_power_W;
 }
 
 }  // namespace
@@ -102,6 +117,7 @@ Assessment assess(const Spectrum& s, const AssessOptions& options) {
     }
     if (largest <= kRescaleAbove) {
         Assessment a = assess_finite(s, options);
+        add_efficacy(a, s);
         require_finite(a);
         return a;
     }
@@ -110,6 +126,8 @@ Assessment assess(const Spectrum& s, const AssessOptions& options) {
     Assessment a = assess_finite(scaled(s, 1.0 / largest), options);
     a.name = s.name;
     a.xyz = XYZ{a.xyz.X * largest, a.xyz.Y * largest, a.xyz.Z * largest};
+    if (a.luminous_flux_lm) a.luminous_flux_lm = *a.luminous_flux_lm * largest;
+    add_efficacy(a, s);
     require_finite(a);
     return a;
 }

@@ -32,6 +32,11 @@ struct Assessment {
     CctResult cct;         // 2-degree observer
     std::optional<ColourRendering> rendering;  // present when the CCT is
     double ler_lm_per_W = 0;
+    // Absolute photometry, for a spectrum in W/nm (Spectrum::absolute): luminous flux, and with
+    // the lamp's electrical input power its luminous efficacy (lm/W). Empty for relative spectra,
+    // which have no scale.
+    bool absolute = false;
+    std::optional<double> luminous_flux_lm, electrical_power_W, efficacy_lm_per_W;
     SpectralFeatures features;
     std::vector<std::string> warnings;  // e.g. CIE 13.3 validity, no CCT
 };

@@ -1,6 +1,8 @@
 #include "lampwright/colour/colorimetry.hpp"
 
+#include <algorithm>
 #include <numeric>
+#include <vector>
 
 namespace lampwright {
 
@@ -55,6 +57,16 @@ Chromaticity xy_from_uv_1976(const UV& p) {
 
 double luminous_efficacy_of_radiation(const Spectrum& s) {
     return kKm * tristimulus(s).Y / radiant_integral(s);
+}
+
+double luminous_flux_lm(const Spectrum& s) {
+    const auto& v = colour_matching_functions(Observer::cie1931_2deg).xyz[1];
+    const int first = std::max(s.first_nm, kColourFirstNm), last = std::min(s.last_nm(), kColourLastNm);
+    if (first > last) return 0.0;
+    std::vector<double> sv(static_cast<std::size_t>(last - first + 1));
+    for (int nm = first; nm <= last; ++nm)
+        sv[static_cast<std::size_t>(nm - first)] = s.values[static_cast<std::size_t>(nm - s.first_nm)] * v[static_cast<std::size_t>(nm - kColourFirstNm)];
+    return kKm * integrate_1nm(sv);
 }
 
 }  // namespace lampwright

@@ -15,9 +15,10 @@ struct UV {  // CIE 1960 (u, v) or CIE 1976 (u', v') depending on context
     double u = 0, v = 0;
 };
 
-// Maximum spectral luminous efficacy for photopic vision, lm/W (CIE 15:2004; the SI candela
-// definition gives 683 lm/W at 540 THz).
-inline constexpr double kKm = 683.0;
+// Maximum spectral luminous efficacy for photopic vision, lm/W: 683.002 lm/W (CIE 15:2004 and
+// CIE S 017, the ILV: the SI candela fixes 683 lm/W at 540 THz, i.e. at 555.016 nm in air, where
+// V is slightly below 1; scaled to V(555 nm) = 1 that is 683.002 lm/W).
+inline constexpr double kKm = 683.002;
 
 // Relative tristimulus values: sum over 360-830 nm at 1 nm of S(l) * cmf(l) (CIE 15:2004 eq. 7.1
 // with k = 1). The spectrum is extended by its nearest value where it does not reach.
@@ -36,5 +37,12 @@ Chromaticity xy_from_uv_1976(const UV& uvp);         // x = 9u'/(6u'-16v'+12), y
 // Luminous efficacy of radiation, lm/W: Km * sum V(l) S(l) / sum S(l), the radiant sum over the
 // whole range of the spectrum (UV and IR content lowers it). V = ybar of the 1931 observer.
 double luminous_efficacy_of_radiation(const Spectrum& s);
+
+// Luminous flux of a spectrum in W/nm, lm: Phi_v = Km * integral S(l) V(l) dl (CIE 15:2004;
+// CIE S 017), summed at 1 nm with integrate_1nm over the spectrum's own data within 360-830 nm
+// (where V is tabulated): unlike the colorimetric sums, the spectrum is not extended beyond its
+// data, since power that was not measured is not there. V(l) is the CIE 1924 photopic
+// luminous efficiency function, identical to ybar of the CIE 1931 observer.
+double luminous_flux_lm(const Spectrum& s);
 
 }  // namespace lampwright

@@ -124,6 +124,8 @@ Spectrum resample_to_1nm(const SampledSpectrum& s) {
     std::vector<double> grid;
     for (int nm = first; nm <= last; ++nm) grid.push_back(nm);
     Spectrum out{s.name, first, {}};
+    out.absolute = s.absolute;
+    out.electrical_power_W = s.electrical_power_W;
     // Huge finite values (a file in odd units, 1e306 and up) would overflow inside the
     // interpolation: Sprague's end extension multiplies them by up to 3033/209 (CIE 167:2005,
     // Table 2) and pchip divides differences by steps under 1 nm. Both are linear in the values,

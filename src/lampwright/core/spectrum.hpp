@@ -1,5 +1,6 @@
 #pragma once
 // Spectral power distributions: as measured (any wavelengths) and on lampwright's 1 nm grid.
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -10,6 +11,11 @@ struct SampledSpectrum {
     std::string name;
     std::vector<double> wavelengths_nm;
     std::vector<double> values;
+    // Absolute spectra: the values are spectral radiant flux in W/nm (converted on reading from
+    // mW/nm or uW/nm); otherwise relative, with no scale. The electrical input power of the
+    // lamp, where it is known, gives its luminous efficacy.
+    bool absolute = false;
+    std::optional<double> electrical_power_W;
 };
 
 // A spectrum on a 1 nm grid starting at an integer wavelength. All computation uses this type.
@@ -17,6 +23,8 @@ struct Spectrum {
     std::string name;
     int first_nm = 0;
     std::vector<double> values;
+    bool absolute = false;                     // values in W/nm (see SampledSpectrum)
+    std::optional<double> electrical_power_W;  // the lamp's electrical input power, where known
 
     int last_nm() const { return first_nm + static_cast<int>(values.size()) - 1; }
     bool covers(int nm) const { return nm >= first_nm && nm <= last_nm(); }

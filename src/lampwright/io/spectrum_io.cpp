@@ -118,6 +118,58 @@ void warn_about_gaps(SpectrumFile& result, const std::string& source, const std:
                                               source, lines[worst], wl[worst - 1], wl[worst], worst_step, kLargestUsualStepNm));
 }
 
+// A spectrum file's declared radiometry: the unit (and the line declaring it) and power values.
+struct Radiometry {
+    std::optional<std::string> unit;
+    std::size_t unit_line = 0;
+    std::vector<double> power_W;
+    std::size_t power_line = 0;
+};
+
+// "# units: W/nm" or "# power_W = 12.5, 13": the key (lower case) and value; nullopt for any
+// other comment.
+std::optional<std::pair<std::string, std::string>> header_directive(const std::string& comment) {
+    const auto sep = comment.find_first_of(":=");
+    if (sep == std::string::npos) return std::nullopt;
+    std::string key = trim(std::string_view(comment).substr(0, sep));
+    std::transform(key.begin(), key.end(), key.begin(), [](unsigned char ch) { return static_cast<char>(std::tolower(ch)); });
+    if (key != "units" && key != "power_w") return std::nullopt;
+    return std::make_pair(key, trim(std::string_view(comment).substr(sep + 1)));
+}
+
+// Applies the unit (the file's, else the options') and the powers to the validated spectra.
+void apply_radiometry(SpectrumFile& f, const std::string& source, const Radiometry& r, const SpectrumReadOptions& options) {
+    double factor = 0;
+    if (r.unit) {
+        const auto k = spectral_unit_to_W_per_nm(*r.unit);
+        if (!k) throw InputError(source, r.unit_line, fmt::format("units '{}' not understood: give {}", *r.unit, kSpectralUnitsAccepted));
+        factor = *k;
+        if (!options.units.empty()) {
+            const auto given = spectral_unit_to_W_per_nm(options.units);
+            if (given && *given != factor)
+                throw InputError(source, r.unit_line, fmt::format("the file declares units {} but --units says {}; remove one", *r.unit, options.units));
+        }
+    } else if (!options.units.empty()) {
+        const auto given = spectral_unit_to_W_per_nm(options.units);
+        if (!given) throw InputError(source, 0, fmt::format("units '{}' not understood: give {}", options.units, kSpectralUnitsAccepted));
+        factor = *given;
+    }
+    if (!r.power_W.empty() && r.power_W.size() != 1 && r.power_W.size() != f.spectra.size())
+        throw InputError(source, r.power_line, fmt::format("power_W gives {} values for {} spectra: give one for all, or one per spectrum column", r.power_W.size(),
+                                                           f.spectra.size()));
+    for (std::size_t i = 0; i < f.spectra.size(); ++i) {
+        auto& s = f.spectra[i];
+        if (factor > 0) {
+            s.absolute = true;
+            for (auto& v : s.values) v *= factor;
+        }
+        if (!r.power_W.empty())
+            s.electrical_power_W = r.power_W.size() == 1 ? r.power_W[0] : r.power_W[i];
+        else
+            s.electrical_power_W = options.power_W;
+    }
+}
+
 SpectrumFile validated_spectra(const std::string& source, const std::vector<std::string>& names, std::vector<std::vector<double>>& columns,
                                const std::vector<std::size_t>& value_lines, const SpectrumReadOptions& options) {
     const auto& wl = columns[0];
@@ -165,6 +217,14 @@ SpectrumFile validated_spectra(const std::string& source, const std::vector<std:
 
 }  // namespace
 
+std::optional<double> spectral_unit_to_W_per_nm(const std::string& unit) {
+    if (unit == "W/nm") return 1.0;
+    if (unit == "mW/nm") return 1e-3;
+    if (unit == "uW/nm" || unit == "\xC2\xB5W/nm" || unit == "\xCE\xBCW/nm") return 1e-6;  // micro sign or Greek mu
+    if (unit == "relative") return 0.0;
+    return std::nullopt;
+}
+
 std::string file_stem(const std::string& path) { return std::filesystem::path(path).stem().string(); }
 
 SpectrumFile parse_spectrum_text(std::istream& in, const std::string& source, const std::string& stem,
@@ -176,11 +236,40 @@ SpectrumFile parse_spectrum_text(std::istream& in, const std::string& source, co
     std::size_t ncols = 0;
     bool header_seen = false;
 
+    Radiometry radiometry;
+
     std::string raw;
     std::size_t line_no = 0;
     while (std::getline(in, raw)) {
         ++line_no;
         if (line_no == 1 && raw.size() >= 3 && raw.compare(0, 3, "\xEF\xBB\xBF") == 0) raw.erase(0, 3);
+        if (const std::string full = trim(raw); !full.empty() && full[0] == '#') {
+            if (const auto d = header_directive(full.substr(1))) {
+                if (d->first == "units") {
+                    if (radiometry.unit)
+                        throw InputError(source, line_no, fmt::format("units declared twice (first on line {})", radiometry.unit_line));
+                    if (!spectral_unit_to_W_per_nm(d->second))
+                        throw InputError(source, line_no, fmt::format("units '{}' not understood: give {}", d->second, kSpectralUnitsAccepted));
+                    radiometry.unit = d->second;
+                    radiometry.unit_line = line_no;
+                } else {
+                    if (!radiometry.power_W.empty())
+                        throw InputError(source, line_no, fmt::format("power_W given twice (first on line {})", radiometry.power_line));
+                    std::string list = d->second;
+                    std::replace(list.begin(), list.end(), ',', ' ');
+                    std::replace(list.begin(), list.end(), ';', ' ');
+                    for (const auto& field : split(list, Separator::space)) {
+                        const auto w = parse_number(field, false);
+                        if (!w || !std::isfinite(*w) || !(*w > 0))
+                            throw InputError(source, line_no, fmt::format("power_W value '{}' is not a positive number of watts", field));
+                        radiometry.power_W.push_back(*w);
+                    }
+                    if (radiometry.power_W.empty()) throw InputError(source, line_no, "power_W gives no value");
+                    radiometry.power_line = line_no;
+                }
+            }
+            continue;
+        }
         if (const auto hash = raw.find('#'); hash != std::string::npos) raw.erase(hash);
         const std::string line = trim(raw);
         if (line.empty()) continue;
@@ -231,7 +320,9 @@ SpectrumFile parse_spectrum_text(std::istream& in, const std::string& source, co
     std::vector<std::string> column_names;
     for (std::size_t c = 1; c < columns.size(); ++c)
         column_names.push_back(columns.size() == 2 ? stem : (header_seen ? names[c - 1] : fmt::format("{}:{}", stem, c + 1)));
-    return validated_spectra(source, column_names, columns, value_lines, options);
+    SpectrumFile result = validated_spectra(source, column_names, columns, value_lines, options);
+    apply_radiometry(result, source, radiometry, options);
+    return result;
 }
 
 SpectrumFile parse_tm27_xml(const std::string& bytes, const std::string& source, const std::string& stem, const SpectrumReadOptions& options) {
@@ -270,7 +361,35 @@ SpectrumFile parse_tm27_xml(const std::string& bytes, const std::string& source,
     }
     if (columns[0].size() < 2) throw InputError(source, 0, "IES TM-27 document holds no <SpectralData wavelength=\"...\"> elements");
     (void)local;
-    return validated_spectra(source, {stem}, columns, lines, options);
+    SpectrumFile result = validated_spectra(source, {stem}, columns, lines, options);
+    // <SpectralQuantity> (IES TM-27-14): what the values are. Only a spectral radiant flux has
+    // a luminous flux in lm; TM-27-14 gives no unit, so flux is W/nm unless --units says mW/nm
+    // or uW/nm.
+    Radiometry radiometry;
+    if (const pugi::xpath_node q = doc.select_node("//*[local-name()='SpectralQuantity']")) {
+        std::string quantity = trim(q.node().child_value());
+        std::transform(quantity.begin(), quantity.end(), quantity.begin(), [](unsigned char ch) { return static_cast<char>(std::tolower(ch)); });
+        const std::size_t line = line_at(q.node().offset_debug());
+        const auto given = options.units.empty() ? std::optional<double>(0.0) : spectral_unit_to_W_per_nm(options.units);
+        if (quantity == "flux") {
+            if (given && *given == 0.0 && !options.units.empty())
+                throw InputError(source, line, "SpectralQuantity is flux (absolute) but --units says relative; remove one");
+            radiometry.unit = options.units.empty() || (given && *given == 0.0) ? std::string("W/nm") : options.units;
+        } else {
+            if (given && *given > 0.0)
+                throw InputError(source, line, fmt::format("SpectralQuantity is '{}', not flux, but --units says {}: no luminous flux in lm can come from it",
+                                                           quantity, options.units));
+            if (quantity != "relative")
+                result.warnings.push_back(fmt::format("{}:{}: SpectralQuantity '{}' is not a spectral radiant flux: read as relative, no luminous flux", source,
+                                                      line, quantity));
+            radiometry.unit = "relative";
+        }
+        radiometry.unit_line = line;
+    }
+    SpectrumReadOptions xml_options = options;
+    if (radiometry.unit) xml_options.units.clear();  // the document has decided (checked above)
+    apply_radiometry(result, source, radiometry, xml_options);
+    return result;
 }
 
 SpectrumFile parse_spectrum_bytes(const std::string& bytes, const std::string& source, const SpectrumReadOptions& options) {

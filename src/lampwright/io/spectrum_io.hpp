@@ -8,9 +8,21 @@
 // increasing wavelengths, each within 100-100,000 nm, 380-780 nm covered (CIE 15:2004 minimum colorimetric range), at least
 // one positive value. Negative values down to -1 % of the spectrum's maximum are measurement noise:
 // they are set to zero and counted in a warning; larger negative values are an error.
+//
+// Absolute spectra (README, "Absolute photometry"). A text file declares its unit and the lamps'
+// electrical input power in full-line comments before or between its rows:
+//   # units: W/nm            (or mW/nm, uW/nm, µW/nm, relative; default relative)
+//   # power_W: 12.5          (one value for every spectrum of the file, or one per spectrum
+//                             column in column order, separated by spaces, ';' or ',')
+// The keys are case-insensitive and take ':' or '='; any other comment is only a comment. An IES
+// TM-27-14 document's <SpectralQuantity> says what its values are: "flux" is spectral radiant
+// flux (W/nm unless the reader is told mW/nm or uW/nm: TM-27-14 has no unit field), "relative"
+// is relative; any other quantity (irradiance, radiance, ...) is no flux and is read as relative
+// with a warning. Absolute values are converted to W/nm on reading.
 #include "lampwright/core/spectrum.hpp"
 
 #include <iosfwd>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -26,7 +38,17 @@ struct SpectrumReadOptions {
     double min_required_nm = 380.0;
     double max_required_nm = 780.0;
     double negative_noise_fraction = 0.01;
+    // For spectra whose file declares no unit (--units): a unit spectral_unit_to_W_per_nm knows;
+    // empty is relative. A file that declares a different unit is refused.
+    std::string units;
+    // For spectra whose file gives no power (--power-W); the file's own value wins.
+    std::optional<double> power_W;
 };
+
+// The factor converting a spectral unit to W/nm: 1 for "W/nm", 1e-3 "mW/nm", 1e-6 "uW/nm" or
+// "µW/nm"; 0 for "relative" (no scale); nullopt for anything else.
+std::optional<double> spectral_unit_to_W_per_nm(const std::string& unit);
+inline constexpr const char* kSpectralUnitsAccepted = "W/nm, mW/nm, uW/nm (or µW/nm) or relative";
 
 struct SpectrumFile {
     std::vector<SampledSpectrum> spectra;

@@ -5,6 +5,7 @@
 #include "lampwright/core/format.hpp"
 #include "lampwright/core/error.hpp"
 #include "lampwright/core/text_encoding.hpp"
+#include "lampwright/core/version.hpp"
 #include "lampwright/io/toml_access.hpp"
 
 #include <fmt/format.h>
@@ -28,7 +29,9 @@ namespace {
 // stays one self-contained file between runs (easy to copy, mail, or keep on a network share,
 // where WAL's shared-memory index does not work), and the tool has one writer at a time
 // (busy_timeout covers the rare concurrent qc/history). Schema version in PRAGMA user_version.
-constexpr int kSchemaVersion = 1;
+// Version 2 added lots.lampwright_version; a version-1 database gains the column (NULL for its
+// old lots, listed as "unknown") the next time a lot is recorded into it.
+constexpr int kSchemaVersion = 2;
 constexpr int kBusyTimeoutMs = 10000;
 
 const char* const kSchema = R"sql(
@@ -53,7 +56,9 @@ CREATE TABLE IF NOT EXISTS lots (
     mean_cct_K REAL, sd_cct_K REAL, mean_duv REAL, sd_duv REAL,
     mean_ra REAL, sd_ra REAL, mean_r9 REAL, sd_r9 REAL,
     mean_steps REAL, sd_steps REAL,
-    capabilities   TEXT                      -- JSON: [{quantity, lower, upper, n, mean, sd, ppk, ppk_ci95, without_outliers}]; before ppk: cpk
+    capabilities   TEXT,                     -- JSON: [{quantity, lower, upper, n, mean, sd, ppk, ppk_ci95, without_outliers}]; before ppk: cpk
+    -- the lampwright version that recorded the lot (schema 2; NULL for lots recorded before)
+    lampwright_version TEXT
 );
 CREATE TABLE IF NOT EXISTS lamps (
     lamp_id      INTEGER PRIMARY KEY,
@@ -213,8 +218,12 @@ void ensure_schema(const Database& db) {
         throw Error(fmt::format("lot history database {}: schema version {} is newer than this lampwright understands ({})", db.path(), version,
                                 kSchemaVersion));
     if (version == kSchemaVersion) return;
-    db.exec(kSchema, "creating the lot history tables");
-    db.exec("PRAGMA user_version = 1", "setting the schema version");
+    if (version == 1) {
+        db.exec("ALTER TABLE lots ADD COLUMN lampwright_version TEXT", "adding the lampwright_version column (schema 1 to 2)");
+    } else {
+        db.exec(kSchema, "creating the lot history tables");
+    }
+    db.exec("PRAGMA user_version = 2", "setting the schema version");
 }
 
 std::string utc_now(const char* format) {
@@ -309,9 +318,10 @@ RecordOutcome record_lot(const std::string& db_path, const QcRun& run, const std
     {
         Statement ins(db, R"sql(INSERT INTO lots (lot_id, recorded_at, spec_name, spec_path, spec_target, spec_toml, recipe_path, recipe_toml,
             lamps, passed, bad_files, outliers, pass_rate, centroid_x, centroid_y, centroid_steps,
-            mean_x, sd_x, mean_y, sd_y, mean_cct_K, sd_cct_K, mean_duv, sd_duv, mean_ra, sd_ra, mean_r9, sd_r9, mean_steps, sd_steps, capabilities)
+            mean_x, sd_x, mean_y, sd_y, mean_cct_K, sd_cct_K, mean_duv, sd_duv, mean_ra, sd_ra, mean_r9, sd_r9, mean_steps, sd_steps, capabilities,
+            lampwright_version)
             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?16, ?17, ?18, ?19, ?20, ?21, ?22, ?23, ?24, ?25, ?26,
-                    ?27, ?28, ?29, ?30, ?31))sql");
+                    ?27, ?28, ?29, ?30, ?31, ?32))sql");
         ins.text(1, out.lot_id).text(2, utc_now("%Y-%m-%dT%H:%M:%SZ"));
         ins.text_or_null(3, run.spec.name).text_or_null(4, run.spec.path).text_or_null(5, run.spec.target_description).text_or_null(6, spec_toml);
         ins.text_or_null(7, recipe_path).text_or_null(8, recipe_toml);
@@ -324,6 +334,7 @@ RecordOutcome record_lot(const std::string& db_path, const QcRun& run, const std
             ins.real(i++, stat_sd(st, q));
         }
         ins.text(31, dump_json(caps, -1));
+        ins.text(32, kVersion);
         ins.run("recording the lot");
     }
     {
@@ -370,11 +381,19 @@ std::vector<LotRecord> list_lots(const std::string& db_path) {
         v.step("reading the schema");
         if (v.col_int(0) == 0) return {};  // an empty database: no lot recorded yet
     }
-    Statement q(db, R"sql(SELECT lot_id, recorded_at, spec_name, spec_path, recipe_path, lamps, passed, bad_files, pass_rate,
+    // Listing does not migrate (it only reads): a schema-1 database has no version column yet.
+    bool has_version = false;
+    {
+        Statement c(db, "SELECT count(*) FROM pragma_table_info('lots') WHERE name = 'lampwright_version'");
+        c.step("reading the schema");
+        has_version = c.col_int(0) > 0;
+    }
+    const std::string sql = std::string(R"sql(SELECT lot_id, recorded_at, spec_name, spec_path, recipe_path, lamps, passed, bad_files, pass_rate,
         centroid_x, centroid_y, centroid_steps, mean_ra, mean_r9, mean_cct_K, mean_duv, sd_ra, sd_cct_K,
         spec_target, sd_x, sd_y, sd_r9, sd_duv, mean_steps, sd_steps, outliers,
-        (SELECT count(*) FROM lamps WHERE lamps.lot_id = lots.lot_id)
-        FROM lots ORDER BY recorded_at, rowid)sql");
+        (SELECT count(*) FROM lamps WHERE lamps.lot_id = lots.lot_id), )sql") +
+                            (has_version ? "lampwright_version" : "NULL") + " FROM lots ORDER BY recorded_at, rowid";
+    Statement q(db, sql.c_str());
     std::vector<LotRecord> lots;
     while (q.step("listing the lots")) {
         LotRecord r;
@@ -405,6 +424,8 @@ std::vector<LotRecord> list_lots(const std::string& db_path) {
         r.sd_steps = q.col_real(24);
         r.outliers = static_cast<std::size_t>(q.col_int(25));
         r.lamp_rows = static_cast<std::size_t>(q.col_int(26));
+        r.lampwright_version = q.col_text(27);
+        if (r.lampwright_version.empty()) r.lampwright_version = "unknown";
         lots.push_back(std::move(r));
     }
     return lots;

@@ -29,6 +29,9 @@ struct LotRecord {
     double sd_x = 0, sd_y = 0, sd_r9 = 0, sd_duv = 0, mean_steps = 0, sd_steps = 0;
     std::size_t outliers = 0;
     std::size_t lamp_rows = 0;               // lamp rows stored under this lot (re-imported spectra are not)
+    // The lampwright version that recorded the lot (traceability); "unknown" for lots recorded
+    // before the database stored it.
+    std::string lampwright_version;
 };
 
 struct RecordOutcome {

@@ -92,13 +92,25 @@ QcSpec load_qc_spec(const std::string& path) {
         doc.fail(t, "target", e.what());
     }
     if (const auto* l = doc.table(r, "limits", "")) {
-        doc.only_keys(*l, {"ra_min", "r9_min", "cct_min_K", "cct_max_K", "duv_min", "duv_max"}, "limits");
+        doc.only_keys(*l, {"ra_min", "r9_min", "cct_min_K", "cct_max_K", "duv_min", "duv_max", "flux_min_lm", "flux_max_lm", "efficacy_min_lm_per_W"},
+                      "limits");
         s.ra_min = doc.number(*l, "ra_min", "limits");
         s.r9_min = doc.number(*l, "r9_min", "limits");
         s.cct_min_K = doc.number(*l, "cct_min_K", "limits");
         s.cct_max_K = doc.number(*l, "cct_max_K", "limits");
         s.duv_min = doc.number(*l, "duv_min", "limits");
         s.duv_max = doc.number(*l, "duv_max", "limits");
+        s.flux_min_lm = doc.number(*l, "flux_min_lm", "limits");
+        s.flux_max_lm = doc.number(*l, "flux_max_lm", "limits");
+        s.efficacy_min_lm_per_W = doc.number(*l, "efficacy_min_lm_per_W", "limits");
+        for (const char* k : {"flux_min_lm", "flux_max_lm", "efficacy_min_lm_per_W"})
+            if (const auto v = doc.number(*l, k, "limits"); v && !(std::isfinite(*v) && *v >= 0))
+                doc.fail(l->get(k), std::string("limits.") + k, fmt::format("must be a number >= 0, not {:g}", *v));
+        if (s.flux_min_lm && s.flux_max_lm && *s.flux_min_lm >= *s.flux_max_lm)
+            doc.fail(l->get("flux_min_lm"), "limits", "flux_min_lm must be below flux_max_lm");
+        // The most efficacious white possible is below the 683 lm/W of 555 nm light.
+        if (s.efficacy_min_lm_per_W && *s.efficacy_min_lm_per_W > kKm)
+            doc.fail(l->get("efficacy_min_lm_per_W"), "limits.efficacy_min_lm_per_W", fmt::format("cannot exceed Km = {:g} lm/W", kKm));
         if (s.ra_min && *s.ra_min > 100) doc.fail(l->get("ra_min"), "limits.ra_min", "cannot exceed 100");
         if (s.cct_min_K && s.cct_max_K && *s.cct_min_K >= *s.cct_max_K) doc.fail(l->get("cct_min_K"), "limits", "cct_min_K must be below cct_max_K");
         if (s.duv_min && s.duv_max && *s.duv_min >= *s.duv_max) doc.fail(l->get("duv_min"), "limits", "duv_min must be below duv_max");
@@ -140,6 +152,22 @@ LampResult judge_lamp(const QcSpec& spec, Assessment a) {
         r.failures.push_back(has_cct ? fmt::format("CCT {:.0f} K > {:g} K", A.cct.cct_K, *spec.cct_max_K) : "no CCT");
     if (spec.duv_min && !(A.cct.duv >= *spec.duv_min)) r.failures.push_back(fmt::format("Duv {:.4f} < {:g}", A.cct.duv, *spec.duv_min));
     if (spec.duv_max && !(A.cct.duv <= *spec.duv_max)) r.failures.push_back(fmt::format("Duv {:.4f} > {:g}", A.cct.duv, *spec.duv_max));
+    // Flux limits on a relative spectrum: the lamp fails (its flux is unknown, so it cannot be
+    // shown to meet them), rather than the lot being refused: the other limits are still judged.
+    if ((spec.flux_min_lm || spec.flux_max_lm || spec.efficacy_min_lm_per_W) && !A.luminous_flux_lm) {
+        r.failures.push_back("relative spectrum: no flux");
+    } else {
+        if (spec.flux_min_lm && !(*A.luminous_flux_lm >= *spec.flux_min_lm))
+            r.failures.push_back(fmt::format("flux {:.1f} lm < {:g} lm", *A.luminous_flux_lm, *spec.flux_min_lm));
+        if (spec.flux_max_lm && !(*A.luminous_flux_lm <= *spec.flux_max_lm))
+            r.failures.push_back(fmt::format("flux {:.1f} lm > {:g} lm", *A.luminous_flux_lm, *spec.flux_max_lm));
+        if (spec.efficacy_min_lm_per_W) {
+            if (!A.efficacy_lm_per_W)
+                r.failures.push_back("no electrical power: no efficacy");
+            else if (!(*A.efficacy_lm_per_W >= *spec.efficacy_min_lm_per_W))
+                r.failures.push_back(fmt::format("efficacy {:.1f} lm/W < {:g} lm/W", *A.efficacy_lm_per_W, *spec.efficacy_min_lm_per_W));
+        }
+    }
     r.assessment = std::move(a);
     return r;
 }
@@ -263,7 +291,8 @@ unsigned qc_worker_count(unsigned requested, std::size_t files) {
     return static_cast<unsigned>(std::min<std::size_t>(wanted, std::max<std::size_t>(1, files)));
 }
 
-QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigned threads, const ProgressCallback& progress) {
+QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigned threads, const ProgressCallback& progress,
+             const SpectrumReadOptions& read) {
     QcRun run;
     run.spec = spec;
     const auto files = collect_spectrum_files(inputs, run.bad_files);
@@ -279,7 +308,7 @@ QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigne
         for (std::size_t i = next++; i < files.size(); i = next++) {
             try {
                 const std::string bytes = read_text_file(files[i]);
-                const SpectrumFile f = parse_spectrum_bytes(bytes, files[i]);
+                const SpectrumFile f = parse_spectrum_bytes(bytes, files[i], read);
                 const std::string hash = content_hash(bytes);
                 for (const auto& s : f.spectra) {
                     LampResult lr = judge_lamp(spec, assess(resample_to_1nm(s), options));
@@ -397,6 +426,8 @@ LotStatistics lot_statistics(const QcSpec& spec, std::vector<LampResult>& lamps)
         {"Ra", ra, spec.ra_min, {}},
         {"R9", r9, spec.r9_min, {}},
         {"steps", [](const LampResult& l) { return l.steps; }, {}, {}},
+        {"flux_lm", [](const LampResult& l) { return l.assessment.luminous_flux_lm.value_or(NAN); }, spec.flux_min_lm, spec.flux_max_lm},
+        {"efficacy_lm_per_W", [](const LampResult& l) { return l.assessment.efficacy_lm_per_W.value_or(NAN); }, spec.efficacy_min_lm_per_W, {}},
     };
     // Pass 1: robust outliers, so that pass 2 can give the statistics with and without them.
     std::vector<std::string> notes(lamps.size());
@@ -404,6 +435,9 @@ LotStatistics lot_statistics(const QcSpec& spec, std::vector<LampResult>& lamps)
     st.outliers_checked = lamps.size() >= kMinLotForOutliers;
     if (st.outliers_checked)
         for (const auto& q : quantities) {
+            // Flux and efficacy scale with the lamp: no resolution floor holds for every lamp
+            // size, and a lot of near-identical lamps would flag noise; they are not looked at.
+            if (std::string(q.name) == "flux_lm" || std::string(q.name) == "efficacy_lm_per_W") continue;
             std::vector<double> v;
             for (const auto& l : lamps)
                 if (const double x = q.get(l); std::isfinite(x)) v.push_back(x);

@@ -4,6 +4,7 @@
 // centroid, process performance Ppk with its confidence interval, robust outliers).
 #include "lampwright/colour/assessment.hpp"
 #include "lampwright/design/targets.hpp"
+#include "lampwright/io/spectrum_io.hpp"
 
 #include <functional>
 #include <optional>
@@ -24,6 +25,9 @@ struct QcSpec {
     std::optional<AnsiC78377Class> ansi_class;  // quadrangle region
     double max_duv_prime = 0;     // circle region: radius in u'v'
     std::optional<double> ra_min, r9_min, cct_min_K, cct_max_K, duv_min, duv_max;
+    // Absolute photometry limits (lamps measured in W/nm): luminous flux and luminous efficacy of
+    // the source. A relative spectrum cannot meet them: it fails with "relative spectrum: no flux".
+    std::optional<double> flux_min_lm, flux_max_lm, efficacy_min_lm_per_W;
 };
 
 // Spec files (TOML):
@@ -33,6 +37,7 @@ struct QcSpec {
 //          or x = 0.38  y = 0.377  steps = 4     # explicit centre, n-step ellipse
 //          or x = 0.38  y = 0.377  duv_prime_max = 0.004   # explicit centre, u'v' circle
 //   [limits]  ra_min = 80  r9_min = 0  cct_min_K = 3800  cct_max_K = 4300  duv_min = -0.006  duv_max = 0.006
+//             flux_min_lm = 1200  flux_max_lm = 1400  efficacy_min_lm_per_W = 90   # absolute spectra only
 QcSpec load_qc_spec(const std::string& path);
 
 struct LampResult {
@@ -75,7 +80,7 @@ struct LotStatistics {
         std::string quantity;
         double mean = 0, sd = 0, min = 0, max = 0;
     };
-    std::vector<Summary> summaries;  // x, y, cct_K, duv, Ra, R9, steps
+    std::vector<Summary> summaries;  // x, y, cct_K, duv, Ra, R9, steps, flux_lm, efficacy_lm_per_W (NaN: no lamp has one)
     Chromaticity centroid;
     double centroid_steps = 0;
     // x, y, CCT, Duv, Ra, R9 where the spec limits them. Not MacAdam steps: a distance from the
@@ -110,7 +115,9 @@ unsigned qc_worker_count(unsigned requested, std::size_t files);
 
 // Reads and judges every file, in parallel over `threads` workers (0 = all cores; capped by
 // qc_worker_count).
-QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigned threads = 0, const ProgressCallback& progress = {});
+// `read` carries --units and --power-W for files that declare no unit or power.
+QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigned threads = 0, const ProgressCallback& progress = {},
+             const SpectrumReadOptions& read = {});
 
 // Robust outliers: no flags in a lot of fewer lamps, where median and MAD are too unsteady to
 // call anything an outlier (common practice, no source).

@@ -14,11 +14,23 @@ const char* observer_name(Observer o) { return o == Observer::cie1931_2deg ? "2"
 
 }  // namespace
 
+std::string photometry_text(const Assessment& a) {
+    if (!a.absolute || !a.luminous_flux_lm) return "  luminous flux              relative spectrum: no flux\n";
+    std::string o = fmt::format("  luminous flux              {:.1f} lm", *a.luminous_flux_lm);
+    if (a.efficacy_lm_per_W)
+        o += fmt::format("   efficacy {:.1f} lm/W at {:.2f} W", *a.efficacy_lm_per_W, *a.electrical_power_W);
+    else
+        o += "   efficacy n/a (no electrical power: --power-W or power_W in the file)";
+    return o + "\n";
+}
+
 std::vector<std::string> assessment_columns() {
     std::vector<std::string> c{"name", "x", "y", "u_prime", "v_prime", "cct_K", "duv", "Ra"};
     for (int i = 1; i <= 14; ++i) c.push_back(fmt::format("R{}", i));
     for (const char* k : {"ler_lm_per_W", "X", "Y", "Z", "u_1960", "v_1960", "dc", "reference", "peak_nm", "centroid_nm",
-                          "fwhm_nm", "dominant_nm", "purity", "observer"})
+                          "fwhm_nm", "dominant_nm", "purity", "observer",
+                          // absolute photometry (appended, so earlier columns keep their places)
+                          "photometry", "luminous_flux_lm", "electrical_power_W", "efficacy_lm_per_W"})
         c.push_back(k);
     return c;
 }
@@ -48,6 +60,10 @@ std::vector<std::string> assessment_values(const Assessment& a) {
     v.push_back(format_fixed(a.features.dominant_nm, 1));
     v.push_back(format_fixed(a.features.purity, 4));
     v.push_back(observer_name(a.observer));
+    v.push_back(a.absolute ? "absolute" : "relative");
+    v.push_back(a.luminous_flux_lm ? format_fixed(*a.luminous_flux_lm, 3) : "");
+    v.push_back(a.electrical_power_W ? format_fixed(*a.electrical_power_W, 3) : "");
+    v.push_back(a.efficacy_lm_per_W ? format_fixed(*a.efficacy_lm_per_W, 2) : "");
     return v;
 }
 
@@ -57,7 +73,7 @@ nlohmann::ordered_json assessment_json(const Assessment& a) {
     nlohmann::ordered_json j;
     for (std::size_t i = 0; i < cols.size(); ++i) {
         const auto& c = cols[i];
-        if (c == "name" || c == "reference" || c == "observer") {
+        if (c == "name" || c == "reference" || c == "observer" || c == "photometry") {
             j[c] = vals[i].empty() ? nlohmann::ordered_json(nullptr) : nlohmann::ordered_json(vals[i]);
         } else {
             j[c] = vals[i].empty() ? nlohmann::ordered_json(nullptr) : nlohmann::ordered_json(std::stod(vals[i]));
@@ -87,6 +103,7 @@ std::string assessment_text(const Assessment& a) {
         }
     }
     o += fmt::format("  LER                        {:.1f} lm/W\n", a.ler_lm_per_W);
+    o += photometry_text(a);
     const auto& f = a.features;
     o += fmt::format("  peak {:.1f} nm   centroid {:.1f} nm   FWHM {} nm\n", f.peak_nm, f.centroid_nm,
                      std::isfinite(f.fwhm_nm) ? fmt::format("{:.1f}", f.fwhm_nm) : "n/a");

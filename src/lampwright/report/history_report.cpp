@@ -160,7 +160,7 @@ nlohmann::ordered_json control_charts_json(const std::vector<ControlChart>& char
 std::vector<std::string> lot_columns() {
     return {"lot_id",  "recorded_at", "spec_name", "spec_path", "recipe_path", "lamps",   "passed",     "bad_files", "pass_rate",
             "outliers", "centroid_x", "centroid_y", "centroid_steps", "mean_cct_K", "sd_cct_K", "mean_duv", "sd_duv", "mean_Ra",
-            "sd_Ra",   "mean_R9",     "sd_R9",      "mean_steps", "sd_steps",   "lamp_rows"};
+            "sd_Ra",   "mean_R9",     "sd_R9",      "mean_steps", "sd_steps",   "lamp_rows", "lampwright_version"};
 }
 
 std::vector<std::string> lot_values(const LotRecord& l) {
@@ -187,7 +187,8 @@ std::vector<std::string> lot_values(const LotRecord& l) {
             format_fixed(l.sd_r9, 2),
             format_fixed(l.mean_steps, 3),
             format_fixed(l.sd_steps, 3),
-            std::to_string(l.lamp_rows)};
+            std::to_string(l.lamp_rows),
+            l.lampwright_version};
 }
 
 nlohmann::ordered_json lot_json(const LotRecord& l) {
@@ -215,23 +216,26 @@ nlohmann::ordered_json lot_json(const LotRecord& l) {
             {"sd_R9", number_or_null(l.sd_r9)},
             {"mean_steps", number_or_null(l.mean_steps)},
             {"sd_steps", number_or_null(l.sd_steps)},
-            {"lamp_rows", l.lamp_rows}};
+            {"lamp_rows", l.lamp_rows},
+            {"lampwright_version", l.lampwright_version}};
 }
 
 std::string lots_text(const std::vector<LotRecord>& lots) {
     if (lots.empty()) return "No lots recorded.\n";
     std::size_t w = 6;
     for (const auto& l : lots) w = std::max(w, l.lot_id.size());
-    std::string o = fmt::format("{:>3}  {:<{}}  {:<20}  {:>6}  {:>6}  {:>4}  {:>8}  {:>8}  {:>6}  {:>13}  {:>13}  {:>6}  {:>8}  {}\n", "#", "lot", w,
-                                "recorded (UTC)", "lamps", "pass%", "bad", "x", "y", "steps", "CCT K (sd)", "Ra (sd)", "R9", "Duv", "spec");
+    std::size_t vw = 7;  // "version"; "unknown" for lots recorded before the version was stored
+    for (const auto& l : lots) vw = std::max(vw, l.lampwright_version.size());
+    std::string o = fmt::format("{:>3}  {:<{}}  {:<20}  {:>6}  {:>6}  {:>4}  {:>8}  {:>8}  {:>6}  {:>13}  {:>13}  {:>6}  {:>8}  {:<{}}  {}\n", "#", "lot", w,
+                                "recorded (UTC)", "lamps", "pass%", "bad", "x", "y", "steps", "CCT K (sd)", "Ra (sd)", "R9", "Duv", "version", vw, "spec");
     for (std::size_t i = 0; i < lots.size(); ++i) {
         const auto& l = lots[i];
-        o += fmt::format("{:>3}  {:<{}}  {:<20}  {:>6}  {:>6}  {:>4}  {:>8}  {:>8}  {:>6}  {:>13}  {:>13}  {:>6}  {:>8}  {}\n", i + 1, l.lot_id, w,
+        o += fmt::format("{:>3}  {:<{}}  {:<20}  {:>6}  {:>6}  {:>4}  {:>8}  {:>8}  {:>6}  {:>13}  {:>13}  {:>6}  {:>8}  {:<{}}  {}\n", i + 1, l.lot_id, w,
                          l.recorded_at, l.lamps, format_fixed_dash(100 * l.pass_rate, 1), l.bad_files, format_fixed_dash(l.centroid_x, 4),
                          format_fixed_dash(l.centroid_y, 4), format_fixed_dash(l.centroid_steps, 2),
                          fmt::format("{} ({})", format_fixed_dash(l.mean_cct_K, 0), format_fixed_dash(l.sd_cct_K, 0)),
                          fmt::format("{} ({})", format_fixed_dash(l.mean_ra, 1), format_fixed_dash(l.sd_ra, 1)), format_fixed_dash(l.mean_r9, 1),
-                         format_fixed_dash(l.mean_duv, 4), l.spec_name);
+                         format_fixed_dash(l.mean_duv, 4), l.lampwright_version, vw, l.spec_name);
     }
     return o;
 }

@@ -49,8 +49,12 @@ QuantityFormat quantity_format(const std::string& q) {
     if (q == "Ra") return {"Ra", 2};
     if (q == "R9") return {"R9", 2};
     if (q == "steps") return {"MacAdam steps", 2};
+    if (q == "flux_lm") return {"flux (lm)", 1};
+    if (q == "efficacy_lm_per_W") return {"efficacy lm/W", 1};
     return {"?", 4};
 }
+
+bool is_photometric(const std::string& q) { return q == "flux_lm" || q == "efficacy_lm_per_W"; }
 
 const char* region_name(QcSpec::Region r) {
     switch (r) {
@@ -83,6 +87,10 @@ std::string limits_text(const QcSpec& s) {
     if (s.duv_min && s.duv_max) l.push_back(fmt::format("Duv {:+g} to {:+g}", *s.duv_min, *s.duv_max));
     else if (s.duv_min) l.push_back(fmt::format("Duv ≥ {:+g}", *s.duv_min));
     else if (s.duv_max) l.push_back(fmt::format("Duv ≤ {:+g}", *s.duv_max));
+    if (s.flux_min_lm && s.flux_max_lm) l.push_back(fmt::format("flux {:g}-{:g} lm", *s.flux_min_lm, *s.flux_max_lm));
+    else if (s.flux_min_lm) l.push_back(fmt::format("flux ≥ {:g} lm", *s.flux_min_lm));
+    else if (s.flux_max_lm) l.push_back(fmt::format("flux ≤ {:g} lm", *s.flux_max_lm));
+    if (s.efficacy_min_lm_per_W) l.push_back(fmt::format("efficacy ≥ {:g} lm/W", *s.efficacy_min_lm_per_W));
     return l.empty() ? "none besides the chromaticity region" : join(l, ", ");
 }
 
@@ -359,14 +367,21 @@ std::vector<UV> tolerance_region_uv(const QcSpec& spec, int points) {
     return out;
 }
 
+// The photometry columns (the assessment's last kPhotometryColumns) go after the qc columns, so
+// the qc columns keep their places.
 std::vector<std::string> qc_lamp_columns() {
     auto c = assessment_columns();
+    const std::vector<std::string> photometry(c.end() - kPhotometryColumns, c.end());
+    c.resize(c.size() - static_cast<std::size_t>(kPhotometryColumns));
     for (const char* k : {"file", "steps", "inside_region", "pass", "failures", "outlier", "outlier_note"}) c.push_back(k);
+    c.insert(c.end(), photometry.begin(), photometry.end());
     return c;
 }
 
 std::vector<std::string> qc_lamp_values(const LampResult& l) {
     auto v = assessment_values(l.assessment);
+    const std::vector<std::string> photometry(v.end() - kPhotometryColumns, v.end());
+    v.resize(v.size() - static_cast<std::size_t>(kPhotometryColumns));
     v.push_back(l.file);
     v.push_back(format_fixed(l.steps, 3));
     v.push_back(l.inside_region ? "true" : "false");
@@ -374,6 +389,7 @@ std::vector<std::string> qc_lamp_values(const LampResult& l) {
     v.push_back(join(l.failures, "; "));
     v.push_back(l.outlier ? "true" : "false");
     v.push_back(l.outlier_note);
+    v.insert(v.end(), photometry.begin(), photometry.end());
     return v;
 }
 
@@ -391,12 +407,20 @@ std::string qc_text(const QcRun& run) {
         std::size_t w = 4;
         for (const auto& l : run.lamps) w = std::max(w, l.name.size());
         w = std::min<std::size_t>(w, 40);
-        o += fmt::format("\n  {:<{}}  {:>7} {:>7} {:>6} {:>8} {:>6} {:>6} {:>6}  result\n", "lamp", w, "x", "y", "CCT K", "Duv", "Ra", "R9", "steps");
+        // Flux columns only when some lamp was measured in absolute units; a relative lamp there
+        // shows "relative".
+        const bool photometry = std::any_of(run.lamps.begin(), run.lamps.end(), [](const LampResult& l) { return l.assessment.absolute; });
+        const std::string flux_head = photometry ? fmt::format(" {:>9} {:>6}", "flux lm", "lm/W") : "";
+        o += fmt::format("\n  {:<{}}  {:>7} {:>7} {:>6} {:>8} {:>6} {:>6} {:>6}{}  result\n", "lamp", w, "x", "y", "CCT K", "Duv", "Ra", "R9", "steps", flux_head);
         for (const auto& l : run.lamps) {
             const auto& a = l.assessment;
-            o += fmt::format("  {:<{}}  {:>7.4f} {:>7.4f} {:>6} {:>8} {:>6} {:>6} {:>6.2f}  {}", l.name, w, a.xy.x, a.xy.y, format_fixed(cct_of(l), 0, "-"),
+            std::string flux;
+            if (photometry)
+                flux = a.luminous_flux_lm ? fmt::format(" {:>9.1f} {:>6}", *a.luminous_flux_lm, a.efficacy_lm_per_W ? fmt::format("{:.1f}", *a.efficacy_lm_per_W) : "-")
+                                          : fmt::format(" {:>9} {:>6}", "relative", "-");
+            o += fmt::format("  {:<{}}  {:>7.4f} {:>7.4f} {:>6} {:>8} {:>6} {:>6} {:>6.2f}{}  {}", l.name, w, a.xy.x, a.xy.y, format_fixed(cct_of(l), 0, "-"),
                              a.cct.valid ? fmt::format("{:+.4f}", a.cct.duv) : "-", format_fixed(ra_of(l), 1, "-"), format_fixed(r9_of(l), 1, "-"), l.steps,
-                             l.pass() ? "PASS" : "FAIL");
+                             flux, l.pass() ? "PASS" : "FAIL");
             if (!l.pass()) o += "  " + join(l.failures, "; ");
             if (l.outlier) o += fmt::format("  [outlier: {}]", l.outlier_note);
             o += "\n";
@@ -412,6 +436,7 @@ std::string qc_text(const QcRun& run) {
         o += "\n  lot statistics\n";
         o += fmt::format("    {:<14} {:>11} {:>11} {:>11} {:>11}\n", "quantity", "mean", "sd", "min", "max");
         for (const auto& q : st.summaries) {
+            if (is_photometric(q.quantity) && !std::isfinite(q.mean)) continue;  // relative spectra: no flux to summarise
             const auto f = quantity_format(q.quantity);
             o += fmt::format("    {:<14} {:>11} {:>11} {:>11} {:>11}\n", f.label, format_fixed(q.mean, f.decimals, "-"), format_fixed(q.sd, f.decimals + 1, "-"),
                              format_fixed(q.min, f.decimals, "-"), format_fixed(q.max, f.decimals, "-"));
@@ -461,7 +486,9 @@ nlohmann::ordered_json qc_json(const QcRun& run) {
     if (s.region == QcSpec::Region::circle) spec["max_duv_prime"] = s.max_duv_prime;
     if (s.ansi_class) spec["ansi_class_K"] = s.ansi_class->nominal_K;
     spec["limits"] = {{"ra_min", opt_json(s.ra_min)},       {"r9_min", opt_json(s.r9_min)}, {"cct_min_K", opt_json(s.cct_min_K)},
-                      {"cct_max_K", opt_json(s.cct_max_K)}, {"duv_min", opt_json(s.duv_min)}, {"duv_max", opt_json(s.duv_max)}};
+                      {"cct_max_K", opt_json(s.cct_max_K)}, {"duv_min", opt_json(s.duv_min)}, {"duv_max", opt_json(s.duv_max)},
+                      {"flux_min_lm", opt_json(s.flux_min_lm)}, {"flux_max_lm", opt_json(s.flux_max_lm)},
+                      {"efficacy_min_lm_per_W", opt_json(s.efficacy_min_lm_per_W)}};
     J j;
     j["spec"] = spec;
     j["count"] = st.count;
