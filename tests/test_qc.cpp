@@ -57,7 +57,9 @@ TEST_CASE("qc spec: the three target kinds and the limits load") {
         {"name='x'\n[target]\nflamp='F9999'\n", "F9999"},
         {"name='x'\n[target]\nflamp='F4100'\nansi_class=4000\n", "exactly one"},
         {"name='x'\n[target]\nx=0.38\n", "both x and y"},
-        {"name='x'\n[target]\nflamp='F4100'\n[limits]\ncct_min_K=4300\ncct_max_K=3800\n", "below"},
+        {"name='x'\n[target]\nflamp='F4100'\n[limits]\ncct_min_K=4300\ncct_max_K=3800\n", "cct_min_K (4300) must be below cct_max_K (3800)"},
+        {"name='x'\n[target]\nflamp='F4100'\n[limits]\nduv_min=0.002\nduv_max=-0.002\n", "duv_min (0.002) must be below duv_max (-0.002)"},
+        {"name='x'\n[target]\nflamp='F4100'\n[limits]\nflux_min_lm=3000\nflux_max_lm=2500\n", "flux_min_lm (3000) must be below flux_max_lm (2500)"},
         {"name='x'\n[target]\nflamp='F4100'\n[limits]\nra_minimum=80\n", "unknown key"},
         {"name='x'\n[target]\nx=0.38\ny=0.38\nsteps=4\nduv_prime_max=0.004\n", "not both"},
     };

@@ -6,6 +6,8 @@
 #include "lampwright/phosphor/recipe.hpp"
 #include "lampwright/design/targets.hpp"
 #include "lampwright/design/tolerance.hpp"
+#include "lampwright/report/fit_report.hpp"
+#include <fmt/format.h>
 
 #include "test_support.hpp"
 
@@ -246,6 +248,9 @@ TEST_CASE("tolerance: draws with no finite chromaticity are counted as failed, n
     const auto inside = static_cast<std::size_t>(std::count_if(finite.begin(), finite.end(), [&](double s) { return s <= t.steps; }));
     CHECK(r.inside == inside);
     CHECK(r.yield == doctest::Approx(static_cast<double>(inside) / 4000.0));
+    // The reports say how many lamps failed (text, JSON and the fit's CSV columns).
+    CHECK(tolerance_text(t, r, 1.0, "test").find(fmt::format("failed:     {} draws gave no light", r.failed)) != std::string::npos);
+    CHECK(tolerance_json(t, r, 1.0, "test")["failed"] == r.failed);
 }
 
 TEST_CASE("fit command: tolerance run, reproducible, and its usage errors") {

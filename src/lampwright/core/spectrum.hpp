@@ -2,6 +2,7 @@
 // Spectral power distributions: as measured (any wavelengths) and on lampwright's 1 nm grid.
 #include <optional>
 #include <string>
+#include <utility>
 #include <vector>
 
 namespace lampwright {
@@ -16,6 +17,14 @@ struct SampledSpectrum {
     // lamp, where it is known, gives its luminous efficacy.
     bool absolute = false;
     std::optional<double> electrical_power_W;
+
+    // Constructors rather than an aggregate, so the many relative spectra built as
+    // {name, wavelengths, values} need not spell out the photometry fields.
+    SampledSpectrum() = default;
+    SampledSpectrum(std::string name_, std::vector<double> wavelengths, std::vector<double> values_, bool absolute_ = false,
+                    std::optional<double> power_W = std::nullopt)
+        : name(std::move(name_)), wavelengths_nm(std::move(wavelengths)), values(std::move(values_)), absolute(absolute_),
+          electrical_power_W(power_W) {}
 };
 
 // A spectrum on a 1 nm grid starting at an integer wavelength. All computation uses this type.
@@ -25,6 +34,10 @@ struct Spectrum {
     std::vector<double> values;
     bool absolute = false;                     // values in W/nm (see SampledSpectrum)
     std::optional<double> electrical_power_W;  // the lamp's electrical input power, where known
+
+    Spectrum() = default;
+    Spectrum(std::string name_, int first, std::vector<double> values_, bool absolute_ = false, std::optional<double> power_W = std::nullopt)
+        : name(std::move(name_)), first_nm(first), values(std::move(values_)), absolute(absolute_), electrical_power_W(power_W) {}
 
     int last_nm() const { return first_nm + static_cast<int>(values.size()) - 1; }
     bool covers(int nm) const { return nm >= first_nm && nm <= last_nm(); }

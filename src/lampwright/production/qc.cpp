@@ -107,13 +107,13 @@ QcSpec load_qc_spec(const std::string& path) {
             if (const auto v = doc.number(*l, k, "limits"); v && !(std::isfinite(*v) && *v >= 0))
                 doc.fail(l->get(k), std::string("limits.") + k, fmt::format("must be a number >= 0, not {:g}", *v));
         if (s.flux_min_lm && s.flux_max_lm && *s.flux_min_lm >= *s.flux_max_lm)
-            doc.fail(l->get("flux_min_lm"), "limits", "flux_min_lm must be below flux_max_lm");
+            doc.fail(l->get("flux_min_lm"), "limits", fmt::format("flux_min_lm ({:g}) must be below flux_max_lm ({:g})", *s.flux_min_lm, *s.flux_max_lm));
         // The most efficacious white possible is below the 683 lm/W of 555 nm light.
         if (s.efficacy_min_lm_per_W && *s.efficacy_min_lm_per_W > kKm)
             doc.fail(l->get("efficacy_min_lm_per_W"), "limits.efficacy_min_lm_per_W", fmt::format("cannot exceed Km = {:g} lm/W", kKm));
         if (s.ra_min && *s.ra_min > 100) doc.fail(l->get("ra_min"), "limits.ra_min", "cannot exceed 100");
-        if (s.cct_min_K && s.cct_max_K && *s.cct_min_K >= *s.cct_max_K) doc.fail(l->get("cct_min_K"), "limits", "cct_min_K must be below cct_max_K");
-        if (s.duv_min && s.duv_max && *s.duv_min >= *s.duv_max) doc.fail(l->get("duv_min"), "limits", "duv_min must be below duv_max");
+        if (s.cct_min_K && s.cct_max_K && *s.cct_min_K >= *s.cct_max_K) doc.fail(l->get("cct_min_K"), "limits", fmt::format("cct_min_K ({:g}) must be below cct_max_K ({:g})", *s.cct_min_K, *s.cct_max_K));
+        if (s.duv_min && s.duv_max && *s.duv_min >= *s.duv_max) doc.fail(l->get("duv_min"), "limits", fmt::format("duv_min ({:g}) must be below duv_max ({:g})", *s.duv_min, *s.duv_max));
         if ((s.cct_min_K && *s.cct_min_K < 100) || (s.cct_max_K && *s.cct_max_K < 100))
             doc.fail(l->get("cct_min_K") ? l->get("cct_min_K") : l->get("cct_max_K"), "limits", "CCT limits are in kelvin");
     }

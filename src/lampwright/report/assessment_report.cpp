@@ -46,10 +46,12 @@ std::vector<std::string> assessment_values(const Assessment& a) {
         v.insert(v.end(), 15, "");
     }
     v.push_back(format_fixed(a.ler_lm_per_W, 2));
-    const double y = a.xyz.Y;  // X, Y, Z scaled to Y = 100
-    v.push_back(format_fixed(100 * a.xyz.X / y, 4));
+    // X, Y, Z scaled to Y = 100; the ratio first, so tristimulus values near the largest double
+    // (a spectrum in odd units) do not overflow in 100 * X.
+    const double y = a.xyz.Y;
+    v.push_back(format_fixed(100 * (a.xyz.X / y), 4));
     v.push_back(format_fixed(100.0, 4));
-    v.push_back(format_fixed(100 * a.xyz.Z / y, 4));
+    v.push_back(format_fixed(100 * (a.xyz.Z / y), 4));
     v.push_back(format_fixed(a.uv1960.u, 5));
     v.push_back(format_fixed(a.uv1960.v, 5));
     v.push_back(a.rendering ? format_fixed(a.rendering->dc, 5) : "");

@@ -187,6 +187,8 @@ std::string tolerance_text(const ToleranceProblem& t, const ToleranceResult& r, 
                      r.mean_steps, r.sd_steps, r.p50, r.p90, r.p95, r.p99, r.max_steps);
     o << fmt::format("  inside the {:g}-step ellipse: {:.2f} % of lamps (standard error {:.2f} %, {} of {})\n", r.steps_limit, 100 * r.yield,
                      100 * r.yield_standard_error, r.inside, r.draws);
+    if (r.failed > 0)
+        o << fmt::format("  failed:     {} draws gave no light (every QE drawn at zero): counted outside, left out of the figures above\n", r.failed);
     return o.str();
 }
 
@@ -282,7 +284,7 @@ std::pair<std::vector<std::string>, std::vector<std::string>> fit_csv(const FitP
     if (tr || tolerance_run) {
         for (const char* k : {"tol_draws", "tol_seed", "tol_steps_limit", "tol_inside_share", "tol_inside_standard_error",
                               "tol_mean_steps", "tol_sd_steps", "tol_p50_steps", "tol_p90_steps", "tol_p95_steps", "tol_p99_steps",
-                              "tol_max_steps", "tol_nominal_steps"})
+                              "tol_max_steps", "tol_nominal_steps", "tol_failed"})
             cols.push_back(k);
         if (tr) {
             vals.push_back(fmt::format("{}", tr->draws));
@@ -290,6 +292,7 @@ std::pair<std::vector<std::string>, std::vector<std::string>> fit_csv(const FitP
             for (double v : {tr->steps_limit, tr->yield, tr->yield_standard_error, tr->mean_steps, tr->sd_steps, tr->p50, tr->p90, tr->p95,
                              tr->p99, tr->max_steps, tr->nominal_steps})
                 vals.push_back(fmt::format("{:.6g}", v));
+            vals.push_back(fmt::format("{}", tr->failed));
         } else {
             vals.resize(cols.size());  // no tolerance run (the fit was infeasible): empty cells
         }
@@ -311,7 +314,7 @@ nlohmann::ordered_json tolerance_json(const ToleranceProblem& tp, const Toleranc
     return {{"draws", tr.draws}, {"seed", tr.seed}, {"weighing_relative", tp.weighing_relative},
               {"weighing_sigma", tp.weighing_sigma}, {"peak_sigma_nm", tp.peak_sigma_nm}, {"qe_sigma", tp.qe_sigma},
               {"steps_limit", tr.steps_limit}, {"ellipse", ellipse_source}, {"inside_share", tr.yield},
-              {"inside_standard_error", tr.yield_standard_error}, {"inside", tr.inside},
+              {"inside_standard_error", tr.yield_standard_error}, {"inside", tr.inside}, {"failed", tr.failed},
               {"nominal_steps", tr.nominal_steps}, {"mean_steps", tr.mean_steps}, {"sd_steps", tr.sd_steps},
               {"p50_steps", tr.p50}, {"p90_steps", tr.p90}, {"p95_steps", tr.p95}, {"p99_steps", tr.p99},
               {"max_steps", tr.max_steps}, {"mean_x", tr.mean_x}, {"mean_y", tr.mean_y}, {"sd_x", tr.sd_x},
