@@ -21,6 +21,7 @@
 #include <fmt/format.h>
 #include <pugixml.hpp>
 
+#include <algorithm>
 #include <cmath>
 #include <sstream>
 #include <string>
@@ -314,4 +315,55 @@ TEST_CASE("qc report: the histogram labels do not overlap") {
         for (std::size_t i = 0; i < boxes.size(); ++i)
             for (std::size_t j = i + 1; j < boxes.size(); ++j) CHECK_MESSAGE(!overlap(boxes[i], boxes[j]), labels[i] << " overlaps " << labels[j]);
     }
+}
+
+TEST_CASE("text tables: each header ends where its column's values end (fit and compare)") {
+    // Right-aligned numeric columns: the last character of a header word and of each value below it
+    // share a column.
+    auto right_edges = [](const std::string& line) {
+        std::vector<std::size_t> e;
+        for (std::size_t i = 0; i < line.size(); ++i)
+            if (line[i] != ' ' && (i + 1 == line.size() || line[i + 1] == ' ')) e.push_back(i);
+        return e;
+    };
+    const auto fit = lwtest::run_cli_args({"fit", lwtest::example_recipe("triband_4000K.toml"), "--cct", "3500", "--maximize", "ra"});
+    REQUIRE(fit.exit_code == 0);
+    const auto lines = lines_of(fit.out);
+    std::size_t h = 0;
+    while (h < lines.size() && lines[h].find("  component") != 0) ++h;
+    REQUIRE(h + 3 < lines.size());
+    const auto head = right_edges(lines[h]);
+    REQUIRE(head.size() == 3);  // component, start, fitted
+    for (std::size_t r = h + 1; r <= h + 3; ++r) {
+        const auto e = right_edges(lines[r]);
+        REQUIRE(e.size() >= 2);
+        CHECK_MESSAGE(e[e.size() - 2] == head[1], lines[h] << "\n" << lines[r]);
+        CHECK_MESSAGE(e.back() == head[2], lines[h] << "\n" << lines[r]);
+    }
+    // compare: Duv signed like every other Duv in text (+0.0004, not 0.0004).
+    const auto cmp = lwtest::run_cli_args({"compare", std::string(LAMPWRIGHT_SOURCE_DIR) + "/examples/layers/module395_150um.toml"});
+    REQUIRE(cmp.exit_code == 0);
+    const auto cl = lines_of(cmp.out);
+    REQUIRE(cl.size() >= 2);
+    CHECK(cl[1].find(" +0.0004 ") != std::string::npos);
+    const auto ch = right_edges(cl[0]);
+    for (std::size_t e : right_edges(cl[1]))
+        if (e > 45) CHECK_MESSAGE(std::find(ch.begin(), ch.end(), e) != ch.end(), "value ending at column " << e << "\n" << cl[0] << "\n" << cl[1]);
+}
+
+TEST_CASE("layer fit text: constraints with fixed decimals per quantity, never an exponent") {
+    const auto r = lwtest::run_cli_args({"fit", std::string(LAMPWRIGHT_SOURCE_DIR) + "/examples/layers/module395_80um.toml", "--cct", "4000", "--fit-thickness"});
+    REQUIRE(r.exit_code == 0);
+    bool delta = false;
+    for (const auto& l : lines_of(r.out)) {
+        if (l.find("    ok ") != 0 && l.find("    FAILED ") != 0) continue;
+        CHECK_MESSAGE(l.find("e-0") == std::string::npos, l);
+        const auto p = l.find("delta u'v' from the target ");
+        if (p != std::string::npos) {
+            delta = true;
+            const std::string v = l.substr(p + 27, l.find(',', p) - p - 27);
+            CHECK_MESSAGE(v.size() == 7, l);  // 0.00049: five decimals, as in the blend fit
+        }
+    }
+    CHECK(delta);
 }

@@ -31,7 +31,7 @@ std::string comparison_text(const std::vector<ComparisonEntry>& entries) {
         const auto& a = e.assessment;
         const auto [ra, r9, cct] = figures(e);
         o += fmt::format("{:<36} {:<8} {:>7} {:>7} {:>7} {:>8} {:>6} {:>6} {:>7} {:>6} {:>7} {:>8}\n", e.name.substr(0, 36), e.kind,
-                         cell(a.xy.x, 4), cell(a.xy.y, 4), cell(cct, 0), cell(a.cct.duv, 4), cell(ra, 1), cell(r9, 1),
+                         cell(a.xy.x, 4), cell(a.xy.y, 4), cell(cct, 0), format_signed(a.cct.duv, 4, "-"), cell(ra, 1), cell(r9, 1),
                          cell(a.ler_lm_per_W, 1), cell(e.efficiency, 3), cell(100 * e.leak_fraction, 2), cell(e.efficacy, 1));
     }
     return o + "eff: converted W per W pump (layer), W per W absorbed (blend); lm/W*: per W pump (layer), per W absorbed (blend)\n";

@@ -43,11 +43,14 @@ std::string fit_text(const FitProblem& p, const FitResult& r, double ms) {
     o << fmt::format("  chromaticity: {}\n", fit_chromaticity_aim(p));
     o << fmt::format("  method:     {}, {} evaluations, {:.1f} ms\n", r.method, r.evaluations, ms);
     o << fmt::format("  result:     {}{}\n", r.feasible ? "" : "NOT FEASIBLE - ", r.message);
-    o << "\n  component                                   start    fitted\n";
+    // Header and rows from the same widths (the name column as wide as the longest label).
+    std::size_t name_w = 40;
+    for (const auto& c : p.blend.components) name_w = std::max(name_w, c.label.size());
+    o << fmt::format("\n  {:<{}}  {:>6}   {:>8}\n", "component", name_w, "start", "fitted");
     for (std::size_t i = 0; i < p.blend.components.size(); ++i) {
         double total = 0;
         for (const auto& c : p.blend.components) total += c.mass_fraction;
-        o << fmt::format("  {:<40}  {:.4f}   {:.6f}\n", p.blend.components[i].label, p.blend.components[i].mass_fraction / total,
+        o << fmt::format("  {:<{}}  {:>6.4f}   {:>8.6f}\n", p.blend.components[i].label, name_w, p.blend.components[i].mass_fraction / total,
                          r.mass_fractions[i]);
     }
     o << fmt::format("\n  x, y        {:.4f}, {:.4f}   u'v' {:.4f}, {:.4f}   delta u'v' from target {:.5f}\n", a.xy.x, a.xy.y,

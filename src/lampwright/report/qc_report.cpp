@@ -37,17 +37,18 @@ std::string join(const std::vector<std::string>& v, const std::string& sep) {
     return o;
 }
 
-// How a summarised quantity is named and printed.
+// How a summarised quantity is named and printed: the decimals every text output uses for it (x, y
+// and Duv 4, CCT whole kelvin, Ra and R9 1; a standard deviation gets one more).
 struct QuantityFormat {
     const char* label;
     int decimals;
 };
 QuantityFormat quantity_format(const std::string& q) {
-    if (q == "x" || q == "y") return {q == "x" ? "x" : "y", 5};
+    if (q == "x" || q == "y") return {q == "x" ? "x" : "y", 4};
     if (q == "cct_K") return {"CCT (K)", 0};
-    if (q == "duv") return {"Duv", 5};
-    if (q == "Ra") return {"Ra", 2};
-    if (q == "R9") return {"R9", 2};
+    if (q == "duv") return {"Duv", 4};
+    if (q == "Ra") return {"Ra", 1};
+    if (q == "R9") return {"R9", 1};
     if (q == "steps") return {"MacAdam steps", 2};
     if (q == "flux_lm") return {"flux (lm)", 1};
     if (q == "efficacy_lm_per_W") return {"efficacy lm/W", 1};
@@ -69,8 +70,9 @@ std::string region_text(const QcSpec& s) {
     switch (s.region) {
         case QcSpec::Region::ellipse: return fmt::format("{:g}-step MacAdam ellipse", s.max_steps);
         case QcSpec::Region::ansi_quadrangle:
-            return s.ansi_class ? fmt::format("ANSI C78.377 {} K quadrangle ({:g} ± {:g} K, Duv {:+.4f} ± {:g})", s.ansi_class->nominal_K,
-                                              s.ansi_class->cct_K, s.ansi_class->cct_tolerance_K, s.ansi_class->duv_centre, kAnsiC78377DuvTolerance)
+            return s.ansi_class ? fmt::format("ANSI C78.377 {} K quadrangle ({:g} ± {:g} K, Duv {} ± {:g})", s.ansi_class->nominal_K,
+                                              s.ansi_class->cct_K, s.ansi_class->cct_tolerance_K, format_signed(s.ansi_class->duv_centre, 4),
+                                              kAnsiC78377DuvTolerance)
                                 : "ANSI C78.377 quadrangle";
         case QcSpec::Region::circle: return fmt::format("circle of radius {:g} in u'v'", s.max_duv_prime);
     }
