@@ -6,8 +6,10 @@
 #include "lampwright/colour/illuminants.hpp"
 #include "lampwright/core/error.hpp"
 #include "lampwright/core/format.hpp"
+#include "lampwright/led/layer_design.hpp"
 #include "lampwright/phosphor/excitation.hpp"
 #include "lampwright/phosphor/phosphor.hpp"
+#include "lampwright/phosphor/recipe.hpp"
 #include "lampwright/production/lot_history.hpp"
 #include "lampwright/production/qc.hpp"
 #include "lampwright/report/assessment_report.hpp"
@@ -23,6 +25,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <fstream>
 #include <sstream>
 #include <string>
 #include <vector>
@@ -366,4 +369,38 @@ TEST_CASE("layer fit text: constraints with fixed decimals per quantity, never a
         }
     }
     CHECK(delta);
+}
+
+// ---- shared component tables (phosphor/component_table.hpp) ----
+
+TEST_CASE("recipe and layer design: the shared [[component]] checks give the same problem at the same line") {
+    const lwtest::TempDir dir("lampwright_components");
+    auto problem_of = [&](const std::string& name, const std::string& text, bool layer) {
+        const std::string path = dir.file(name);
+        std::ofstream(path) << text;
+        try {
+            if (layer) (void)load_layer_design(path);
+            else (void)load_recipe(path);
+        } catch (const InputError& e) {
+            const std::string w = e.what();
+            return std::to_string(e.line()) + ": " + w.substr(w.find(path) + path.size());
+        }
+        return std::string("no error");
+    };
+    // Same line numbers in both: the head is two lines in each.
+    const std::string recipe_head = "name = 'r'\nexcitation_nm = 253.7\n", layer_head = "name = 'l'\n[pump]\npeak_nm = 395\nfwhm_nm = 12\n[layer]\nthickness_um = 150\n";
+    const std::string both = "[[component]]\nphosphor = 'BAM'\nspectrum = 'x.csv'\n";
+    const std::string percent = "[[component]]\nphosphor = 'BAM'\nquantum_efficiency = 90\n";
+    const std::string unknown = "[[component]]\nphosphor = 'no-such-phosphor'\n";
+    for (const auto& [what, body] : std::vector<std::pair<std::string, std::string>>{{"both", both}, {"percent", percent}, {"unknown", unknown}}) {
+        CAPTURE(what);
+        const std::string r = problem_of("r.toml", recipe_head + body + "mass_fraction = 1\n", false);
+        const std::string l = problem_of("l.toml", layer_head + body + "loading = 0.1\n", true);
+        CHECK(r != "no error");
+        // The layer's head is four lines longer.
+        CHECK(std::stoi(l) == std::stoi(r) + 4);
+        CHECK(r.substr(r.find("'component")) == l.substr(l.find("'component")));
+    }
+    CHECK(problem_of("r0.toml", recipe_head, false).find("no [[component]] given") != std::string::npos);
+    CHECK(problem_of("l0.toml", layer_head, true).find("no [[component]] given") != std::string::npos);
 }
