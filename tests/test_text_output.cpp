@@ -140,7 +140,8 @@ TEST_CASE("format_fixed and format_signed: a value that rounds to zero has no mi
 
 TEST_CASE("svg axes: no tick label reads -0 (ticks at whole multiples of the step)") {
     SvgAxes a;
-    a.x_min = -0.3, a.x_max = 0.3, a.y_min = -0.3, a.y_max = 0.3;
+    // A running sum of the step from -0.6 reached -1.1e-16 at the zero tick ("-0.0").
+    a.x_min = -0.7, a.x_max = 0.5, a.y_min = -0.7, a.y_max = 0.5;
     const auto doc = parse(svg_chart(a, {}));
     int zeros = 0;
     for (const auto& t : doc.select_nodes("//text")) {
@@ -264,7 +265,7 @@ TEST_CASE("history svg: legends outside the plot area; lot ids label the x axis,
             boxes.push_back(text_box(t.node()));
             labels.push_back(t.node().child_value());
         }
-        CHECK(labels.size() >= 2);
+        REQUIRE(labels.size() >= 2);
         CHECK(labels.size() < 60);
         CHECK(labels.front() == "lot-20261203T1200-01");
         for (std::size_t i = 1; i < boxes.size(); ++i) CHECK_MESSAGE(!overlap(boxes[i - 1], boxes[i]), labels[i - 1] << " overlaps " << labels[i]);
