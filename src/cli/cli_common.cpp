@@ -157,6 +157,7 @@ void apply_photometry_options(const std::string& units, const std::optional<doub
 
 void print_error(const std::string& message) { std::cerr << "lampwright: error: " << message << '\n'; }
 void print_warning(const std::string& message) { std::cerr << "lampwright: warning: " << message << '\n'; }
+void print_note(const std::string& message) { std::cerr << "lampwright: note: " << message << '\n'; }
 
 void check_outputs_apart(const std::vector<FileRole>& outputs, const std::vector<FileRole>& inputs) {
     try {

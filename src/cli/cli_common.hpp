@@ -79,7 +79,10 @@ void write_document_or_throw(const std::string& path, const std::string& documen
 // This run's version, command line and start time (set once by main); qc adds the lot id.
 RunProvenance& run_provenance();
 void set_run_provenance(int argc, char** argv);
+// Every message to standard error goes through these three, so they share one prefix:
+// "lampwright: error: ", "lampwright: warning: ", "lampwright: note: " (what was done, e.g. a lot recorded).
 void print_warning(const std::string& message);
+void print_note(const std::string& message);
 
 // The accepted range of a numeric option. Every numeric option of every command is declared with
 // add_number_option, so the help states the range and a bad value (not a number, "nan", "inf",

@@ -86,7 +86,7 @@ Options)");
     }
     std::cout << (f == Format::csv ? comparison_csv(entries) : comparison_text(entries));
     for (const auto& e : entries)
-        if (!e.caution.empty()) std::cerr << "lampwright: CAUTION: " << e.name << ": " << e.caution << '\n';
+        if (!e.caution.empty()) print_warning("CAUTION: " + e.name + ": " + e.caution);
     if (!svg.empty() && !entries.empty() && !write_document(svg, comparison_svg(entries))) status |= kExitOutputNotWritten;
     return status;
 }

@@ -27,7 +27,7 @@ int run_layer_fit(const LayerFitProblem& problem, Format format, const std::stri
         case Format::json: std::cout << dump_json(layer_fit_json(r)) << '\n'; break;
     }
     const std::string caution = layer_caution(r.evaluation);
-    if (!caution.empty() && format != Format::text) std::cerr << "lampwright: CAUTION: " << caution << '\n';
+    if (!caution.empty() && format != Format::text) print_warning("CAUTION: " + caution);
     if (!r.feasible) {
         print_error(r.message);
         return kExitBadInput;

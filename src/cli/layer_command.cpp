@@ -46,7 +46,7 @@ local codes and licensed practice.
     const LayerEvaluation rep = naming_input(designs.front(), [&] { return evaluate_layer_design(design); });
     for (const auto& w : rep.operating.assessment.warnings) print_warning(fmt::format("{}: {}", design.name, w));
     const std::string caution = layer_caution(rep);
-    if (!caution.empty() && f != Format::text) std::cerr << "lampwright: CAUTION: " << caution << '\n';
+    if (!caution.empty() && f != Format::text) print_warning("CAUTION: " + caution);
     if (!spectrum_out.empty()) {
         std::ostringstream out;
         write_spectrum_csv(out, rep.operating.spectrum, "value");

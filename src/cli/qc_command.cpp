@@ -126,12 +126,11 @@ other lamp was judged), 4 some lamps failed, 8 the report or the database could 
         try {
             const RecordOutcome o = record_lot(path, run, lot_id, recipe);
             if (!o.already_recorded_as.empty())
-                std::cerr << fmt::format("lampwright qc: every lamp is already recorded as lot {} in {}; nothing recorded\n", o.already_recorded_as, path);
+                print_warning(fmt::format("every lamp is already recorded as lot {} in {}; nothing recorded", o.already_recorded_as, path));
             else if (o.recorded)
-                std::cerr << fmt::format("lampwright qc: lot {} recorded in {} ({} lamps new, {} already there)\n", o.lot_id, path, o.lamps_added,
-                                         o.lamps_skipped);
+                print_note(fmt::format("lot {} recorded in {} ({} lamps new, {} already there)", o.lot_id, path, o.lamps_added, o.lamps_skipped));
             else
-                std::cerr << fmt::format("lampwright qc: lot {} is already in {}; nothing recorded\n", o.lot_id, path);
+                print_warning(fmt::format("lot {} is already in {}; nothing recorded", o.lot_id, path));
         } catch (const std::exception& e) {
             print_error(fmt::format("the lot was not recorded: {}", e.what()));
             status |= kExitOutputNotWritten;

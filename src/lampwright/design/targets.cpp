@@ -2,6 +2,7 @@
 
 #include "lampwright/core/embedded_data.hpp"
 #include "lampwright/core/error.hpp"
+#include "lampwright/core/format.hpp"
 #include "lampwright/colour/temperature.hpp"
 
 #include <fmt/format.h>
@@ -199,7 +200,7 @@ Target target_cct(double cct_K, double duv) {
     Target t;
     t.kind = Target::Kind::cct_duv;
     t.xy = xy_from_cct_duv(cct_K, duv);
-    t.description = fmt::format("{:g} K, Duv {:+.4f}", cct_K, duv);
+    t.description = fmt::format("{:g} K, Duv {}", cct_K, format_signed(duv, 4));
     return t;
 }
 
@@ -209,7 +210,7 @@ Target target_ansi_c78377(int nominal_K) {
     t.kind = Target::Kind::ansi_c78377;
     t.xy = c.centre;
     t.ansi_class = c;
-    t.description = fmt::format("ANSI C78.377 {} K class centre ({:g} K, Duv {:+.4f})", c.nominal_K, c.cct_K, c.duv_centre);
+    t.description = fmt::format("ANSI C78.377 {} K class centre ({:g} K, Duv {})", c.nominal_K, c.cct_K, format_signed(c.duv_centre, 4));
     return t;
 }
 

@@ -1,6 +1,7 @@
 #include "lampwright/led/layer_design.hpp"
 
 #include "lampwright/phosphor/blend.hpp"
+#include "lampwright/phosphor/component_table.hpp"
 #include "lampwright/core/interpolation.hpp"
 #include "lampwright/io/spectrum_io.hpp"
 
@@ -94,36 +95,22 @@ LayerDesign layer_design_from_toml(const TomlDoc& doc, const std::vector<std::st
     folders.insert(folders.end(), extra_folders.begin(), extra_folders.end());
     const PhosphorLibrary library = folders.empty() ? PhosphorLibrary::builtin() : PhosphorLibrary::with_folders(folders);
 
-    const auto* comps = doc.array(r, "component", "");
-    if (!comps || comps->empty()) doc.fail(&r, "", "no [[component]] given");
+    const toml::array& components = component_array(doc, r);
+    const toml::array* comps = &components;
     double total = 0;
     for (std::size_t i = 0; i < comps->size(); ++i) {
-        const std::string where = fmt::format("component[{}]", i + 1);
-        const auto* c = comps->get(i)->as_table();
-        if (!c) doc.fail(comps->get(i), where, "must be a [[component]] table");
+        std::string where;
+        const toml::table* c = &component_table(doc, components, i, where);
         doc.only_keys(*c, {"phosphor", "spectrum", "absorption_spectrum", "quantum_efficiency", "loading", "label", "min_loading", "max_loading"}, where);
         LayerComponent lc;
         lc.loading = doc.require_number(*c, "loading", where);
         if (!(lc.loading > 0) || lc.loading >= 1)
             doc.fail(c->get("loading"), key_path(where, "loading"), fmt::format("must be a mass fraction in (0, 1), not {:g} (percent?)", lc.loading));
         total += lc.loading;
-        const auto id = doc.string(*c, "phosphor", where);
-        const auto em = doc.string(*c, "spectrum", where);
-        if (id && em) doc.fail(c, where, "give either 'phosphor' or 'spectrum', not both");
-        if (!id && !em) doc.fail(c, where, "needs 'phosphor' (a library id) or 'spectrum' + 'absorption_spectrum' + 'quantum_efficiency'");
-        if (id) {
-            try {
-                lc.phosphor = library.find(*id);
-            } catch (const Error& e) {
-                doc.fail(c->get("phosphor"), key_path(where, "phosphor"), e.what());
-            }
-        } else {
-            const std::string path = path_relative_to(doc.source(), *em);
-            try {
-                lc.phosphor = phosphor_from_emission_file(path);
-            } catch (const InputError& e) {
-                doc.fail(c->get("spectrum"), key_path(where, "spectrum"), e.what());
-            }
+        const bool measured = !doc.string(*c, "phosphor", where);
+        lc.phosphor = component_phosphor(doc, *c, where, library,
+                                         "needs 'phosphor' (a library id) or 'spectrum' + 'absorption_spectrum' + 'quantum_efficiency'");
+        if (measured) {
             const auto abs_file = doc.string(*c, "absorption_spectrum", where);
             if (!abs_file) doc.fail(c, where, "a measured 'spectrum' needs 'absorption_spectrum' (CSV of relative absorption per unit mass)");
             const Spectrum a = read_one_spectrum(doc, c->get("absorption_spectrum"), key_path(where, "absorption_spectrum"), path_relative_to(doc.source(), *abs_file));
@@ -133,11 +120,7 @@ LayerDesign layer_design_from_toml(const TomlDoc& doc, const std::vector<std::st
             }
             if (!doc.number(*c, "quantum_efficiency", where)) doc.fail(c, where, "a measured 'spectrum' needs 'quantum_efficiency'");
         }
-        if (auto q = doc.number(*c, "quantum_efficiency", where)) {
-            if (*q <= 0 || *q > 1)
-                doc.fail(c->get("quantum_efficiency"), key_path(where, "quantum_efficiency"), fmt::format("must be a fraction in (0, 1], not {:g} (percent?)", *q));
-            lc.quantum_efficiency = *q;
-        }
+        if (auto q = component_quantum_efficiency(doc, *c, where)) lc.quantum_efficiency = *q;
         lc.label = doc.string(*c, "label", where).value_or(lc.phosphor.id);
         // Limits for the fit, as mass fractions of the layer like the loading itself.
         if (auto v = doc.number(*c, "min_loading", where)) {

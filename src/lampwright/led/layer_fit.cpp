@@ -1,6 +1,7 @@
 #include "lampwright/led/layer_fit.hpp"
 
 #include "lampwright/core/error.hpp"
+#include "lampwright/core/format.hpp"
 
 #include <fmt/format.h>
 #include <nlopt.hpp>
@@ -187,23 +188,27 @@ LayerFitResult fit_layer(const LayerFitProblem& p, int max_evaluations) {
     const double ra = a.rendering ? a.rendering->ra : NAN, r9 = a.rendering ? a.rendering->ri[8] : NAN;
     double total = 0;
     for (const auto& c : r.design.components) total += c.loading;
-    auto add = [&](const std::string& name, double value, double limit, bool ok, bool active) {
-        r.constraints.push_back({name, value, limit, ok, active, fmt::format("{:<6} {} {:.5g}, limit {:.5g}{}", ok ? "ok" : "FAILED", name, value, limit, active ? "  [active]" : "")});
+    // Each quantity with the decimals it has everywhere else (delta u'v' 5, steps 2, loadings 6 as
+    // in the design file, Ra and R9 2, as the blend fit's constraints), never "%g" ("7.0399e-07").
+    auto add = [&](const std::string& name, double value, double limit, bool ok, bool active, int decimals) {
+        r.constraints.push_back({name, value, limit, ok, active,
+                                 fmt::format("{:<6} {} {}, limit {:g}{}", ok ? "ok" : "FAILED", name, format_fixed(value, decimals, "n/a"), limit,
+                                             active ? "  [active]" : "")});
     };
     if (r.macadam_steps)
         add("MacAdam steps from the target", *r.macadam_steps, p.target.ellipse_steps, *r.macadam_steps <= p.target.ellipse_steps * 1.001,
-            *r.macadam_steps > 0.95 * p.target.ellipse_steps);
+            *r.macadam_steps > 0.95 * p.target.ellipse_steps, 2);
     else
         add("delta u'v' from the target", r.distance_uv_prime, p.tolerance_uv_prime, r.distance_uv_prime <= p.tolerance_uv_prime * 1.001,
-            r.distance_uv_prime > 0.95 * p.tolerance_uv_prime);
-    add("total loading", total, p.max_total_loading, total <= p.max_total_loading, total > 0.99 * p.max_total_loading);
+            r.distance_uv_prime > 0.95 * p.tolerance_uv_prime, 5);
+    add("total loading", total, p.max_total_loading, total <= p.max_total_loading, total > 0.99 * p.max_total_loading, 6);
     // The design's own limits (the loadings were rounded to 6 decimals: a 1e-6 slack).
     for (const auto& c : r.design.components) {
-        if (c.min_loading) add("loading of " + c.label + " >=", c.loading, *c.min_loading, c.loading >= *c.min_loading - 1e-6, c.loading < *c.min_loading + 1e-4);
-        if (c.max_loading) add("loading of " + c.label + " <=", c.loading, *c.max_loading, c.loading <= *c.max_loading + 1e-6, c.loading > *c.max_loading - 1e-4);
+        if (c.min_loading) add("loading of " + c.label + " >=", c.loading, *c.min_loading, c.loading >= *c.min_loading - 1e-6, c.loading < *c.min_loading + 1e-4, 6);
+        if (c.max_loading) add("loading of " + c.label + " <=", c.loading, *c.max_loading, c.loading <= *c.max_loading + 1e-6, c.loading > *c.max_loading - 1e-4, 6);
     }
-    if (p.min_ra) add("Ra minimum", ra, *p.min_ra, ra >= *p.min_ra - 1e-6, std::abs(ra - *p.min_ra) < 0.05);
-    if (p.min_r9) add("R9 minimum", r9, *p.min_r9, r9 >= *p.min_r9 - 1e-6, std::abs(r9 - *p.min_r9) < 0.05);
+    if (p.min_ra) add("Ra minimum", ra, *p.min_ra, ra >= *p.min_ra - 1e-6, std::abs(ra - *p.min_ra) < 0.05, 2);
+    if (p.min_r9) add("R9 minimum", r9, *p.min_r9, r9 >= *p.min_r9 - 1e-6, std::abs(r9 - *p.min_r9) < 0.05, 2);
     r.feasible = true;
     for (const auto& c : r.constraints) r.feasible = r.feasible && c.satisfied;
     const Figures f = figures(ctx, best);

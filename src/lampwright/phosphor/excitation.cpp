@@ -55,8 +55,8 @@ double absorption_for(const Phosphor& p, const Excitation& e) {
 double quantum_efficiency_for(const Phosphor& p, const Excitation& e) {
     const auto& qe = e.kind == Excitation::Kind::mercury ? p.qe_254nm : p.qe_365_405nm;
     if (!qe)
-        throw Error(fmt::format("phosphor '{}' has no quantum efficiency for the {} (its data: {}{})", p.id, e.describe(),
-                                p.qe_254nm ? "254 nm " : "", p.qe_365_405nm ? "365-405 nm" : ""));
+        throw Error(fmt::format("phosphor '{}' has no quantum efficiency for the {} (its data: {})", p.id, e.describe(),
+                                p.qe_254nm && p.qe_365_405nm ? "254 nm, 365-405 nm" : p.qe_254nm ? "254 nm" : p.qe_365_405nm ? "365-405 nm" : "none"));
     return *qe;
 }
 

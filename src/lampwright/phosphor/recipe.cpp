@@ -1,5 +1,7 @@
 #include "lampwright/phosphor/recipe.hpp"
 
+#include "lampwright/phosphor/component_table.hpp"
+
 #include "lampwright/core/interpolation.hpp"
 #include "lampwright/io/spectrum_io.hpp"
 
@@ -73,36 +75,19 @@ Recipe recipe_from_toml(const TomlDoc& doc, const std::vector<std::string>& extr
     rec.phosphor_folders.insert(rec.phosphor_folders.end(), extra_folders.begin(), extra_folders.end());
     const PhosphorLibrary library = rec.phosphor_folders.empty() ? PhosphorLibrary::builtin() : PhosphorLibrary::with_folders(rec.phosphor_folders);
 
-    const auto* comps = doc.array(r, "component", "");
-    if (!comps || comps->empty()) doc.fail(&r, "", "no [[component]] given");
-    for (std::size_t i = 0; i < comps->size(); ++i) {
-        const std::string where = fmt::format("component[{}]", i + 1);
-        const auto* c = comps->get(i)->as_table();
-        if (!c) doc.fail(comps->get(i), where, "must be a [[component]] table");
+    const toml::array& comps = component_array(doc, r);
+    for (std::size_t i = 0; i < comps.size(); ++i) {
+        std::string where;
+        const toml::table* c = &component_table(doc, comps, i, where);
         doc.only_keys(*c, {"phosphor", "spectrum", "absorption", "quantum_efficiency", "mass_fraction", "label", "min_fraction", "max_fraction"}, where);
         BlendComponent bc;
         bc.mass_fraction = doc.require_number(*c, "mass_fraction", where);
         if (!(bc.mass_fraction > 0))
             doc.fail(c->get("mass_fraction"), key_path(where, "mass_fraction"), fmt::format("must be greater than zero, not {:g}", bc.mass_fraction));
-        const auto id = doc.string(*c, "phosphor", where);
-        const auto spectrum = doc.string(*c, "spectrum", where);
-        if (id && spectrum) doc.fail(c, where, "give either 'phosphor' or 'spectrum', not both");
-        if (!id && !spectrum) doc.fail(c, where, "needs 'phosphor' (a library id) or 'spectrum' (a measured emission CSV)");
-        if (id) {
-            try {
-                bc.phosphor = library.find(*id);
-            } catch (const Error& e) {
-                doc.fail(c->get("phosphor"), key_path(where, "phosphor"), e.what());
-            }
-            bc.label = bc.phosphor.id;
-        } else {
-            const std::string path = path_relative_to(doc.source(), *spectrum);
-            try {
-                bc.phosphor = phosphor_from_emission_file(path);
-            } catch (const InputError& e) {
-                doc.fail(c->get("spectrum"), key_path(where, "spectrum"), e.what());
-            }
-            bc.label = bc.phosphor.id;
+        const bool measured = !doc.string(*c, "phosphor", where);
+        bc.phosphor = component_phosphor(doc, *c, where, library, "needs 'phosphor' (a library id) or 'spectrum' (a measured emission CSV)");
+        bc.label = bc.phosphor.id;
+        if (measured) {
             bc.absorption = doc.number(*c, "absorption", where);
             bc.quantum_efficiency = doc.number(*c, "quantum_efficiency", where);
             if (!bc.absorption) doc.fail(c, where, "a measured 'spectrum' needs 'absorption' (relative, at the excitation)");
@@ -111,11 +96,7 @@ Recipe recipe_from_toml(const TomlDoc& doc, const std::vector<std::string>& extr
         if (const auto a = doc.number(*c, "absorption", where); a && *a < 0)
             doc.fail(c->get("absorption"), key_path(where, "absorption"), "must not be negative");
         if (const auto a = doc.number(*c, "absorption", where)) bc.absorption = *a;
-        if (const auto q = doc.number(*c, "quantum_efficiency", where)) {
-            if (*q <= 0 || *q > 1)
-                doc.fail(c->get("quantum_efficiency"), key_path(where, "quantum_efficiency"), fmt::format("must be a fraction in (0, 1], not {:g} (percent?)", *q));
-            bc.quantum_efficiency = *q;
-        }
+        if (const auto q = component_quantum_efficiency(doc, *c, where)) bc.quantum_efficiency = *q;
         if (auto label = doc.string(*c, "label", where)) bc.label = *label;
         for (const char* key : {"min_fraction", "max_fraction"}) {
             if (const auto v = doc.number(*c, key, where)) {

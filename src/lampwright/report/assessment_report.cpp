@@ -91,24 +91,25 @@ std::string assessment_text(const Assessment& a) {
     o += fmt::format("  chromaticity ({})    x {:.4f}  y {:.4f}   u' {:.4f}  v' {:.4f}\n", obs, a.xy.x, a.xy.y, a.uv_prime.u,
                      a.uv_prime.v);
     if (a.cct.valid)
-        o += fmt::format("  CCT                        {:.0f} K   Duv {:+.4f}\n", a.cct.cct_K, a.cct.duv);
+        o += fmt::format("  CCT                        {} K   Duv {}\n", format_fixed(a.cct.cct_K, 0), format_signed(a.cct.duv, 4));
     else
         o += fmt::format("  CCT                        none: {}\n", a.cct.problem);
     if (a.rendering) {
         const auto& r = *a.rendering;
-        o += fmt::format("  colour rendering (CIE 13.3) Ra {:.1f}   reference: {} {:.0f} K, DC {:.4f}\n", r.ra,
+        o += fmt::format("  colour rendering (CIE 13.3) Ra {}   reference: {} {:.0f} K, DC {:.4f}\n", format_fixed(r.ra, 1),
                          reference_name(r.reference), r.reference_cct_K, r.dc);
         o += "                             ";
         for (int i = 0; i < 14; ++i) {
-            o += fmt::format("R{} {:.0f}", i + 1, r.ri[i]);
+            o += fmt::format("R{} {}", i + 1, format_fixed(r.ri[i], 0));
             o += (i == 6) ? "\n                             " : (i == 13 ? "\n" : "  ");
         }
     }
     o += fmt::format("  LER                        {:.1f} lm/W\n", a.ler_lm_per_W);
     o += photometry_text(a);
     const auto& f = a.features;
-    o += fmt::format("  peak {:.1f} nm   centroid {:.1f} nm   FWHM {} nm\n", f.peak_nm, f.centroid_nm,
-                     std::isfinite(f.fwhm_nm) ? fmt::format("{:.1f}", f.fwhm_nm) : "n/a");
+    // "n/a" alone, never "n/a nm".
+    o += fmt::format("  peak {:.1f} nm   centroid {:.1f} nm   FWHM {}\n", f.peak_nm, f.centroid_nm,
+                     std::isfinite(f.fwhm_nm) ? format_fixed(f.fwhm_nm, 1) + " nm" : "n/a");
     if (std::isfinite(f.dominant_nm))
         o += fmt::format("  dominant wavelength {:.1f} nm{}   excitation purity {:.3f} (against E)\n", std::abs(f.dominant_nm),
                          f.dominant_nm < 0 ? " (complementary)" : "", f.purity);

@@ -31,7 +31,7 @@ std::string comparison_text(const std::vector<ComparisonEntry>& entries) {
         const auto& a = e.assessment;
         const auto [ra, r9, cct] = figures(e);
         o += fmt::format("{:<36} {:<8} {:>7} {:>7} {:>7} {:>8} {:>6} {:>6} {:>7} {:>6} {:>7} {:>8}\n", e.name.substr(0, 36), e.kind,
-                         cell(a.xy.x, 4), cell(a.xy.y, 4), cell(cct, 0), cell(a.cct.duv, 4), cell(ra, 1), cell(r9, 1),
+                         cell(a.xy.x, 4), cell(a.xy.y, 4), cell(cct, 0), format_signed(a.cct.duv, 4, "-"), cell(ra, 1), cell(r9, 1),
                          cell(a.ler_lm_per_W, 1), cell(e.efficiency, 3), cell(100 * e.leak_fraction, 2), cell(e.efficacy, 1));
     }
     return o + "eff: converted W per W pump (layer), W per W absorbed (blend); lm/W*: per W pump (layer), per W absorbed (blend)\n";
@@ -71,9 +71,15 @@ std::string comparison_svg(const std::vector<ComparisonEntry>& entries) {
     }
     const double span = std::max({u1 - u0, v1 - v0, 0.02}) * 0.6 + 0.01;
     const double uc = (u0 + u1) / 2, vc = (v0 + v1) / 2;
-    std::string o = "<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"1180\" height=\"540\">\n";
-    o += "<g transform=\"translate(0,60)\">" + svg_chart({"Spectra (each scaled to its peak)", "wavelength (nm)", "relative power", 350, 800, 0, 1.05, 640, 420}, spectra) + "</g>";
-    o += "<g transform=\"translate(650,10)\">" + svg_uv_diagram("Chromaticity (CIE 1976 u'v')", points, uc - span, uc + span, vc - span, vc + span) + "</g>";
+    // Each chart is widened by its legend column (svg_legend_width), so the legend sits beside the
+    // plot area and the u'v' window keeps equal scales in u' and v'.
+    const int spectra_w = 640 + svg_legend_width(spectra), uv_w = 520 + svg_legend_width(points);
+    std::string o = fmt::format("<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"{}\" height=\"540\">\n",
+                                spectra_w + 10 + uv_w + 10);
+    SvgAxes spectra_axes{"Spectra (each scaled to its peak)", "wavelength (nm)", "relative power", 350, 800, 0, 1.05, spectra_w, 420};
+    o += "<g transform=\"translate(0,60)\">" + svg_chart(spectra_axes, spectra) + "</g>";
+    o += fmt::format("<g transform=\"translate({},10)\">", spectra_w + 10) +
+         svg_uv_diagram("Chromaticity (CIE 1976 u'v')", points, uc - span, uc + span, vc - span, vc + span, uv_w, 520) + "</g>";
     return o + "</svg>\n";
 }
 

@@ -15,7 +15,7 @@ namespace lampwright {
 
 namespace {
 
-std::string fmt_opt(const std::optional<double>& v, int decimals) { return v ? fmt::format("{:.{}f}", *v, decimals) : "n/a"; }
+std::string fmt_opt(const std::optional<double>& v, int decimals) { return v ? format_fixed(*v, decimals, "n/a") : "n/a"; }
 
 std::string sigma_words(const std::vector<double>& v, double scale, const char* unit) {
     std::string s;
@@ -43,18 +43,22 @@ std::string fit_text(const FitProblem& p, const FitResult& r, double ms) {
     o << fmt::format("  chromaticity: {}\n", fit_chromaticity_aim(p));
     o << fmt::format("  method:     {}, {} evaluations, {:.1f} ms\n", r.method, r.evaluations, ms);
     o << fmt::format("  result:     {}{}\n", r.feasible ? "" : "NOT FEASIBLE - ", r.message);
-    o << "\n  component                                   start    fitted\n";
+    // Header and rows from the same widths (the name column as wide as the longest label).
+    std::size_t name_w = 40;
+    for (const auto& c : p.blend.components) name_w = std::max(name_w, c.label.size());
+    o << fmt::format("\n  {:<{}}  {:>6}   {:>8}\n", "component", name_w, "start", "fitted");
     for (std::size_t i = 0; i < p.blend.components.size(); ++i) {
         double total = 0;
         for (const auto& c : p.blend.components) total += c.mass_fraction;
-        o << fmt::format("  {:<40}  {:.4f}   {:.6f}\n", p.blend.components[i].label, p.blend.components[i].mass_fraction / total,
+        o << fmt::format("  {:<{}}  {:>6.4f}   {:>8.6f}\n", p.blend.components[i].label, name_w, p.blend.components[i].mass_fraction / total,
                          r.mass_fractions[i]);
     }
     o << fmt::format("\n  x, y        {:.4f}, {:.4f}   u'v' {:.4f}, {:.4f}   delta u'v' from target {:.5f}\n", a.xy.x, a.xy.y,
                      a.uv_prime.u, a.uv_prime.v, r.distance_uv_prime);
     if (r.macadam_steps) o << fmt::format("  MacAdam     {:.2f} steps from the centre\n", *r.macadam_steps);
     if (r.inside_ansi_quadrangle) o << fmt::format("  ANSI C78.377 quadrangle: {}\n", *r.inside_ansi_quadrangle ? "inside" : "OUTSIDE");
-    o << fmt::format("  CCT, Duv    {} K, {:+.4f}\n", a.cct.valid ? fmt::format("{:.0f}", a.cct.cct_K) : "n/a", a.cct.duv);
+    // "none" alone when there is no CCT (never "n/a K").
+    o << fmt::format("  CCT, Duv    {}, {}\n", a.cct.valid ? format_fixed(a.cct.cct_K, 0) + " K" : "none", format_signed(a.cct.duv, 4));
     std::optional<double> ra, r9;
     if (a.rendering) ra = a.rendering->ra, r9 = a.rendering->ri[8];
     o << fmt::format("  Ra, R9      {}, {}\n", fmt_opt(ra, 1), fmt_opt(r9, 1));
@@ -112,7 +116,8 @@ std::string front_text(const FitProblem& p, const TradeoffFront& f, double ms) {
         }
         std::string fr;
         for (double w : pt.mass_fractions) fr += fmt::format("{}{:.4f}", fr.empty() ? "" : " ", w);
-        o << fmt::format("  {:8.2f} {:9.2f} {:7.2f} {:7.2f} {:7.1f} {:9.2f}  {}{}\n", pt.floor, pt.objective, pt.ra, pt.r9, pt.ler, pt.efficacy, fr,
+        o << fmt::format("  {:>8} {:>9} {:>7} {:>7} {:>7} {:>9}  {}{}\n", format_fixed(pt.floor, 2), format_fixed(pt.objective, 2), format_fixed(pt.ra, 2),
+                         format_fixed(pt.r9, 2), format_fixed(pt.ler, 1), format_fixed(pt.efficacy, 2), fr,
                          pt.from_other_point ? "  *" : "");
     }
     if (std::any_of(f.points.begin(), f.points.end(), [](const FrontPoint& q) { return q.from_other_point; }))
@@ -181,8 +186,8 @@ std::string tolerance_text(const ToleranceProblem& t, const ToleranceResult& r, 
     o << fmt::format("  ellipse:    {}\n              centre (target) x = {:.4f}, y = {:.4f}; one-step semi-axes {:.5f}, {:.5f} at {:.1f} deg\n",
                      ellipse_source, r.target.x, r.target.y, t.ellipse.a, t.ellipse.b, t.ellipse.theta_deg);
     o << fmt::format("  nominal:    x = {:.4f}, y = {:.4f}, {:.2f} steps from the target\n", r.nominal_xy.x, r.nominal_xy.y, r.nominal_steps);
-    o << fmt::format("  lamps:      x {:.4f} (sd {:.4f}), y {:.4f} (sd {:.4f}), correlation {:+.2f}\n", r.mean_x, r.sd_x, r.mean_y, r.sd_y,
-                     r.corr_xy);
+    o << fmt::format("  lamps:      x {:.4f} (sd {:.4f}), y {:.4f} (sd {:.4f}), correlation {}\n", r.mean_x, r.sd_x, r.mean_y, r.sd_y,
+                     format_signed(r.corr_xy, 2));
     o << fmt::format("  MacAdam steps from the target: mean {:.2f}, sd {:.2f}; median {:.2f}, 90 % {:.2f}, 95 % {:.2f}, 99 % {:.2f}, max {:.2f}\n",
                      r.mean_steps, r.sd_steps, r.p50, r.p90, r.p95, r.p99, r.max_steps);
     o << fmt::format("  inside the {:g}-step ellipse: {:.2f} % of lamps (standard error {:.2f} %, {} of {})\n", r.steps_limit, 100 * r.yield,
@@ -325,7 +330,8 @@ std::string sensitivity_text(const std::vector<SensitivityRow>& rows) {
     std::string o = "\n  sensitivity: one percentage point more of (then renormalised)\n" +
                     fmt::format("  {:<40} {:>9} {:>9} {:>8} {:>9} {:>7}\n", "component", "du'", "dv'", "dCCT K", "dDuv", "dRa");
     for (const auto& s : rows)
-        o += fmt::format("  {:<40} {:+9.5f} {:+9.5f} {:+8.1f} {:+9.5f} {:+7.2f}\n", s.label, s.d_u_prime, s.d_v_prime, s.d_cct_K, s.d_duv, s.d_ra);
+        o += fmt::format("  {:<40} {:>9} {:>9} {:>8} {:>9} {:>7}\n", s.label, format_signed(s.d_u_prime, 5), format_signed(s.d_v_prime, 5),
+                         format_signed(s.d_cct_K, 1), format_signed(s.d_duv, 5), format_signed(s.d_ra, 2));
     return o;
 }
 

@@ -24,6 +24,23 @@ bool is_out(const ControlChart& c, std::size_t i) {
     return std::find(c.out_of_control.begin(), c.out_of_control.end(), i) != c.out_of_control.end();
 }
 
+// The range a chart draws (text strip and SVG alike): the limits and every finite value; 0 to 1
+// when there is nothing; widened around the middle when there is no spread worth drawing.
+std::pair<double, double> drawn_span(const ControlChart& c) {
+    double lo = c.lower, hi = c.upper;
+    for (double v : c.values)
+        if (std::isfinite(v)) {
+            lo = std::isfinite(lo) ? std::min(lo, v) : v;
+            hi = std::isfinite(hi) ? std::max(hi, v) : v;
+        }
+    if (!std::isfinite(lo) || !std::isfinite(hi)) return {0, 1};
+    if (!(hi - lo > 1e-6 * std::max(1.0, std::abs(hi)))) {
+        const double mid = 0.5 * (lo + hi), half = std::max(std::abs(mid) * 0.01, 1e-3);
+        return {mid - half, mid + half};
+    }
+    return {lo, hi};
+}
+
 }  // namespace
 
 std::string control_charts_text(const std::vector<ControlChart>& charts) {
@@ -44,17 +61,8 @@ std::string control_charts_text(const std::vector<ControlChart>& charts) {
         }
         // Each lot as a mark on a strip spanning the limits and the values: '|' limits, ':' centre, '*' the lot.
         constexpr int kWidth = 41;
-        double lo = c.lower, hi = c.upper;
-        for (double v : c.values)
-            if (std::isfinite(v)) {
-                lo = std::isfinite(lo) ? std::min(lo, v) : v;
-                hi = std::isfinite(hi) ? std::max(hi, v) : v;
-            }
-        if (!(hi - lo > 1e-6 * std::max(1.0, std::abs(hi)))) {  // no spread worth drawing
-            const double mid = 0.5 * (lo + hi), half = std::max(1e-6 * std::max(1.0, std::abs(mid)), 0.01 * std::abs(mid));
-            lo = mid - half;
-            hi = mid + half;
-        }
+        const auto span = drawn_span(c);
+        const double lo = span.first, hi = span.second;
         auto col = [&](double v) { return static_cast<int>(std::lround((v - lo) / (hi - lo) * (kWidth - 1))); };
         std::size_t id_width = 3;
         for (const auto& id : c.lot_ids) id_width = std::max(id_width, id.size());
@@ -92,24 +100,16 @@ std::string control_charts_svg(const std::vector<ControlChart>& charts, const st
         const std::size_t n = c.values.size();
         SvgAxes axes;
         axes.title = "Control chart: " + c.quantity + " (centre, mean +- 2.66 MR-bar)" + (note.empty() ? "" : " - " + note);
-        axes.x_label = "lot (recording order)";
+        axes.x_label = "lot id (recording order)";
         axes.y_label = c.quantity;
         axes.width = kW;
         axes.height = kH;
         axes.x_min = 0.5;
         axes.x_max = static_cast<double>(std::max<std::size_t>(n, 1)) + 0.5;
-        double lo = c.lower, hi = c.upper;
-        for (double v : c.values)
-            if (std::isfinite(v)) {
-                lo = std::isfinite(lo) ? std::min(lo, v) : v;
-                hi = std::isfinite(hi) ? std::max(hi, v) : v;
-            }
-        if (!std::isfinite(lo)) lo = 0, hi = 1;
-        if (!(hi - lo > 1e-6 * std::max(1.0, std::abs(hi)))) {  // no spread worth drawing
-            const double mid = 0.5 * (lo + hi), half = std::max(std::abs(mid) * 0.01, 1e-3);
-            lo = mid - half;
-            hi = mid + half;
-        }
+        const auto span = drawn_span(c);
+        const double lo = span.first, hi = span.second;
+        // The lots by id on the x axis (thinned by svg_chart when they would overlap).
+        for (std::size_t i = 0; i < n && i < c.lot_ids.size(); ++i) axes.x_tick_labels.push_back({static_cast<double>(i + 1), c.lot_ids[i]});
         const double pad = 0.12 * (hi - lo);
         axes.y_min = lo - pad;
         axes.y_max = hi + pad;

@@ -64,9 +64,10 @@ std::string layer_text(const LayerEvaluation& rep) {
     o += "  (photons per pump photon)\n";
     o += fmt::format("  at {:g} degC: pump leak {:.2f} % of output ({:.4f} W, of which {:.4f} W below 420 nm)\n", r.temperature_C,
                      100 * r.pump_leak_fraction, r.leaked_pump_W, r.leaked_uv_violet_W);
-    o += fmt::format("  efficiency: converted {:.3f} W/W, total {:.3f} W/W (leaked pump included)   efficacy {:.1f} lm per W of pump\n",
-                     r.converted_efficiency, r.total_efficiency, r.efficacy_lm_per_W_pump);
-    o += fmt::format("  energy: pump {:.4f} W = leaked {:.4f} + converted {:.4f} + Stokes loss {:.4f} + quantum loss {:.4f}\n",
+    // Lines of at most 100 columns.
+    o += fmt::format("  efficiency: converted {:.3f} W/W, total {:.3f} W/W (leaked pump included)\n", r.converted_efficiency, r.total_efficiency);
+    o += fmt::format("  efficacy:   {:.1f} lm per W of pump\n", r.efficacy_lm_per_W_pump);
+    o += fmt::format("  energy: pump {:.4f} W = leaked {:.4f} + converted {:.4f} + losses: Stokes {:.4f}, quantum {:.4f}\n",
                      r.pump_power_W, r.leaked_pump_W, r.converted_W, r.stokes_loss_W, r.quantum_loss_W);
     o += fmt::format("  photons: 1 = leaked {:.4f} + escaping {:.4f} + lost {:.4f}\n", r.pump_photons_leaked, r.photons_escaping, r.photons_lost);
     o += fmt::format("  25 degC: x {:.4f} y {:.4f}   {:g} degC: x {:.4f} y {:.4f}   shift {:.2f} MacAdam steps\n",
@@ -74,7 +75,8 @@ std::string layer_text(const LayerEvaluation& rep) {
     const std::string a = assessment_text(r.assessment);
     o += a.substr(a.find('\n') + 1);
     const std::string caution = layer_caution(rep);
-    if (!caution.empty()) o += "  CAUTION: " + caution + "\n";
+    // Wrapped at 100 columns: a one-line caution of 300+ characters is not read.
+    if (!caution.empty()) o += wrap_text(caution, 100, "  CAUTION: ", "           ");
     return o;
 }
 

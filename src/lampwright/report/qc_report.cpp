@@ -37,17 +37,18 @@ std::string join(const std::vector<std::string>& v, const std::string& sep) {
     return o;
 }
 
-// How a summarised quantity is named and printed.
+// How a summarised quantity is named and printed: the decimals every text output uses for it (x, y
+// and Duv 4, CCT whole kelvin, Ra and R9 1; a standard deviation gets one more).
 struct QuantityFormat {
     const char* label;
     int decimals;
 };
 QuantityFormat quantity_format(const std::string& q) {
-    if (q == "x" || q == "y") return {q == "x" ? "x" : "y", 5};
+    if (q == "x" || q == "y") return {q == "x" ? "x" : "y", 4};
     if (q == "cct_K") return {"CCT (K)", 0};
-    if (q == "duv") return {"Duv", 5};
-    if (q == "Ra") return {"Ra", 2};
-    if (q == "R9") return {"R9", 2};
+    if (q == "duv") return {"Duv", 4};
+    if (q == "Ra") return {"Ra", 1};
+    if (q == "R9") return {"R9", 1};
     if (q == "steps") return {"MacAdam steps", 2};
     if (q == "flux_lm") return {"flux (lm)", 1};
     if (q == "efficacy_lm_per_W") return {"efficacy lm/W", 1};
@@ -69,8 +70,9 @@ std::string region_text(const QcSpec& s) {
     switch (s.region) {
         case QcSpec::Region::ellipse: return fmt::format("{:g}-step MacAdam ellipse", s.max_steps);
         case QcSpec::Region::ansi_quadrangle:
-            return s.ansi_class ? fmt::format("ANSI C78.377 {} K quadrangle ({:g} ± {:g} K, Duv {:+.4f} ± {:g})", s.ansi_class->nominal_K,
-                                              s.ansi_class->cct_K, s.ansi_class->cct_tolerance_K, s.ansi_class->duv_centre, kAnsiC78377DuvTolerance)
+            return s.ansi_class ? fmt::format("ANSI C78.377 {} K quadrangle ({:g} ± {:g} K, Duv {} ± {:g})", s.ansi_class->nominal_K,
+                                              s.ansi_class->cct_K, s.ansi_class->cct_tolerance_K, format_signed(s.ansi_class->duv_centre, 4),
+                                              kAnsiC78377DuvTolerance)
                                 : "ANSI C78.377 quadrangle";
         case QcSpec::Region::circle: return fmt::format("circle of radius {:g} in u'v'", s.max_duv_prime);
     }
@@ -133,7 +135,8 @@ std::string lamp_tooltip(const LampResult& l) {
 }
 
 std::string uv_diagram_svg(const QcRun& run) {
-    constexpr int kWidth = 600, kHeight = 600;
+    // The legend has its own column right of the plot area (it never hides a lamp).
+    constexpr int kLegend = 206, kWidth = 600 + kLegend, kHeight = 600;
     const QcSpec& spec = run.spec;
     const auto region = tolerance_region_uv(spec);
     const UV centre = uv_1976_from_xy(spec.region == QcSpec::Region::ellipse ? spec.step_ellipse.centre : spec.centre);
@@ -147,7 +150,7 @@ std::string uv_diagram_svg(const QcRun& run) {
     const UV cen = uv_1976_from_xy(run.stats.centroid);
     if (std::isfinite(cen.u)) far = std::max({far, std::abs(cen.u - centre.u), std::abs(cen.v - centre.v)});
     const double r = std::max(r0, std::min(far * 1.12, 3 * r0));
-    const SvgPlotArea area = svg_plot_area(kWidth, kHeight);
+    const SvgPlotArea area = svg_plot_area(kWidth, kHeight, kLegend);
     const double pw = area.right - area.left, ph = area.bottom - area.top, per_px = 2 * r / std::min(pw, ph);
     const double u_min = centre.u - pw * per_px / 2, u_max = centre.u + pw * per_px / 2;
     const double v_min = centre.v - ph * per_px / 2, v_max = centre.v + ph * per_px / 2;
@@ -155,6 +158,7 @@ std::string uv_diagram_svg(const QcRun& run) {
     SvgOverlay ov;
     ov.id = "uv-diagram";
     ov.css_class = "chart";
+    ov.legend_width = kLegend;
     SvgPolygon reg;
     for (const auto& p : region) reg.x.push_back(p.u), reg.y.push_back(p.v);
     if (!reg.x.empty()) reg.x.pop_back(), reg.y.pop_back();  // <polygon> closes itself
@@ -175,7 +179,6 @@ std::string uv_diagram_svg(const QcRun& run) {
     target.css_class = "target";
     target.colour = "#1f5fa8";
     target.title = "target centre: " + spec.target_description;
-    ov.markers.push_back(target);
 
     // Failed lamps last, so they are drawn over the passing ones.
     std::vector<const LampResult*> order;
@@ -208,10 +211,12 @@ std::string uv_diagram_svg(const QcRun& run) {
                               run.stats.centroid_steps);
         ov.markers.push_back(c);
     }
-    // Legend, top left of the plot area.
+    // The target cross last, over the lamps and the centroid: it must stay visible under a cluster.
+    ov.markers.push_back(target);
+    // Legend, right of the plot area.
     std::size_t passed = 0, failed = 0;
     for (const auto& l : run.lamps) (l.pass() ? passed : failed)++;
-    const int lx = area.left + 8, ly = area.top + 8;
+    const int lx = area.right + 10, ly = area.top;
     ov.pixel_svg = fmt::format(R"(<g class="legend" font-size="11"><rect x="{}" y="{}" width="196" height="88" fill="white" fill-opacity="0.9" stroke="#999"/>)", lx, ly);
     ov.pixel_svg += fmt::format(R"(<circle cx="{}" cy="{}" r="4" fill="{}" stroke="#222" stroke-width="0.6"/><text x="{}" y="{}">pass ({})</text>)", lx + 12, ly + 14,
                                 kPassColour, lx + 24, ly + 18, passed);
@@ -278,7 +283,7 @@ std::string histogram_svg(const std::string& id, const std::string& quantity, co
     m.dash = "2 3";
     m.title = fmt::format("mean {} {:.2f}", quantity, mean);
     ov.polygons.push_back(m);
-    ov.texts.push_back({mean, y_max, fmt::format("mean {:.1f}", mean), "start", "#555", 3, 12});
+    ov.texts.push_back({mean, y_max, "mean " + format_fixed(mean, 1), "start", "#555", 3, 12});
     if (minimum) {
         SvgPolygon lim;
         lim.closed = false;
@@ -419,7 +424,7 @@ std::string qc_text(const QcRun& run) {
                 flux = a.luminous_flux_lm ? fmt::format(" {:>9.1f} {:>6}", *a.luminous_flux_lm, a.efficacy_lm_per_W ? fmt::format("{:.1f}", *a.efficacy_lm_per_W) : "-")
                                           : fmt::format(" {:>9} {:>6}", "relative", "-");
             o += fmt::format("  {:<{}}  {:>7.4f} {:>7.4f} {:>6} {:>8} {:>6} {:>6} {:>6.2f}{}  {}", l.name, w, a.xy.x, a.xy.y, format_fixed(cct_of(l), 0, "-"),
-                             a.cct.valid ? fmt::format("{:+.4f}", a.cct.duv) : "-", format_fixed(ra_of(l), 1, "-"), format_fixed(r9_of(l), 1, "-"), l.steps,
+                             a.cct.valid ? format_signed(a.cct.duv, 4) : "-", format_fixed(ra_of(l), 1, "-"), format_fixed(r9_of(l), 1, "-"), l.steps,
                              flux, l.pass() ? "PASS" : "FAIL");
             if (!l.pass()) o += "  " + join(l.failures, "; ");
             if (l.outlier) o += fmt::format("  [outlier: {}]", l.outlier_note);
@@ -595,7 +600,7 @@ std::string qc_html_report(const QcRun& run, const std::string& extra_html) {
                          "<td>{:.4f}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{:.2f}</td><td class=\"text result\">{}</td>"
                          "<td class=\"notes\">{}</td></tr>\n",
                          l.pass() ? "pass" : "fail", l.outlier ? " outlier" : "", i + 1, e(l.name), e(l.file), a.xy.x, a.xy.y, a.uv_prime.u, a.uv_prime.v,
-                         format_fixed(cct_of(l), 0, "-"), a.cct.valid ? fmt::format("{:+.4f}", a.cct.duv) : "-", format_fixed(ra_of(l), 1, "-"), format_fixed(r9_of(l), 1, "-"),
+                         format_fixed(cct_of(l), 0, "-"), a.cct.valid ? format_signed(a.cct.duv, 4) : "-", format_fixed(ra_of(l), 1, "-"), format_fixed(r9_of(l), 1, "-"),
                          format_fixed(a.ler_lm_per_W, 1, "-"), l.steps, l.pass() ? "PASS" : "FAIL", e(notes));
     }
     o += "</tbody>\n</table>\n";
@@ -657,8 +662,8 @@ std::string lot_correction_text(const LotCorrection& c, const BlendInput& recipe
     std::string t = fmt::format("\nCorrection of {} (lot centroid x {:.4f} y {:.4f}, {:.2f} steps from the target):\n", recipe_path,
                                 c.lot_centroid.x, c.lot_centroid.y, c.offset_steps);
     for (std::size_t i = 0; i < c.old_fractions.size(); ++i)
-        t += fmt::format("  {:<36} {:>8.4f} -> {:>8.4f}  ({:+.4f})\n", recipe.components[i].label, c.old_fractions[i], c.new_fractions[i],
-                         c.new_fractions[i] - c.old_fractions[i]);
+        t += fmt::format("  {:<36} {:>8.4f} -> {:>8.4f}  ({})\n", recipe.components[i].label, c.old_fractions[i], c.new_fractions[i],
+                         format_signed(c.new_fractions[i] - c.old_fractions[i], 4));
     t += fmt::format("  expected centroid x {:.4f} y {:.4f}: {:.2f} steps from the target{}\n", c.expected_centroid.x, c.expected_centroid.y,
                      c.expected_steps, c.message.empty() ? "" : " (" + c.message + ")");
     return t + "\n" + recipe_to_toml(c.corrected, {correction_note()});
@@ -691,8 +696,8 @@ nlohmann::ordered_json lot_correction_json(const LotCorrection& c, const BlendIn
 std::string lot_correction_html(const LotCorrection& c, const BlendInput& recipe) {
     std::string html = "<section id=\"correction\"><h2>Corrected recipe</h2><table><tr><th>component</th><th>was</th><th>new</th><th>change</th></tr>";
     for (std::size_t i = 0; i < c.old_fractions.size(); ++i)
-        html += fmt::format("<tr><td>{}</td><td>{:.4f}</td><td>{:.4f}</td><td>{:+.4f}</td></tr>", xml_escape(recipe.components[i].label),
-                            c.old_fractions[i], c.new_fractions[i], c.new_fractions[i] - c.old_fractions[i]);
+        html += fmt::format("<tr><td>{}</td><td>{:.4f}</td><td>{:.4f}</td><td>{}</td></tr>", xml_escape(recipe.components[i].label),
+                            c.old_fractions[i], c.new_fractions[i], format_signed(c.new_fractions[i] - c.old_fractions[i], 4));
     html += fmt::format("</table><p>Expected centroid x {:.4f}, y {:.4f}: {:.2f} MacAdam steps from the target. {}</p>", c.expected_centroid.x,
                         c.expected_centroid.y, c.expected_steps, xml_escape(c.message));
     return html + "<pre>" + xml_escape(recipe_to_toml(c.corrected, {correction_note()})) + "</pre></section>";

@@ -3,6 +3,7 @@
 #include "lampwright/colour/cie_tables.hpp"
 #include "lampwright/colour/colorimetry.hpp"
 #include "lampwright/colour/temperature.hpp"
+#include "lampwright/core/format.hpp"
 
 #include <fmt/format.h>
 
@@ -15,10 +16,23 @@ namespace lampwright {
 namespace {
 
 constexpr int kLeft = 64, kRight = 16, kTop = 36, kBottom = 48;
+constexpr double kFontSize = 11;               // the charts' font-size
+constexpr std::size_t kLegendChars = 28;       // longer series labels are cut (the full one is in the point's tooltip)
+constexpr int kLegendGap = 10;                 // between the plot area and the legend column
+
+// A series label as the legend shows it.
+std::string legend_label(const std::string& label) {
+    if (label.size() <= kLegendChars) return label;
+    std::size_t cut = kLegendChars - 1;
+    while (cut > 0 && (static_cast<unsigned char>(label[cut]) & 0xC0) == 0x80) --cut;  // not inside a UTF-8 character
+    return label.substr(0, cut) + "\u2026";
+}
 
 struct Frame {
     SvgAxes a;
-    double px(double x) const { return kLeft + (x - a.x_min) / (a.x_max - a.x_min) * (a.width - kLeft - kRight); }
+    int legend = 0;  // pixels kept right of the plot area for the legend (with its gap)
+    int right() const { return a.width - kRight - legend; }
+    double px(double x) const { return kLeft + (x - a.x_min) / (a.x_max - a.x_min) * (right() - kLeft); }
     double py(double y) const { return a.height - kBottom - (y - a.y_min) / (a.y_max - a.y_min) * (a.height - kTop - kBottom); }
     bool inside(double x, double y) const { return x >= a.x_min && x <= a.x_max && y >= a.y_min && y <= a.y_max; }
 };
@@ -47,6 +61,25 @@ std::string attributes(const std::string& id, const std::string& css_class) {
     return o;
 }
 
+// Which of the text x tick labels to draw: every k-th, the smallest k for which neighbours do not
+// overlap (with a 6 px gap).
+std::vector<std::size_t> thinned_labels(const Frame& f) {
+    const auto& l = f.a.x_tick_labels;
+    std::vector<std::size_t> keep;
+    if (l.empty()) return keep;
+    double widest = 0;
+    for (const auto& [x, text] : l) widest = std::max(widest, svg_text_width(text, kFontSize));
+    for (std::size_t k = 1; k <= l.size(); ++k) {
+        keep.clear();
+        for (std::size_t i = 0; i < l.size(); i += k) keep.push_back(i);
+        bool apart = true;
+        for (std::size_t j = 1; j < keep.size() && apart; ++j)
+            apart = std::abs(f.px(l[keep[j]].first) - f.px(l[keep[j - 1]].first)) >= widest + 6;
+        if (apart) break;
+    }
+    return keep;
+}
+
 std::string frame_svg(const Frame& f, const std::string& id = "", const std::string& css_class = "") {
     const auto& a = f.a;
     std::string o = fmt::format(R"(<svg xmlns="http://www.w3.org/2000/svg"{2} width="{0}" height="{1}" viewBox="0 0 {0} {1}" font-family="sans-serif" font-size="11">)",
@@ -55,17 +88,32 @@ std::string frame_svg(const Frame& f, const std::string& id = "", const std::str
     o += fmt::format(R"(<text x="{}" y="20" text-anchor="middle" font-size="13">{}</text>)", a.width / 2, xml_escape(a.title));
     const double sx = nice_step(a.x_max - a.x_min), sy = nice_step(a.y_max - a.y_min);
     const int xdec = tick_decimals(sx), ydec = tick_decimals(sy);
-    for (double x = std::ceil(a.x_min / sx) * sx; x <= a.x_max + 1e-12; x += sx) {
-        o += fmt::format(R"(<line x1="{0:.1f}" y1="{1}" x2="{0:.1f}" y2="{2}" stroke="#ddd"/>)", f.px(x), kTop, a.height - kBottom);
-        o += fmt::format(R"(<text x="{:.1f}" y="{}" text-anchor="middle">{:.{}f}</text>)", f.px(x), a.height - kBottom + 14, x, xdec);
+    // Ticks at whole multiples of the step (k * step, not a running sum, so 0 is exactly 0), their
+    // labels through format_fixed (never "-0").
+    if (a.x_tick_labels.empty()) {
+        for (double k = std::ceil(a.x_min / sx - 1e-9); k * sx <= a.x_max + 1e-9 * sx; ++k) {
+            const double x = k * sx;
+            o += fmt::format(R"(<line x1="{0:.1f}" y1="{1}" x2="{0:.1f}" y2="{2}" stroke="#ddd"/>)", f.px(x), kTop, a.height - kBottom);
+            o += fmt::format(R"(<text x="{:.1f}" y="{}" text-anchor="middle">{}</text>)", f.px(x), a.height - kBottom + 14, format_fixed(x, xdec));
+        }
+    } else {
+        o += "<g class=\"x-tick-labels\">";
+        for (std::size_t i : thinned_labels(f)) {
+            const auto& [x, text] = a.x_tick_labels[i];
+            o += fmt::format(R"(<line x1="{0:.1f}" y1="{1}" x2="{0:.1f}" y2="{2}" stroke="#ddd"/>)", f.px(x), kTop, a.height - kBottom);
+            o += fmt::format(R"(<text class="x-tick-label" x="{:.1f}" y="{}" text-anchor="middle">{}</text>)", f.px(x), a.height - kBottom + 14,
+                             xml_escape(text));
+        }
+        o += "</g>";
     }
-    for (double y = std::ceil(a.y_min / sy) * sy; y <= a.y_max + 1e-12; y += sy) {
-        o += fmt::format(R"(<line x1="{0}" y1="{1:.1f}" x2="{2}" y2="{1:.1f}" stroke="#ddd"/>)", kLeft, f.py(y), a.width - kRight);
-        o += fmt::format(R"(<text x="{}" y="{:.1f}" text-anchor="end">{:.{}f}</text>)", kLeft - 4, f.py(y) + 4, y, ydec);
+    for (double k = std::ceil(a.y_min / sy - 1e-9); k * sy <= a.y_max + 1e-9 * sy; ++k) {
+        const double y = k * sy;
+        o += fmt::format(R"(<line x1="{0}" y1="{1:.1f}" x2="{2}" y2="{1:.1f}" stroke="#ddd"/>)", kLeft, f.py(y), f.right());
+        o += fmt::format(R"(<text x="{}" y="{:.1f}" text-anchor="end">{}</text>)", kLeft - 4, f.py(y) + 4, format_fixed(y, ydec));
     }
-    o += fmt::format(R"(<rect x="{}" y="{}" width="{}" height="{}" fill="none" stroke="#333"/>)", kLeft, kTop, a.width - kLeft - kRight,
+    o += fmt::format(R"(<rect class="plot-area" x="{}" y="{}" width="{}" height="{}" fill="none" stroke="#333"/>)", kLeft, kTop, f.right() - kLeft,
                      a.height - kTop - kBottom);
-    o += fmt::format(R"(<text x="{}" y="{}" text-anchor="middle">{}</text>)", (kLeft + a.width - kRight) / 2, a.height - 10, xml_escape(a.x_label));
+    o += fmt::format(R"(<text x="{}" y="{}" text-anchor="middle">{}</text>)", (kLeft + f.right()) / 2, a.height - 10, xml_escape(a.x_label));
     o += fmt::format(R"svg(<text x="14" y="{}" text-anchor="middle" transform="rotate(-90 14 {})">{}</text>)svg", (kTop + a.height - kBottom) / 2,
                      (kTop + a.height - kBottom) / 2, xml_escape(a.y_label));
     return o;
@@ -73,7 +121,7 @@ std::string frame_svg(const Frame& f, const std::string& id = "", const std::str
 
 // The plot area as a nested <svg> with the outer coordinates: what is drawn inside is clipped to it.
 std::string clip_open(const Frame& f) {
-    const int w = f.a.width - kLeft - kRight, h = f.a.height - kTop - kBottom;
+    const int w = f.right() - kLeft, h = f.a.height - kTop - kBottom;
     return fmt::format(R"(<svg x="{0}" y="{1}" width="{2}" height="{3}" viewBox="{0} {1} {2} {3}" overflow="hidden">)", kLeft, kTop, w, h);
 }
 
@@ -135,9 +183,29 @@ std::string overlay_over(const Frame& f, const SvgOverlay& ov) {
                 break;
         }
     }
-    for (const auto& t : ov.texts)
-        o += fmt::format(R"(<text x="{:.1f}" y="{:.1f}" text-anchor="{}" fill="{}">{}</text>)", f.px(t.x) + t.dx, f.py(t.y) + t.dy, xml_escape(t.anchor),
-                         xml_escape(t.colour), xml_escape(t.text));
+    // Labels never overprint one another: a label whose box would overlap one already placed moves
+    // down a line (up to three times), else it is left out (its line keeps its tooltip).
+    struct Box {
+        double x0, x1, y0, y1;
+    };
+    std::vector<Box> placed;
+    for (const auto& t : ov.texts) {
+        const double w = svg_text_width(t.text, kFontSize);
+        const double x = f.px(t.x) + t.dx;
+        const double x0 = t.anchor == "end" ? x - w : t.anchor == "middle" ? x - w / 2 : x;
+        double y = f.py(t.y) + t.dy;
+        auto overlaps = [&](double yy) {
+            return std::any_of(placed.begin(), placed.end(), [&](const Box& b) {
+                return x0 < b.x1 && b.x0 < x0 + w && yy - kFontSize < b.y1 && b.y0 < yy;
+            });
+        };
+        int moves = 0;
+        while (overlaps(y) && moves < 3) y += kFontSize + 2, ++moves;
+        if (overlaps(y)) continue;
+        placed.push_back({x0, x0 + w, y - kFontSize, y});
+        o += fmt::format(R"(<text x="{:.1f}" y="{:.1f}" text-anchor="{}" fill="{}">{}</text>)", x, y, xml_escape(t.anchor), xml_escape(t.colour),
+                         xml_escape(t.text));
+    }
     return o;
 }
 
@@ -158,18 +226,25 @@ std::string series_svg(const Frame& f, const std::vector<SvgSeries>& series) {
     return o;
 }
 
-// The series' legend (drawn outside the plot area's clip, so long labels are not cut at its edge).
+// The series' legend, in its own column right of the plot area (Frame::legend), so it never hides data.
 std::string legend_svg(const Frame& f, const std::vector<SvgSeries>& series) {
     std::string o;
+    const int x = f.right() + kLegendGap;
+    int row = 0;
     for (std::size_t i = 0; i < series.size(); ++i) {
         const auto& s = series[i];
         const std::string colour = s.colour.empty() ? series_colour(i) : s.colour;
-        if (!s.label.empty())
-            o += fmt::format(R"(<rect x="{}" y="{}" width="10" height="10" fill="{}"/><text x="{}" y="{}">{}</text>)", f.a.width - kRight - 180,
-                             kTop + 8 + 16 * static_cast<int>(i), colour, f.a.width - kRight - 165, kTop + 17 + 16 * static_cast<int>(i),
-                             xml_escape(s.label));
+        if (s.label.empty()) continue;
+        o += fmt::format(R"(<rect x="{}" y="{}" width="10" height="10" fill="{}"/><text x="{}" y="{}">{}</text>)", x, kTop + 16 * row, colour, x + 15,
+                         kTop + 9 + 16 * row, xml_escape(legend_label(s.label)));
+        ++row;
     }
-    return o;
+    return o.empty() ? o : "<g class=\"legend\">" + o + "</g>";
+}
+
+// The frame of a chart: the legend column is the wider of the series' and the overlay's.
+Frame frame_for(const SvgAxes& axes, const std::vector<SvgSeries>& series, const SvgOverlay& overlay) {
+    return Frame{axes, std::max(svg_legend_width(series), overlay.legend_width)};
 }
 
 }  // namespace
@@ -195,13 +270,26 @@ std::string xml_escape(const std::string& s) {
 
 std::string svg_chart(const SvgAxes& axes, const std::vector<SvgSeries>& series) { return svg_chart(axes, series, SvgOverlay{}); }
 
+double svg_text_width(const std::string& text, double font_size) {
+    std::size_t chars = 0;
+    for (unsigned char c : text) chars += (c & 0xC0) != 0x80;
+    return 0.6 * font_size * static_cast<double>(chars);
+}
+
+int svg_legend_width(const std::vector<SvgSeries>& series) {
+    double widest = 0;
+    for (const auto& s : series)
+        if (!s.label.empty()) widest = std::max(widest, svg_text_width(legend_label(s.label), kFontSize));
+    return widest > 0 ? kLegendGap + 15 + static_cast<int>(std::ceil(widest)) : 0;
+}
+
 std::string svg_chart(const SvgAxes& axes, const std::vector<SvgSeries>& series, const SvgOverlay& overlay) {
-    const Frame f{axes};
+    const Frame f = frame_for(axes, series, overlay);
     return frame_svg(f, overlay.id, overlay.css_class) + clip_open(f) + overlay_under(f, overlay) + series_svg(f, series) +
            overlay_over(f, overlay) + "</svg>" + legend_svg(f, series) + overlay.pixel_svg + "</svg>\n";
 }
 
-SvgPlotArea svg_plot_area(int width, int height) { return {kLeft, kTop, width - kRight, height - kBottom}; }
+SvgPlotArea svg_plot_area(int width, int height, int legend_width) { return {kLeft, kTop, width - kRight - legend_width, height - kBottom}; }
 
 std::string svg_uv_diagram(const std::string& title, const std::vector<SvgSeries>& points, double u_min, double u_max, double v_min,
                            double v_max, int width, int height) {
@@ -211,7 +299,9 @@ std::string svg_uv_diagram(const std::string& title, const std::vector<SvgSeries
 std::string svg_uv_diagram(const std::string& title, const std::vector<SvgSeries>& points, double u_min, double u_max, double v_min,
                            double v_max, int width, int height, const SvgOverlay& overlay) {
     SvgAxes a{title, "u'", "v'", u_min, u_max, v_min, v_max, width, height};
-    const Frame f{a};
+    auto pts = points;
+    for (auto& s : pts) s.points = true;
+    const Frame f = frame_for(a, pts, overlay);
     std::string o = frame_svg(f, overlay.id, overlay.css_class) + clip_open(f) + overlay_under(f, overlay);
     // Spectrum locus (CIE 1931 observer), 380-700 nm.
     const auto& cmf = colour_matching_functions(Observer::cie1931_2deg);
@@ -267,8 +357,6 @@ std::string svg_uv_diagram(const std::string& title, const std::vector<SvgSeries
                          x - 5 * nx, y - 5 * ny, x + 5 * nx, y + 5 * ny, x + 16 * nx, y + 16 * ny + 3, t);
     }
     o += "</g>";
-    auto pts = points;
-    for (auto& s : pts) s.points = true;
     o += series_svg(f, pts);
     o += overlay_over(f, overlay);
     return o + "</svg>" + legend_svg(f, pts) + overlay.pixel_svg + "</svg>\n";

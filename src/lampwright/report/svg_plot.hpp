@@ -18,6 +18,9 @@ struct SvgAxes {
     std::string title, x_label, y_label;
     double x_min = 0, x_max = 1, y_min = 0, y_max = 1;
     int width = 640, height = 420;
+    // Text tick labels on the x axis instead of numbers (e.g. lot ids at x = 1, 2, ...); thinned to
+    // every k-th so that no two labels overlap.
+    std::vector<std::pair<double, std::string>> x_tick_labels{};
 };
 
 // One chart as an <svg> element (embeddable in HTML, or a file on its own).
@@ -56,17 +59,26 @@ struct SvgOverlay {
     std::vector<SvgMarker> markers;
     std::vector<SvgText> texts;
     std::string pixel_svg;           // raw SVG in pixel coordinates, drawn last (legends)
+    int legend_width = 0;            // pixels kept free right of the plot area for a legend in pixel_svg
 };
 
 // The same charts with an overlay.
 std::string svg_chart(const SvgAxes& axes, const std::vector<SvgSeries>& series, const SvgOverlay& overlay);
 std::string svg_uv_diagram(const std::string& title, const std::vector<SvgSeries>& points, double u_min, double u_max,
                            double v_min, double v_max, int width, int height, const SvgOverlay& overlay);
-// The plot area of a chart of the given size, in pixels (for placing pixel_svg).
+// The plot area of a chart of the given size, in pixels (for placing pixel_svg), with
+// `legend_width` pixels kept free on its right (SvgOverlay::legend_width). Legends are drawn there,
+// outside the plot area, so they never hide data; series labels get such a column of their own.
 struct SvgPlotArea {
     int left = 0, top = 0, right = 0, bottom = 0;
 };
-SvgPlotArea svg_plot_area(int width, int height);
+SvgPlotArea svg_plot_area(int width, int height, int legend_width = 0);
+// The width of the legend column that the labelled series need (0 when none is labelled): a chart
+// keeps its plot area when it is made this much wider.
+int svg_legend_width(const std::vector<SvgSeries>& series);
+// Approximate width in pixels of a text line at a font size (0.6 em per character; sans-serif
+// averages about 0.5-0.6 em, common practice, no source): used to keep labels apart.
+double svg_text_width(const std::string& text, double font_size);
 
 // Distinct colours for series i = 0, 1, ...
 std::string series_colour(std::size_t i);
