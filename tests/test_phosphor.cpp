@@ -481,3 +481,16 @@ TEST_CASE("phosphor parse: every shipped phosphor file still loads") {
         CHECK(emission_summary(p).peak_nm < kEmissionLastNm);
     }
 }
+
+TEST_CASE("phosphor library: every built-in phosphor has thermal quenching data from 25 degC with a source") {
+    // Issue 11: no built-in phosphor may be treated silently as never quenching; the data start at
+    // the layer model's reference temperature, 25 degC, with relative QE 1.
+    for (const auto& p : PhosphorLibrary::builtin().all()) {
+        CAPTURE(p.id);
+        REQUIRE(p.quench_C.size() >= 2);
+        CHECK(p.quench_C.front() == 25.0);
+        CHECK(p.quench_rel.front() == 1.0);
+        CHECK(p.quench_C.back() >= 150.0);
+        CHECK_FALSE(p.thermal_source.empty());
+    }
+}
