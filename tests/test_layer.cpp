@@ -8,6 +8,7 @@
 
 #include <doctest/doctest.h>
 
+#include <algorithm>
 #include <cmath>
 #include <string>
 
@@ -315,4 +316,57 @@ TEST_CASE("layer design: min_loading above max_loading is an InputError naming t
     const LayerDesign again = load_layer_design(dir.write("again.toml", layer_design_to_toml(d)));
     CHECK(again.components[0].min_loading == d.components[0].min_loading);
     CHECK(again.components[0].max_loading == d.components[0].max_loading);
+}
+
+namespace {
+
+const std::string kThermalFixtures = LAMPWRIGHT_SOURCE_DIR "/tests/data/phosphors_thermal";
+const std::string kNoQuenchingWarning = "no quenching data for TestGreen:NoThermal: treated as constant with temperature";
+
+// A 60 um layer of one fixture phosphor (tests/data/phosphors_thermal) on a 395 nm LED at `t_C`.
+LayerDesign fixture_layer(const std::string& id, double t_C) {
+    const auto lib = PhosphorLibrary::with_folders({kThermalFixtures});
+    LayerDesign d = single(60, 0.05, lib.find(id));
+    d.temperature_C = t_C;
+    return d;
+}
+
+bool has_warning(const LayerResult& r, const std::string& text) {
+    for (const auto& w : r.assessment.warnings)
+        if (w == text) return true;
+    return false;
+}
+
+bool has_quenching_warning(const LayerResult& r) {
+    for (const auto& w : r.assessment.warnings)
+        if (w.find("no quenching data") != std::string::npos) return true;
+    return false;
+}
+
+}  // namespace
+
+TEST_CASE("layer: a phosphor without [thermal] at 100 degC carries the warning 'no quenching data for <id>: treated as constant with temperature'") {
+    // Project rule (issue 11): a missing thermal table is never a silent assumption.
+    const auto rep = evaluate_layer_design(fixture_layer("TestGreen:NoThermal", 100));
+    CHECK(has_warning(rep.operating, kNoQuenchingWarning));
+    CHECK_FALSE(has_quenching_warning(rep.room));  // the 25 degC result is at the data's reference temperature
+    // Once, even when the phosphor is in two components.
+    LayerDesign two = fixture_layer("TestGreen:NoThermal", 100);
+    two.components.push_back(two.components.front());
+    two.components.back().label = "second";
+    const auto r2 = evaluate_layer(two);
+    CHECK(std::count(r2.assessment.warnings.begin(), r2.assessment.warnings.end(), kNoQuenchingWarning) == 1);
+}
+
+TEST_CASE("layer: at the reference temperature 25 degC a phosphor without [thermal] gives no quenching warning") {
+    const auto rep = evaluate_layer_design(fixture_layer("TestGreen:NoThermal", 25));
+    CHECK_FALSE(has_quenching_warning(rep.operating));
+    CHECK_FALSE(has_quenching_warning(rep.room));
+}
+
+TEST_CASE("layer: a phosphor with [thermal] data at 100 degC gives no quenching warning and is quenched by its data") {
+    const auto rep = evaluate_layer_design(fixture_layer("TestGreen:WithThermal", 100));
+    CHECK_FALSE(has_quenching_warning(rep.operating));
+    // Fixture: 1.0 at 25 degC, 0.8 at 150 degC, linear between: 0.88 at 100 degC.
+    CHECK(rep.operating.components[0].quantum_efficiency / rep.room.components[0].quantum_efficiency == doctest::Approx(0.88).epsilon(1e-9));
 }

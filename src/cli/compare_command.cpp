@@ -86,6 +86,8 @@ Options)");
     }
     std::cout << (f == Format::csv ? comparison_csv(entries) : comparison_text(entries));
     for (const auto& e : entries)
+        for (const auto& w : e.assessment.warnings) print_warning(fmt::format("{}: {}", e.name, w));
+    for (const auto& e : entries)
         if (!e.caution.empty()) print_warning("CAUTION: " + e.name + ": " + e.caution);
     if (!svg.empty() && !entries.empty() && !write_document(svg, comparison_svg(entries))) status |= kExitOutputNotWritten;
     return status;

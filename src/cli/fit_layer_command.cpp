@@ -26,6 +26,7 @@ int run_layer_fit(const LayerFitProblem& problem, Format format, const std::stri
         }
         case Format::json: std::cout << dump_json(layer_fit_json(r)) << '\n'; break;
     }
+    for (const auto& w : r.evaluation.operating.assessment.warnings) print_warning(fmt::format("{}: {}", d.name, w));
     const std::string caution = layer_caution(r.evaluation);
     if (!caution.empty() && format != Format::text) print_warning("CAUTION: " + caution);
     if (!r.feasible) {

@@ -7,6 +7,7 @@
 #include <Eigen/Dense>
 #include <fmt/format.h>
 
+#include <algorithm>
 #include <cmath>
 
 namespace lampwright {
@@ -14,6 +15,8 @@ namespace lampwright {
 namespace {
 
 constexpr int kGridSize = kEmissionGridSize;
+// QE data are relative to the phosphor data's reference temperature; the layer's room temperature is it.
+static_assert(kRoomTemperatureC == kThermalReferenceC);
 constexpr double kUvVioletLimitNm = 420.0;
 
 double grid_nm(std::size_t k) { return kEmissionFirstNm + static_cast<double>(k); }
@@ -196,6 +199,13 @@ LayerResult evaluate_layer(const LayerDesign& d, std::optional<double> temperatu
     r.total_efficiency = out_W / d.pump_power_W;
     r.efficacy_lm_per_W_pump = kKm * tristimulus(r.spectrum).Y / d.pump_power_W;
     r.assessment = assess(r.spectrum, options);
+    // A phosphor without quenching data is held constant: say so, once per phosphor (issue 11:
+    // never a silent assumption). After assess(), so every output that prints the assessment's
+    // warnings (text notes, JSON `warnings`, stderr) carries it.
+    for (const auto& c : d.components)
+        if (auto w = missing_thermal_data_warning(c.phosphor, t_C))
+            if (std::find(r.assessment.warnings.begin(), r.assessment.warnings.end(), *w) == r.assessment.warnings.end())
+                r.assessment.warnings.push_back(std::move(*w));
     return r;
 }
 

@@ -125,6 +125,11 @@ double thermal_factor(const Phosphor& p, double temperature_C) {
     return interpolate_linear(p.quench_C, p.quench_rel, temperature_C);
 }
 
+std::optional<std::string> missing_thermal_data_warning(const Phosphor& p, double temperature_C) {
+    if (!p.quench_C.empty() || temperature_C == kThermalReferenceC) return std::nullopt;
+    return fmt::format("no quenching data for {}: treated as constant with temperature", p.id);
+}
+
 EmissionSummary emission_summary(const Phosphor& p) {
     const Spectrum power = power_from_photons(emission_photons(p));
     const auto f = spectral_features(power, chromaticity(tristimulus(power)));

@@ -68,6 +68,14 @@ std::optional<double> absorption_at(const Phosphor& p, double nm);
 // Relative QE at a temperature (1 at 25 degC where no data; ends held outside the listed range).
 double thermal_factor(const Phosphor& p, double temperature_C);
 
+// The temperature a phosphor's QE and emission data refer to (the first point of every built-in
+// quenching table; common practice, no source).
+inline constexpr double kThermalReferenceC = 25.0;
+// The warning owed when a phosphor without quenching data is used at `temperature_C`: "no
+// quenching data for <id>: treated as constant with temperature"; nullopt when it has data or the
+// temperature is the reference temperature (then nothing is assumed).
+std::optional<std::string> missing_thermal_data_warning(const Phosphor& p, double temperature_C);
+
 // Peak wavelength (nm) and FWHM (nm) of the modelled power spectrum, for listings.
 struct EmissionSummary {
     double peak_nm = 0, fwhm_nm = 0, centroid_nm = 0;

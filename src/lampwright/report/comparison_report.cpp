@@ -34,7 +34,12 @@ std::string comparison_text(const std::vector<ComparisonEntry>& entries) {
                          cell(a.xy.x, 4), cell(a.xy.y, 4), cell(cct, 0), format_signed(a.cct.duv, 4, "-"), cell(ra, 1), cell(r9, 1),
                          cell(a.ler_lm_per_W, 1), cell(e.efficiency, 3), cell(100 * e.leak_fraction, 2), cell(e.efficacy, 1));
     }
-    return o + "eff: converted W per W pump (layer), W per W absorbed (blend); lm/W*: per W pump (layer), per W absorbed (blend)\n";
+    o += "eff: converted W per W pump (layer), W per W absorbed (blend); lm/W*: per W pump (layer), per W absorbed (blend)\n";
+    // Each entry's warnings (CIE 13.3 validity, no CCT, a phosphor without quenching data), as the
+    // other commands print them.
+    for (const auto& e : entries)
+        for (const auto& w : e.assessment.warnings) o += fmt::format("note: {}: {}\n", e.name, w);
+    return o;
 }
 
 std::string comparison_csv(const std::vector<ComparisonEntry>& entries) {

@@ -1,0 +1,89 @@
+// The `lampwright layer`, `fit` (on a layer design) and `compare` commands on layers, run as the user
+// runs them (LAMPWRIGHT_CLI): the warning for a phosphor without quenching data.
+#include "test_support.hpp"
+
+#include <doctest/doctest.h>
+#include <nlohmann/json.hpp>
+
+#include <string>
+
+namespace {
+
+using lwtest::run_cli_args;
+using lwtest::TempDir;
+
+const std::string kFixtures = LAMPWRIGHT_SOURCE_DIR "/tests/data/phosphors_thermal";
+const std::string kWarning = "no quenching data for TestGreen:NoThermal: treated as constant with temperature";
+
+// The shipped 80 um module with its green phosphor replaced by a fixture phosphor, at `t_C`.
+std::string design(const TempDir& dir, const std::string& green_id, double t_C) {
+    return dir.write("design.toml", "name = \"thermal test\"\n[pump]\npeak_nm = 395\nfwhm_nm = 12\n[layer]\nthickness_um = 80\n"
+                                    "[operating]\ntemperature_C = " + std::to_string(t_C) + "\n"
+                                    "[[component]]\nphosphor = \"BaMgAl10O17:Eu2+\"\nloading = 0.12\n"
+                                    "[[component]]\nphosphor = \"" + green_id + "\"\nloading = 0.06\n"
+                                    "[[component]]\nphosphor = \"CaAlSiN3:Eu2+\"\nloading = 0.047\n");
+}
+
+bool json_has_warning(const std::string& out, const std::string& text) {
+    const auto j = nlohmann::json::parse(out);
+    for (const auto& w : j.at("warnings"))
+        if (w.get<std::string>() == text) return true;
+    return false;
+}
+
+}  // namespace
+
+TEST_CASE("cli layer: a phosphor without quenching data at 100 degC warns in text, in JSON warnings and on stderr") {
+    const TempDir dir;
+    const std::string d = design(dir, "TestGreen:NoThermal", 100);
+    const auto text = run_cli_args({"layer", d, "--phosphors", kFixtures});
+    REQUIRE(text.exit_code == 0);
+    CHECK(text.out.find(kWarning) != std::string::npos);
+    CHECK(text.err.find(kWarning) != std::string::npos);
+    const auto json = run_cli_args({"layer", d, "--phosphors", kFixtures, "-f", "json"});
+    REQUIRE(json.exit_code == 0);
+    CHECK(json_has_warning(json.out, kWarning));
+    CHECK(json.err.find(kWarning) != std::string::npos);
+}
+
+TEST_CASE("cli layer: at the reference temperature 25 degC, and for a phosphor with quenching data, no quenching warning") {
+    const TempDir dir;
+    for (const auto& [id, t] : {std::pair<std::string, double>{"TestGreen:NoThermal", 25.0}, {"TestGreen:WithThermal", 100.0}}) {
+        CAPTURE(id);
+        const std::string d = design(dir, id, t);
+        const auto text = run_cli_args({"layer", d, "--phosphors", kFixtures});
+        REQUIRE(text.exit_code == 0);
+        CHECK(text.out.find("no quenching data") == std::string::npos);
+        CHECK(text.err.find("no quenching data") == std::string::npos);
+        const auto json = run_cli_args({"layer", d, "--phosphors", kFixtures, "-f", "json"});
+        REQUIRE(json.exit_code == 0);
+        CHECK(json.out.find("no quenching data") == std::string::npos);
+    }
+}
+
+TEST_CASE("cli fit on a layer design: a phosphor without quenching data at 100 degC warns in text, in JSON warnings and on stderr") {
+    const TempDir dir;
+    const std::string d = design(dir, "TestGreen:NoThermal", 100);
+    const auto text = run_cli_args({"fit", d, "--cct", "5000", "--phosphors", kFixtures});
+    REQUIRE(text.exit_code == 0);
+    CHECK(text.out.find(kWarning) != std::string::npos);
+    CHECK(text.err.find(kWarning) != std::string::npos);
+    const auto json = run_cli_args({"fit", d, "--cct", "5000", "--phosphors", kFixtures, "-f", "json"});
+    REQUIRE(json.exit_code == 0);
+    CHECK(json_has_warning(json.out, kWarning));
+    CHECK(json.err.find(kWarning) != std::string::npos);
+}
+
+TEST_CASE("cli compare: a layer whose phosphor lacks quenching data at 100 degC warns in the table and on stderr") {
+    const TempDir dir;
+    const auto r = run_cli_args({"compare", design(dir, "TestGreen:NoThermal", 100), "--phosphors", kFixtures});
+    REQUIRE(r.exit_code == 0);
+    CHECK(r.out.find(kWarning) != std::string::npos);
+    CHECK(r.err.find(kWarning) != std::string::npos);
+    const auto csv = run_cli_args({"compare", design(dir, "TestGreen:NoThermal", 100), "--phosphors", kFixtures, "-f", "csv"});
+    REQUIRE(csv.exit_code == 0);
+    CHECK(csv.err.find(kWarning) != std::string::npos);  // CSV stays a table; the note goes to stderr
+    const auto quiet = run_cli_args({"compare", design(dir, "TestGreen:WithThermal", 100), "--phosphors", kFixtures});
+    CHECK(quiet.out.find("no quenching data") == std::string::npos);
+    CHECK(quiet.err.find("no quenching data") == std::string::npos);
+}
