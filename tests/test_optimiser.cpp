@@ -96,7 +96,7 @@ double grid_best_ra(const FitProblem& p, int fourth_steps, int radii, int angles
                 BlendInput in = p.blend;
                 for (std::size_t i = 0; i < n; ++i) {
                     const double si = i < 3 ? s(static_cast<int>(i)) : s4;
-                    in.components[i].mass_fraction = si / b.absorption[i];
+                    in.components[i].mass_fraction = si / b.share_weight[i];
                 }
                 if (n == 4 && s4 <= 0) in.components.pop_back();
                 const BlendResult r = evaluate_blend(in);

@@ -318,7 +318,7 @@ TEST_CASE("phosphor user folder: measured spectrum loads and blends") {
     BlendInput in;
     in.name = "measured green";
     in.excitation = Excitation::led(405.0, 12.0);
-    in.components.push_back({p.id, p, 1.0, std::nullopt, std::nullopt, std::nullopt, std::nullopt});
+    in.components.push_back({p.id, p, 1.0, std::nullopt, std::nullopt, std::nullopt, std::nullopt, std::nullopt, std::nullopt});
     const BlendResult r = evaluate_blend(in);
     REQUIRE(r.components.size() == 1);
     CHECK(r.components[0].quantum_efficiency == doctest::Approx(0.8));

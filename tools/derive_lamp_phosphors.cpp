@@ -415,6 +415,12 @@ std::string emission_block(const Model& m, const std::vector<double>& th, const 
     out += lines ? "model = \"lines\"\nlines = [\n" : "model = \"bands\"\nbands = [\n";
     for (std::size_t j = 0; j < m.emitters.size(); ++j) {
         const auto& e = m.emitters[j];
+        // A component the fit gave no strength stays visible as a comment (a zero weight is not a
+        // valid file entry: the phosphor simply does not show that transition in these lamps).
+        if (m.a[j] < (lines ? 0.5e-5 : 0.5e-4)) {
+            out += fmt::format("  # {} near {:.1f} nm: left out, the fit gave it no strength\n", e.transition, position_of(e, th));
+            continue;
+        }
         if (lines)
             out += fmt::format("  {{ nm = {:.1f}, weight = {:.5f}, fwhm_nm = {:.2f} }},   # {}\n", position_of(e, th), m.a[j], width_of(e, th), e.transition);
         else
@@ -423,6 +429,19 @@ std::string emission_block(const Model& m, const std::vector<double>& th, const 
     }
     out += "]\nsource = \"" + source + "\"\n# END derived emission\n";
     return out;
+}
+
+// Throws unless the file holds a "# BEGIN derived emission" ... "# END derived emission" block.
+void require_block(const std::string& path) {
+    std::ifstream in(path);
+    if (!in) throw std::runtime_error(path + ": cannot be read");
+    std::stringstream ss;
+    ss << in.rdbuf();
+    const std::string text = ss.str();
+    const auto b = text.find("# BEGIN derived emission");
+    const auto e = text.find("# END derived emission");
+    if (b == std::string::npos || e == std::string::npos || e < b)
+        throw std::runtime_error(path + ": no '# BEGIN derived emission' ... '# END derived emission' block");
 }
 
 void replace_block(const std::string& path, const std::string& block) {
@@ -471,6 +490,15 @@ int main(int argc, char** argv) {
         const int mn_cl = one_band(s, "Mn2+ (long component)", "", 590, 578, 605, 72, 50, 100, "Mn2+ 4T1-6A1",
                                    "Mn2+ band near 580 nm in the Cl-rich host: abstract on halophosphate luminescence; bounds 578-605 nm.");
         const Group halo{"halophosphate FL1-FL6", {1, 2, 3, 4, 5, 6}, {sb, mn_f, mn_cl}};
+        // With --write, every file to be rewritten must have its block: fail before the long fits.
+        auto check_files = [&]() {
+            if (!write) return;
+            for (const char* f : {"Ca5_PO4_3_F_Cl_Sb_Mn_cool.toml", "Ca5_PO4_3_F_Cl_Sb_Mn_warm.toml", "CeMgAl11O19_Tb.toml", "GdMgB5O10_Ce_Tb.toml"})
+                require_block(data + "/phosphors/" + f);
+            for (const auto& m : s.models)
+                if (!m.file.empty()) require_block(data + "/phosphors/" + m.file);
+        };
+        check_files();
         const GroupFit f_halo = fit_group(s, halo);
         for (int q : halo.models) s.models[static_cast<std::size_t>(q)].fixed = true;
 
@@ -480,6 +508,7 @@ int main(int argc, char** argv) {
         const int bam = one_band(s, "BaMgAl10O17:Eu2+", "BaMgAl10O17_Eu.toml", 451, 440, 462, 52, 35, 70, "Eu2+ 4f65d-4f7",
                                  "Band peak bounded to 440-462 nm and FWHM to 35-70 nm around the from-memory 450 nm / 50 nm.");
         const Group tri{"tri-band FL10-FL12", {10, 11, 12}, {y, t, bam, sb, mn_f, mn_cl}};
+        check_files();
         const GroupFit f_tri = fit_group(s, tri);
         for (int q : {y, t, bam}) s.models[static_cast<std::size_t>(q)].fixed = true;
 
@@ -510,6 +539,7 @@ int main(int argc, char** argv) {
                                 "447 nm: from memory; 440-450 nm, 25-65 nm FWHM: patent literature on blended halophosphate lamps; bounds "
                                 "442-453 nm, 25-50 nm.");
         const Group broad{"broadband FL7-FL9", {7, 8, 9}, {y, t, bam, sb, mn_f, mn_cl, sp, cw, mw, sa, bmn, cbm, zs, sn, sc}};
+        check_files();
         const GroupFit f_broad = fit_group(s, broad);
 
         const auto th = values(s);

@@ -57,17 +57,6 @@ double visible_power(const Spectrum& s) {
 
 }  // namespace
 
-Spectrum mercury_line_group(std::size_t group) {
-    Spectrum s = emission_grid("mercury lines");
-    if (group == 3) {
-        add_line(s, 577.0, 0.5);
-        add_line(s, 579.1, 0.5);
-    } else {
-        add_line(s, kMercuryLineGroupsNm.at(group), 1.0);
-    }
-    return s;
-}
-
 UnmixingResult unmix_spectrum(const SampledSpectrum& m, const std::vector<Phosphor>& candidates, const UnmixingOptions& o) {
     const Grid g = measurement_grid(m);
     const int bandwidth = o.bandwidth_nm > 0 ? o.bandwidth_nm : g.step;

@@ -5,6 +5,7 @@
 // optionally, the reconstruction's chromaticity held to the measured one by two linear
 // equality rows (X - (x/y) Y = 0 and Z - (z/y) Y = 0 are linear in the amplitudes).
 #include "lampwright/core/spectrum.hpp"
+#include "lampwright/phosphor/blend.hpp"
 #include "lampwright/phosphor/phosphor.hpp"
 
 #include <array>
@@ -12,13 +13,6 @@
 #include <vector>
 
 namespace lampwright {
-
-// The visible mercury lines of a low-pressure discharge that a 5 nm table resolves as four
-// groups: 404.7, 435.8, 546.1 nm and the 577.0/579.1 nm pair (taken as equal in power: from
-// memory). Positions: IUPAC Gold Book / NIST atomic spectra (from memory).
-inline constexpr std::array<double, 4> kMercuryLineGroupsNm{404.7, 435.8, 546.1, 578.0};
-// One unit of power in the line group on the emission grid (the pair split 1:1).
-Spectrum mercury_line_group(std::size_t group);
 
 struct UnmixingOptions {
     int bandwidth_nm = 0;              // the instrument's bandpass; 0: the measurement's step
