@@ -16,15 +16,14 @@ std::string share_model_name(const BlendResult& r) { return r.grain_model ? "gra
 
 std::vector<std::string> blend_columns(const BlendResult& r) {
     auto c = assessment_columns();
+    // lamp_type and absorbed_share_model close the blend's fixed part, before the variable
+    // component groups (docs/output-schemas.md).
     for (const char* k : {"quantum_yield", "stokes_efficiency", "radiant_efficiency", "efficacy_lm_per_W_absorbed",
-                          "mercury_line_fraction", "pump_leak_W_per_W"})
+                          "mercury_line_fraction", "pump_leak_W_per_W", "lamp_type", "absorbed_share_model"})
         c.push_back(k);
     for (std::size_t i = 1; i <= r.components.size(); ++i)
         for (const char* k : {"id", "mass_fraction", "photon_share", "radiant_share", "luminous_share", "stokes_efficiency"})
             c.push_back(fmt::format("c{}_{}", i, k));
-    // Added after the components (docs/output-schemas.md: fields are only appended).
-    c.push_back("lamp_type");
-    c.push_back("absorbed_share_model");
     return c;
 }
 
@@ -36,6 +35,8 @@ std::vector<std::string> blend_values(const BlendResult& r) {
     v.push_back(format_fixed(r.luminous_efficacy_absorbed, 2));
     v.push_back(format_fixed(r.mercury_line_fraction, 4));
     v.push_back(format_fixed(r.pump_leak_W_per_W, 5));
+    v.push_back(r.lamp_type);
+    v.push_back(share_model_name(r));
     for (const auto& c : r.components) {
         v.push_back(c.label);
         v.push_back(format_fixed(c.mass_fraction, 6));
@@ -44,8 +45,6 @@ std::vector<std::string> blend_values(const BlendResult& r) {
         v.push_back(format_fixed(c.luminous_share, 6));
         v.push_back(format_fixed(c.stokes_efficiency, 5));
     }
-    v.push_back(r.lamp_type);
-    v.push_back(share_model_name(r));
     return v;
 }
 
