@@ -429,7 +429,7 @@ mass_fraction = 1
         in.excitation = Excitation::mercury();
         for (const auto& [id, w] : std::vector<std::pair<std::string, double>>{{"YOX", 1.0 / 3.0}, {"LAP", 2.0 / 3.0 - 2e-7}, {"BAM", 2e-7}}) {
             const Phosphor& p = PhosphorLibrary::builtin().find(id);
-            in.components.push_back(BlendComponent{p.id, p, w, std::nullopt, std::nullopt, std::nullopt, std::nullopt});
+            in.components.push_back(BlendComponent{p.id, p, w, std::nullopt, std::nullopt, std::nullopt, std::nullopt, std::nullopt, std::nullopt});
         }
         Recipe a;
         a.blend = in;

@@ -1,5 +1,7 @@
 #include "lampwright/core/spectrum.hpp"
 
+#include <cmath>
+
 #include <algorithm>
 
 namespace lampwright {
@@ -32,6 +34,17 @@ Spectrum scaled(const Spectrum& s, double factor) {
     Spectrum r = s;
     for (auto& v : r.values) v *= factor;
     return r;
+}
+
+void add_line(Spectrum& s, double nm, double power) {
+    const double lo = std::floor(nm);
+    const double t = nm - lo;
+    const auto add = [&](double w, double p) {
+        if (w >= s.first_nm && w <= s.last_nm()) s.values[static_cast<std::size_t>(static_cast<int>(w) - s.first_nm)] += p;
+    };
+    if (!(lo >= s.first_nm - 1 && lo <= s.last_nm())) return;
+    add(lo, power * (1 - t));
+    add(lo + 1, power * t);
 }
 
 }  // namespace lampwright

@@ -62,4 +62,8 @@ double radiant_integral(const Spectrum& s);
 
 Spectrum scaled(const Spectrum& s, double factor);
 
+// Adds a spectral line of total power `power` at `nm`, shared between the two 1 nm grid points
+// around it so that its power and centroid are kept (nothing is added outside the grid).
+void add_line(Spectrum& s, double nm, double power);
+
 }  // namespace lampwright

@@ -35,7 +35,7 @@ public:
             tri_.push_back(cie133_tristimuli(v.data()));
             radiant_.push_back(radiant_integral(basis_.light[i]));
             phosphor_lm_.push_back(kKm * tristimulus(basis_.phosphor_light[i]).Y);
-            if (!(basis_.absorption[i] > 0))
+            if (!(basis_.share_weight[i] > 0))
                 throw Error(fmt::format("component '{}' does not absorb the {}: its fraction cannot change the light",
                                         in.components[i].label, in.excitation.describe()));
         }
@@ -173,7 +173,7 @@ std::optional<Eigen::Vector3d> shares_for(const FastBlend& fb, const Chromaticit
 std::vector<double> mass_from_shares(const FastBlend& fb, const Eigen::Vector3d& s) {
     std::vector<double> w(3);
     double total = 0;
-    for (std::size_t i = 0; i < 3; ++i) total += w[i] = std::max(0.0, s(static_cast<int>(i))) / fb.basis().absorption[i];
+    for (std::size_t i = 0; i < 3; ++i) total += w[i] = std::max(0.0, s(static_cast<int>(i))) / fb.basis().share_weight[i];
     for (double& v : w) v /= total;
     return w;
 }
@@ -259,7 +259,7 @@ struct NloptContext {
         cached_z.assign(z, z + n);
         const auto& ww = fractions(z);
         double total = 0;
-        for (std::size_t i = 0; i < ww.size(); ++i) total += ww[i] * fb->basis().absorption[i];
+        for (std::size_t i = 0; i < ww.size(); ++i) total += ww[i] * fb->basis().share_weight[i];
         if (total > 0) {
             cached = fb->evaluate(ww);
         } else {
@@ -378,7 +378,7 @@ std::optional<OnTarget> on_target_set(const FitProblem& p, const FastBlend& fb) 
     Eigen::MatrixXd e(3, n);
     for (Eigen::Index i = 0; i < n; ++i) {
         const XYZ c = fb.component_xyz(static_cast<std::size_t>(i));
-        const double a = fb.basis().absorption[static_cast<std::size_t>(i)], sum = c.X + c.Y + c.Z;
+        const double a = fb.basis().share_weight[static_cast<std::size_t>(i)], sum = c.X + c.Y + c.Z;
         e(0, i) = a * (c.X - p.target.xy.x * sum);
         e(1, i) = a * (c.Y - p.target.xy.y * sum);
         e(2, i) = 1.0;
@@ -407,7 +407,7 @@ struct OnTargetContext {
         const auto& ww = fractions(t);
         std::vector<double> clipped(ww.size());
         double total = 0;
-        for (std::size_t i = 0; i < ww.size(); ++i) total += (clipped[i] = std::max(0.0, ww[i])) * fb->basis().absorption[i];
+        for (std::size_t i = 0; i < ww.size(); ++i) total += (clipped[i] = std::max(0.0, ww[i])) * fb->basis().share_weight[i];
         if (!(total > 0)) return std::nullopt;
         return fb->evaluate(clipped);
     }
@@ -628,7 +628,7 @@ FitResult solve(const FitProblem& p, const FitOptions& opt) {
     auto consider = [&](const std::vector<double>& w) {
         Candidate c{tidy(w)};
         double total = 0;
-        for (std::size_t i = 0; i < n; ++i) total += c.w[i] * fb.basis().absorption[i];
+        for (std::size_t i = 0; i < n; ++i) total += c.w[i] * fb.basis().share_weight[i];
         if (!(total > 0)) return;
         const auto e = fb.evaluate(c.w);
         // A cheap check with the fast path; the winner is re-checked with evaluate_blend.

@@ -76,7 +76,7 @@ ToleranceModel::ToleranceModel(const ToleranceProblem& p) : relative_(p.weighing
     }
     for (const auto& c : p.blend.components) nominal_.push_back(c.mass_fraction / total);
     const BlendBasis basis = blend_basis(p.blend);
-    absorption_ = basis.absorption;
+    absorption_ = basis.share_weight;
     if (!(std::inner_product(nominal_.begin(), nominal_.end(), absorption_.begin(), 0.0) > 0))
         throw Error(fmt::format("no component of blend '{}' absorbs the {}", p.blend.name, p.blend.excitation.describe()));
 

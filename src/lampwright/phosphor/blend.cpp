@@ -43,16 +43,25 @@ Spectrum emission_for_excitation(const Phosphor& p, const Excitation& e, double 
     return n;
 }
 
-Spectrum mercury_visible_lines(double power) {
-    static constexpr std::array<std::pair<double, double>, 5> lines{{{404.7, 0.4}, {435.8, 1.0}, {546.1, 0.9}, {577.0, 0.1}, {579.1, 0.1}}};
-    double total = 0;
-    for (const auto& l : lines) total += l.second;
+Spectrum mercury_line_group(std::size_t group) {
     Spectrum s = emission_grid("mercury lines");
-    for (const auto& [nm, rel] : lines) {
-        const int lo = static_cast<int>(std::floor(nm));
-        const double t = nm - lo;
-        s.values[static_cast<std::size_t>(lo - s.first_nm)] += power * rel / total * (1 - t);
-        s.values[static_cast<std::size_t>(lo + 1 - s.first_nm)] += power * rel / total * t;
+    if (group == 3) {
+        add_line(s, 577.0, 0.5);
+        add_line(s, 579.1, 0.5);
+    } else {
+        add_line(s, kMercuryLineGroupsNm.at(group), 1.0);
+    }
+    return s;
+}
+
+Spectrum mercury_visible_lines(double power, const std::array<double, 4>& relative_power) {
+    double total = 0;
+    for (double r : relative_power) total += r;
+    Spectrum s = emission_grid("mercury lines");
+    if (!(total > 0)) return s;
+    for (std::size_t g = 0; g < relative_power.size(); ++g) {
+        const Spectrum one = mercury_line_group(g);
+        for (std::size_t k = 0; k < s.values.size(); ++k) s.values[k] += power * relative_power[g] / total * one.values[k];
     }
     return s;
 }
@@ -66,9 +75,31 @@ BlendBasis blend_basis(const BlendInput& in) {
     const double inv_lambda_exc = mean_inverse_wavelength(e);
     Spectrum leak = emission_grid("leak");
     if (e.kind == Excitation::Kind::mercury) {
-        b.mercury_line_fraction = in.mercury_line_fraction.value_or(kDefaultMercuryLineFraction);
+        b.lamp_type = in.lamp_type ? *in.lamp_type : infer_lamp_type(in.components);
+        const MercuryLineSet& set = mercury_line_set(b.lamp_type);
+        b.mercury_line_fraction = in.mercury_line_fraction.value_or(set.visible_fraction);
+        b.mercury_line_ratios = in.mercury_line_ratios.value_or(set.relative_power);
         if (b.mercury_line_fraction < 0 || b.mercury_line_fraction >= 1)
             throw Error(fmt::format("mercury line fraction must lie in [0, 1), not {:g}", b.mercury_line_fraction));
+        for (double r : b.mercury_line_ratios)
+            if (!(r >= 0 && std::isfinite(r))) throw Error("mercury line ratios must be numbers >= 0");
+        b.mercury_source = in.mercury_line_fraction && in.mercury_line_ratios ? "the recipe"
+                           : in.mercury_line_fraction ? "fraction: the recipe; ratios: " + set.source
+                           : in.mercury_line_ratios   ? "ratios: the recipe; fraction: " + set.source
+                                                      : set.source;
+        // Opaque grains at 254 nm: shares by projected area, when every component has grain data.
+        b.grain_model = true;
+        for (const auto& c : in.components) {
+            const double rho = c.density_g_per_cm3.value_or(c.phosphor.density_g_per_cm3);
+            const double d = c.d50_um.value_or(c.phosphor.d50_um);
+            if (!(rho > 0) || !(d > 0)) {
+                b.grain_model = false;
+                b.notes.push_back(fmt::format("component '{}' has no {}: absorbed shares taken as mass x absorption for every component "
+                                              "(give density_g_per_cm3 and d50_um in the recipe)",
+                                              c.label, !(rho > 0) ? "density" : "particle size d50"));
+                break;
+            }
+        }
     } else if (in.absorbed_fraction < 1) {
         // Unabsorbed pump light leaves the lamp; per W absorbed, (1 - f) / f W leak. It does not
         // depend on the shares, and the shares sum to one, so each component carries all of it.
@@ -92,11 +123,19 @@ BlendBasis blend_basis(const BlendInput& in) {
         Spectrum light = power;
         if (e.kind == Excitation::Kind::mercury) {
             const double f = b.mercury_line_fraction;
-            const Spectrum hg = mercury_visible_lines(f / (1 - f) * visible_power(power));
+            const Spectrum hg = mercury_visible_lines(f / (1 - f) * visible_power(power), b.mercury_line_ratios);
             for (std::size_t k = 0; k < hg.values.size(); ++k) light.values[k] += hg.values[k];
         }
         for (std::size_t k = 0; k < leak.values.size(); ++k) light.values[k] += leak.values[k];
         b.absorption.push_back(a);
+        if (b.grain_model) {
+            // g = a (1 - R) / (rho d50): projected area per unit mass of opaque spheres, less reflection.
+            const double rho = c.density_g_per_cm3.value_or(c.phosphor.density_g_per_cm3);
+            const double d = c.d50_um.value_or(c.phosphor.d50_um);
+            b.share_weight.push_back(a * (1 - c.phosphor.reflectance_254nm) / (rho * d));
+        } else {
+            b.share_weight.push_back(a);
+        }
         b.quantum_efficiency.push_back(qe);
         b.stokes_efficiency.push_back(energy_ratio);
         b.phosphor_light.push_back(std::move(power));
@@ -106,12 +145,12 @@ BlendBasis blend_basis(const BlendInput& in) {
 }
 
 std::vector<double> photon_shares(const BlendBasis& b, const std::vector<double>& w) {
-    if (w.size() != b.absorption.size()) throw Error("photon_shares: one mass fraction per component");
+    if (w.size() != b.share_weight.size()) throw Error("photon_shares: one mass fraction per component");
     double total = 0;
-    for (std::size_t i = 0; i < w.size(); ++i) total += w[i] * b.absorption[i];
+    for (std::size_t i = 0; i < w.size(); ++i) total += w[i] * b.share_weight[i];
     if (!(total > 0)) throw Error("no component of the blend absorbs the excitation");
     std::vector<double> s(w.size());
-    for (std::size_t i = 0; i < w.size(); ++i) s[i] = w[i] * b.absorption[i] / total;
+    for (std::size_t i = 0; i < w.size(); ++i) s[i] = w[i] * b.share_weight[i] / total;
     return s;
 }
 
@@ -134,7 +173,14 @@ BlendResult evaluate_blend(const BlendInput& in, const AssessOptions& options) {
         cr.mass_fraction = in.components[i].mass_fraction / mass_total;
         cr.absorption = b.absorption[i];
         cr.quantum_efficiency = b.quantum_efficiency[i];
-        absorption_total += cr.mass_fraction * cr.absorption;
+        cr.share_weight = b.share_weight[i];
+        if (b.grain_model) {
+            const auto& c = in.components[i];
+            cr.density_g_per_cm3 = c.density_g_per_cm3.value_or(c.phosphor.density_g_per_cm3);
+            cr.d50_um = c.d50_um.value_or(c.phosphor.d50_um);
+            cr.reflectance = c.phosphor.reflectance_254nm;
+        }
+        absorption_total += cr.mass_fraction * cr.share_weight;
         r.components.push_back(cr);
     }
     if (!(absorption_total > 0))
@@ -144,7 +190,7 @@ BlendResult evaluate_blend(const BlendInput& in, const AssessOptions& options) {
     r.spectrum = emission_grid(in.name);
     for (std::size_t i = 0; i < in.components.size(); ++i) {
         auto& cr = r.components[i];
-        cr.photon_share = cr.mass_fraction * cr.absorption / absorption_total;
+        cr.photon_share = cr.mass_fraction * cr.share_weight / absorption_total;
         const Spectrum power = scaled(b.phosphor_light[i], cr.photon_share);
         cr.stokes_efficiency = b.stokes_efficiency[i];
         cr.radiant_W_per_W = sum_of(power);
@@ -163,9 +209,14 @@ BlendResult evaluate_blend(const BlendInput& in, const AssessOptions& options) {
         cr.luminous_share = cr.luminous_lm_per_W / r.luminous_efficacy_absorbed;
     }
     r.mercury_line_fraction = b.mercury_line_fraction;
+    r.mercury_line_ratios = b.mercury_line_ratios;
+    r.lamp_type = b.lamp_type;
+    r.mercury_source = b.mercury_source;
+    r.grain_model = b.grain_model;
     r.pump_leak_W_per_W = b.pump_leak_W_per_W;
     r.spectrum.name = in.name;
     r.assessment = assess(r.spectrum, options);
+    r.assessment.warnings.insert(r.assessment.warnings.end(), b.notes.begin(), b.notes.end());
     return r;
 }
 

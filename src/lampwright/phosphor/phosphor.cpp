@@ -107,7 +107,8 @@ Spectrum emission_photons(const Phosphor& p, double shift_nm) {
     if (p.emission_model == "bands") {
         for (const auto& b : p.bands) add_normalised(out, band_photons_per_nm(b, shift_nm), b.weight);
     } else if (p.emission_model == "lines") {
-        for (const auto& l : p.lines) add_normalised(out, line_photons_per_nm(l.nm + shift_nm, p.line_fwhm_nm), l.weight);
+        for (const auto& l : p.lines)
+            add_normalised(out, line_photons_per_nm(l.nm + shift_nm, l.fwhm_nm > 0 ? l.fwhm_nm : p.line_fwhm_nm), l.weight);
     }
     double sum = 0;
     for (double v : out.values) sum += v;
@@ -148,7 +149,7 @@ Phosphor phosphor_from_emission_file(const std::string& path) {
 Phosphor parse_phosphor(const std::string& text, const std::string& origin) {
     const TomlDoc doc(text, origin);
     const auto& r = doc.root();
-    doc.only_keys(r, {"id", "abbreviation", "name", "use", "body_colour", "model_note", "density", "emission", "absorption",
+    doc.only_keys(r, {"id", "abbreviation", "name", "use", "body_colour", "model_note", "density", "grain", "emission", "absorption",
                       "quantum_efficiency", "thermal"}, "");
     Phosphor p;
     p.origin = origin;
@@ -167,6 +168,18 @@ Phosphor parse_phosphor(const std::string& text, const std::string& origin) {
         p.density_g_per_cm3 = doc.require_number(*d, "g_per_cm3", "density");
         require_positive(doc, *d, "g_per_cm3", "density", p.density_g_per_cm3);
         p.density_source = doc.string(*d, "source", "density").value_or("");
+    }
+
+    if (const auto* g = doc.table(r, "grain", "")) {
+        doc.only_keys(*g, {"d50_um", "reflectance_at_254nm", "source"}, "grain");
+        p.d50_um = doc.require_number(*g, "d50_um", "grain");
+        if (!(p.d50_um >= 0.05 && p.d50_um <= 200))
+            doc.fail(g->get("d50_um"), "grain.d50_um", fmt::format("must be a median particle size of 0.05-200 um, not {:g}", p.d50_um));
+        p.reflectance_254nm = doc.number(*g, "reflectance_at_254nm", "grain").value_or(0.0);
+        if (!(p.reflectance_254nm >= 0 && p.reflectance_254nm < 1))
+            doc.fail(g->get("reflectance_at_254nm"), "grain.reflectance_at_254nm",
+                     fmt::format("must be a fraction in [0, 1), not {:g}", p.reflectance_254nm));
+        p.grain_source = doc.string(*g, "source", "grain").value_or("");
     }
 
     const auto* e = doc.table(r, "emission", "");
@@ -193,17 +206,22 @@ Phosphor parse_phosphor(const std::string& text, const std::string& origin) {
             p.bands.push_back(band);
         }
     } else if (p.emission_model == "lines") {
-        p.line_fwhm_nm = doc.require_number(*e, "line_fwhm_nm", "emission");
-        require_positive(doc, *e, "line_fwhm_nm", "emission", p.line_fwhm_nm);
+        // One width for every line, or a width per line (lines derived from measured lamps have their own).
+        p.line_fwhm_nm = doc.number(*e, "line_fwhm_nm", "emission").value_or(0.0);
+        if (e->get("line_fwhm_nm")) require_positive(doc, *e, "line_fwhm_nm", "emission", p.line_fwhm_nm);
         const auto* lines = doc.array(*e, "lines", "emission");
         if (!lines || lines->empty()) doc.fail(e, "emission", "model \"lines\" needs a non-empty 'lines' array");
         for (std::size_t i = 0; i < lines->size(); ++i) {
             const auto* l = lines->get(i)->as_table();
             const std::string where = fmt::format("emission.lines[{}]", i + 1);
             if (!l) doc.fail(lines->get(i), where, "must be { nm = ..., weight = ... }");
-            doc.only_keys(*l, {"nm", "weight"}, where);
-            EmissionLine line{doc.require_number(*l, "nm", where), doc.number(*l, "weight", where).value_or(1.0)};
+            doc.only_keys(*l, {"nm", "weight", "fwhm_nm"}, where);
+            EmissionLine line{doc.require_number(*l, "nm", where), doc.number(*l, "weight", where).value_or(1.0),
+                              doc.number(*l, "fwhm_nm", where).value_or(0.0)};
             require_positive(doc, *l, "weight", where, line.weight);
+            if (l->get("fwhm_nm")) require_positive(doc, *l, "fwhm_nm", where, line.fwhm_nm);
+            if (line.fwhm_nm == 0 && p.line_fwhm_nm == 0)
+                doc.fail(l, where, "has no width: give fwhm_nm here or line_fwhm_nm for all lines in [emission]");
             // Outside the grid the line would be lost and the peak listed at the grid's edge.
             if (line.nm < kEmissionFirstNm || line.nm > kEmissionLastNm)
                 doc.fail(l->get("nm"), key_path(where, "nm"),

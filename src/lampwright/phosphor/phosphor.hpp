@@ -32,6 +32,7 @@ struct EmissionBand {
 };
 struct EmissionLine {
     double nm = 0, weight = 1;
+    double fwhm_nm = 0;  // this line's width; 0: the phosphor's line_fwhm_nm
 };
 
 struct Phosphor {
@@ -40,6 +41,11 @@ struct Phosphor {
     std::string origin;            // file it was read from ("data/phosphors/..." for built-in ones)
     double density_g_per_cm3 = 0;
     std::string density_source;
+    // Grain data for the coating model (phosphor/coating.hpp): median particle size and the
+    // share of 254 nm light a grain reflects; 0 when the file gives none.
+    double d50_um = 0;
+    double reflectance_254nm = 0;
+    std::string grain_source;
 
     std::string emission_model;  // "bands", "lines" or "measured"
     std::vector<EmissionBand> bands;

@@ -7,6 +7,7 @@
 
 #include <fmt/format.h>
 
+#include <array>
 #include <cmath>
 #include <filesystem>
 
@@ -53,7 +54,8 @@ Excitation parse_excitation(const TomlDoc& doc) {
 Recipe recipe_from_toml(const TomlDoc& doc, const std::vector<std::string>& extra_folders,
                         const std::vector<std::string>& extra_root_keys) {
     const auto& r = doc.root();
-    std::vector<std::string> known{"name", "excitation_nm", "pump", "mercury_lines", "absorbed_fraction", "phosphor_folders", "component"};
+    std::vector<std::string> known{"name", "excitation_nm", "pump", "mercury_lines", "mercury_line_ratios", "lamp_type", "absorbed_fraction",
+                                   "phosphor_folders", "component"};
     known.insert(known.end(), extra_root_keys.begin(), extra_root_keys.end());
     doc.only_keys(r, known, "");
     Recipe rec;
@@ -67,6 +69,28 @@ Recipe recipe_from_toml(const TomlDoc& doc, const std::vector<std::string>& extr
             doc.fail(r.get("mercury_lines"), "mercury_lines", fmt::format("must be a fraction in [0, 0.5), not {:g} (percent?)", *f));
         rec.blend.mercury_line_fraction = *f;
     }
+    if (const auto* ratios = doc.array(r, "mercury_line_ratios", "")) {
+        if (rec.blend.excitation.kind != Excitation::Kind::mercury)
+            doc.fail(ratios, "mercury_line_ratios", "only applies to a mercury discharge (excitation_nm = 253.7)");
+        if (ratios->size() != 4)
+            doc.fail(ratios, "mercury_line_ratios", fmt::format("must list 4 powers (404.7, 435.8, 546.1, 577+579 nm), not {}", ratios->size()));
+        std::array<double, 4> v{};
+        double total = 0;
+        for (std::size_t k = 0; k < 4; ++k) {
+            const auto x = ratios->get(k)->value<double>();
+            if (!x || !(*x >= 0) || !std::isfinite(*x)) doc.fail(ratios->get(k), "mercury_line_ratios", "must be numbers >= 0");
+            total += v[k] = *x;
+        }
+        if (!(total > 0)) doc.fail(ratios, "mercury_line_ratios", "must not all be zero");
+        rec.blend.mercury_line_ratios = v;
+    }
+    if (auto t = doc.string(r, "lamp_type", "")) {
+        if (rec.blend.excitation.kind != Excitation::Kind::mercury)
+            doc.fail(r.get("lamp_type"), "lamp_type", "only applies to a mercury discharge (excitation_nm = 253.7)");
+        if (*t != "halophosphate" && *t != "tri-band" && *t != "broadband")
+            doc.fail(r.get("lamp_type"), "lamp_type", fmt::format("must be halophosphate, tri-band or broadband, not '{}'", *t));
+        rec.blend.lamp_type = *t;
+    }
     if (auto f = doc.number(r, "absorbed_fraction", "")) {
         if (!(*f > 0 && *f <= 1)) doc.fail(r.get("absorbed_fraction"), "absorbed_fraction", fmt::format("must lie in (0, 1], not {:g}", *f));
         rec.blend.absorbed_fraction = *f;
@@ -79,7 +103,9 @@ Recipe recipe_from_toml(const TomlDoc& doc, const std::vector<std::string>& extr
     for (std::size_t i = 0; i < comps.size(); ++i) {
         std::string where;
         const toml::table* c = &component_table(doc, comps, i, where);
-        doc.only_keys(*c, {"phosphor", "spectrum", "absorption", "quantum_efficiency", "mass_fraction", "label", "min_fraction", "max_fraction"}, where);
+        doc.only_keys(*c, {"phosphor", "spectrum", "absorption", "quantum_efficiency", "mass_fraction", "label", "min_fraction", "max_fraction",
+                           "density_g_per_cm3", "d50_um"},
+                      where);
         BlendComponent bc;
         bc.mass_fraction = doc.require_number(*c, "mass_fraction", where);
         if (!(bc.mass_fraction > 0))
@@ -104,6 +130,17 @@ Recipe recipe_from_toml(const TomlDoc& doc, const std::vector<std::string>& extr
                     doc.fail(c->get(key), key_path(where, key), fmt::format("must be a fraction in [0, 1], not {:g} (percent?)", *v));
                 (std::string(key) == "min_fraction" ? bc.min_fraction : bc.max_fraction) = *v;
             }
+        }
+        // Grain data of this lot: density and median particle size vary from lot to lot.
+        if (const auto v = doc.number(*c, "density_g_per_cm3", where)) {
+            if (!(*v >= 0.5 && *v <= 12))
+                doc.fail(c->get("density_g_per_cm3"), key_path(where, "density_g_per_cm3"), fmt::format("must be a density of 0.5-12 g/cm3, not {:g}", *v));
+            bc.density_g_per_cm3 = *v;
+        }
+        if (const auto v = doc.number(*c, "d50_um", where)) {
+            if (!(*v >= 0.05 && *v <= 200))
+                doc.fail(c->get("d50_um"), key_path(where, "d50_um"), fmt::format("must be a median particle size of 0.05-200 um, not {:g}", *v));
+            bc.d50_um = *v;
         }
         if (bc.min_fraction && bc.max_fraction && *bc.min_fraction > *bc.max_fraction)
             doc.fail(c->get("min_fraction"), key_path(where, "min_fraction"),
@@ -134,6 +171,10 @@ std::string recipe_to_toml(const BlendInput& b, const std::vector<std::string>& 
     if (b.excitation.kind == Excitation::Kind::mercury) {
         o += fmt::format("excitation_nm = {:g}\n", b.excitation.peak_nm);
         if (b.mercury_line_fraction) o += fmt::format("mercury_lines = {:g}\n", *b.mercury_line_fraction);
+        if (b.mercury_line_ratios)
+            o += fmt::format("mercury_line_ratios = [{:g}, {:g}, {:g}, {:g}]\n", (*b.mercury_line_ratios)[0], (*b.mercury_line_ratios)[1],
+                             (*b.mercury_line_ratios)[2], (*b.mercury_line_ratios)[3]);
+        if (b.lamp_type) o += fmt::format("lamp_type = {}\n", toml_quote(*b.lamp_type));
     }
     if (b.absorbed_fraction != 1.0) o += fmt::format("absorbed_fraction = {:g}\n", b.absorbed_fraction);
     if (b.excitation.kind == Excitation::Kind::led)
@@ -153,6 +194,8 @@ std::string recipe_to_toml(const BlendInput& b, const std::vector<std::string>& 
         if (c.quantum_efficiency) o += fmt::format("quantum_efficiency = {:g}\n", *c.quantum_efficiency);
         if (c.min_fraction) o += fmt::format("min_fraction = {:g}\n", *c.min_fraction);
         if (c.max_fraction) o += fmt::format("max_fraction = {:g}\n", *c.max_fraction);
+        if (c.density_g_per_cm3) o += fmt::format("density_g_per_cm3 = {}\n", *c.density_g_per_cm3);
+        if (c.d50_um) o += fmt::format("d50_um = {}\n", *c.d50_um);
     }
     return o;
 }

@@ -9,10 +9,17 @@
 
 namespace lampwright {
 
+namespace {
+// "grain-area" (opaque grains at 254 nm) or "mass-absorption" (LED pumps, or no grain data).
+std::string share_model_name(const BlendResult& r) { return r.grain_model ? "grain-area" : "mass-absorption"; }
+}  // namespace
+
 std::vector<std::string> blend_columns(const BlendResult& r) {
     auto c = assessment_columns();
+    // lamp_type and absorbed_share_model close the blend's fixed part, before the variable
+    // component groups (docs/output-schemas.md).
     for (const char* k : {"quantum_yield", "stokes_efficiency", "radiant_efficiency", "efficacy_lm_per_W_absorbed",
-                          "mercury_line_fraction", "pump_leak_W_per_W"})
+                          "mercury_line_fraction", "pump_leak_W_per_W", "lamp_type", "absorbed_share_model"})
         c.push_back(k);
     for (std::size_t i = 1; i <= r.components.size(); ++i)
         for (const char* k : {"id", "mass_fraction", "photon_share", "radiant_share", "luminous_share", "stokes_efficiency"})
@@ -28,6 +35,8 @@ std::vector<std::string> blend_values(const BlendResult& r) {
     v.push_back(format_fixed(r.luminous_efficacy_absorbed, 2));
     v.push_back(format_fixed(r.mercury_line_fraction, 4));
     v.push_back(format_fixed(r.pump_leak_W_per_W, 5));
+    v.push_back(r.lamp_type);
+    v.push_back(share_model_name(r));
     for (const auto& c : r.components) {
         v.push_back(c.label);
         v.push_back(format_fixed(c.mass_fraction, 6));
@@ -48,6 +57,15 @@ nlohmann::ordered_json blend_json(const BlendResult& r, const BlendInput& in) {
     j["efficacy_lm_per_W_absorbed"] = r.luminous_efficacy_absorbed;
     j["mercury_line_fraction"] = r.mercury_line_fraction;
     j["pump_leak_W_per_W"] = r.pump_leak_W_per_W;
+    j["lamp_type"] = r.lamp_type.empty() ? nlohmann::ordered_json(nullptr) : nlohmann::ordered_json(r.lamp_type);
+    if (in.excitation.kind == Excitation::Kind::mercury) {
+        j["mercury_line_ratios"] = r.mercury_line_ratios;
+        j["mercury_source"] = r.mercury_source;
+    } else {
+        j["mercury_line_ratios"] = nullptr;
+        j["mercury_source"] = nullptr;
+    }
+    j["absorbed_share_model"] = share_model_name(r);
     auto& comps = j["components"] = nlohmann::ordered_json::array();
     for (const auto& c : r.components)
         comps.push_back({{"id", c.label},
@@ -57,7 +75,11 @@ nlohmann::ordered_json blend_json(const BlendResult& r, const BlendInput& in) {
                          {"photon_share", c.photon_share},
                          {"radiant_share", c.radiant_share},
                          {"luminous_share", c.luminous_share},
-                         {"stokes_efficiency", c.stokes_efficiency}});
+                         {"stokes_efficiency", c.stokes_efficiency},
+                         {"density_g_per_cm3", r.grain_model ? nlohmann::ordered_json(c.density_g_per_cm3) : nlohmann::ordered_json(nullptr)},
+                         {"d50_um", r.grain_model ? nlohmann::ordered_json(c.d50_um) : nlohmann::ordered_json(nullptr)},
+                         {"reflectance_254nm", r.grain_model ? nlohmann::ordered_json(c.reflectance) : nlohmann::ordered_json(nullptr)},
+                         {"share_weight", c.share_weight}});
     return j;
 }
 
@@ -71,8 +93,20 @@ std::string blend_text(const BlendResult& r, const BlendInput& in) {
                          c.stokes_efficiency);
     o += fmt::format("  quantum yield {:.3f}   Stokes efficiency {:.3f}   radiant efficiency {:.3f} W/W   efficacy {:.1f} lm per W absorbed\n",
                      r.quantum_yield, r.stokes_efficiency, r.radiant_efficiency, r.luminous_efficacy_absorbed);
-    if (in.excitation.kind == Excitation::Kind::mercury)
-        o += fmt::format("  visible mercury lines: {:.1f} % of the visible output\n", 100 * r.mercury_line_fraction);
+    if (in.excitation.kind == Excitation::Kind::mercury) {
+        const auto& q = r.mercury_line_ratios;
+        o += fmt::format("  visible mercury lines: {:.1f} % of the visible output; 404.7 : 435.8 : 546.1 : 577+579 nm = {:.2f} : {:.2f} : {:.2f} : {:.2f}\n",
+                         100 * r.mercury_line_fraction, q[0], q[1], q[2], q[3]);
+        o += fmt::format("    ({} lamp; {})\n", r.lamp_type, r.mercury_source);
+        if (r.grain_model) {
+            o += "  absorbed 254 nm shares: by grain area (opaque grains; mass / (density x d50) x (1 - reflectance)):\n";
+            for (const auto& c : r.components)
+                o += fmt::format("    {:<34} density {:.2f} g/cm3   d50 {:.1f} um   reflectance {:.2f}\n", c.label, c.density_g_per_cm3, c.d50_um,
+                                 c.reflectance);
+        } else {
+            o += "  absorbed 254 nm shares: by mass x absorption (grain data missing, see the note below)\n";
+        }
+    }
     if (r.pump_leak_W_per_W > 0) o += fmt::format("  leaked pump: {:.3f} W per W absorbed\n", r.pump_leak_W_per_W);
     std::string a = assessment_text(r.assessment);
     o += a.substr(a.find('\n') + 1);
