@@ -10,6 +10,7 @@
 #include "test_support.hpp"
 
 #include <doctest/doctest.h>
+#include <fmt/format.h>
 
 #include <Eigen/Dense>
 
@@ -368,4 +369,18 @@ TEST_CASE("fit: the default objective on four components stays on the target cen
     const FitResult r = solve(p);
     check_answer(p, r);
     CHECK(r.distance_uv_prime < 1e-5);
+}
+
+TEST_CASE("fit and blend text state the mercury-line values and the share model they used") {
+    // Issue 11: a formulator must see the model's assumptions beside the result. The tri-band
+    // defaults come from data/mercury (derived from CIE 15:2004 Table T.6 FL10-FL12).
+    const std::string expected = fmt::format("visible mercury lines: {:.1f} % of the visible output", 100 * mercury_line_set("tri-band").visible_fraction);
+    for (const std::string& cmd : {"fit " + quote(example_recipe("triband_4000K.toml")) + " --cct 4000", "blend " + quote(example_recipe("triband_4000K.toml"))}) {
+        CAPTURE(cmd);
+        const auto r = run_cli(cmd);
+        REQUIRE(r.exit_code == 0);
+        CHECK(r.out.find(expected) != std::string::npos);
+        CHECK(r.out.find("(tri-band lamp; tri-band lamps: visible fraction derived from CIE 15:2004 Table T.6 (FL10-FL12)") != std::string::npos);
+        CHECK(r.out.find("absorbed 254 nm shares: by grain area") != std::string::npos);
+    }
 }

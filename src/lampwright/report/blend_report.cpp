@@ -83,16 +83,8 @@ nlohmann::ordered_json blend_json(const BlendResult& r, const BlendInput& in) {
     return j;
 }
 
-std::string blend_text(const BlendResult& r, const BlendInput& in) {
-    std::string o = fmt::format("{}   ({})\n", r.name, in.excitation.describe());
-    o += fmt::format("  {:<34} {:>7} {:>7} {:>5} {:>8} {:>8} {:>8} {:>7}\n", "component", "mass %", "absorb", "QE", "photons%",
-                     "power%", "lumen%", "Stokes");
-    for (const auto& c : r.components)
-        o += fmt::format("  {:<34} {:>7.2f} {:>7.3f} {:>5.2f} {:>8.2f} {:>8.2f} {:>8.2f} {:>7.3f}\n", c.label, 100 * c.mass_fraction,
-                         c.absorption, c.quantum_efficiency, 100 * c.photon_share, 100 * c.radiant_share, 100 * c.luminous_share,
-                         c.stokes_efficiency);
-    o += fmt::format("  quantum yield {:.3f}   Stokes efficiency {:.3f}   radiant efficiency {:.3f} W/W   efficacy {:.1f} lm per W absorbed\n",
-                     r.quantum_yield, r.stokes_efficiency, r.radiant_efficiency, r.luminous_efficacy_absorbed);
+std::string blend_assumptions_text(const BlendResult& r, const BlendInput& in) {
+    std::string o;
     if (in.excitation.kind == Excitation::Kind::mercury) {
         const auto& q = r.mercury_line_ratios;
         o += fmt::format("  visible mercury lines: {:.1f} % of the visible output; 404.7 : 435.8 : 546.1 : 577+579 nm = {:.2f} : {:.2f} : {:.2f} : {:.2f}\n",
@@ -107,6 +99,20 @@ std::string blend_text(const BlendResult& r, const BlendInput& in) {
             o += "  absorbed 254 nm shares: by mass x absorption (grain data missing, see the note below)\n";
         }
     }
+    return o;
+}
+
+std::string blend_text(const BlendResult& r, const BlendInput& in) {
+    std::string o = fmt::format("{}   ({})\n", r.name, in.excitation.describe());
+    o += fmt::format("  {:<34} {:>7} {:>7} {:>5} {:>8} {:>8} {:>8} {:>7}\n", "component", "mass %", "absorb", "QE", "photons%",
+                     "power%", "lumen%", "Stokes");
+    for (const auto& c : r.components)
+        o += fmt::format("  {:<34} {:>7.2f} {:>7.3f} {:>5.2f} {:>8.2f} {:>8.2f} {:>8.2f} {:>7.3f}\n", c.label, 100 * c.mass_fraction,
+                         c.absorption, c.quantum_efficiency, 100 * c.photon_share, 100 * c.radiant_share, 100 * c.luminous_share,
+                         c.stokes_efficiency);
+    o += fmt::format("  quantum yield {:.3f}   Stokes efficiency {:.3f}   radiant efficiency {:.3f} W/W   efficacy {:.1f} lm per W absorbed\n",
+                     r.quantum_yield, r.stokes_efficiency, r.radiant_efficiency, r.luminous_efficacy_absorbed);
+    o += blend_assumptions_text(r, in);
     if (r.pump_leak_W_per_W > 0) o += fmt::format("  leaked pump: {:.3f} W per W absorbed\n", r.pump_leak_W_per_W);
     std::string a = assessment_text(r.assessment);
     o += a.substr(a.find('\n') + 1);

@@ -14,6 +14,10 @@ namespace lampwright {
 std::vector<std::string> blend_columns(const BlendResult& r);
 std::vector<std::string> blend_values(const BlendResult& r);
 nlohmann::ordered_json blend_json(const BlendResult& r, const BlendInput& in);
+// The model's assumptions for a discharge lamp: the mercury lines applied (fraction, ratios,
+// lamp type, source) and how the 254 nm shares were taken (grain area or mass x absorption).
+// Empty for an LED pump. Used by blend and fit.
+std::string blend_assumptions_text(const BlendResult& r, const BlendInput& in);
 std::string blend_text(const BlendResult& r, const BlendInput& in);
 
 std::vector<std::string> phosphor_columns();

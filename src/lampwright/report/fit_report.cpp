@@ -63,6 +63,7 @@ std::string fit_text(const FitProblem& p, const FitResult& r, double ms) {
     if (a.rendering) ra = a.rendering->ra, r9 = a.rendering->ri[8];
     o << fmt::format("  Ra, R9      {}, {}\n", fmt_opt(ra, 1), fmt_opt(r9, 1));
     o << fmt::format("  LER         {:.1f} lm/W;  efficacy {:.1f} lm per W absorbed\n", a.ler_lm_per_W, r.result.luminous_efficacy_absorbed);
+    if (!r.result.components.empty()) o << blend_assumptions_text(r.result, r.blend);
     if (r.nearest_reachable)
         o << fmt::format("  nearest reachable chromaticity: x = {:.4f}, y = {:.4f}\n", r.nearest_reachable->x, r.nearest_reachable->y);
     o << "\n  constraints (re-checked with the blend model):\n";
