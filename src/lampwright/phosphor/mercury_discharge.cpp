@@ -7,8 +7,6 @@
 
 #include <fmt/format.h>
 
-#include <cmath>
-
 namespace lampwright {
 
 namespace {
@@ -22,7 +20,6 @@ std::vector<MercuryLineSet> load_line_sets() {
     // halophosphate lamps, where no phosphor line lies on a mercury line (see the data file).
     const auto* ratios_table = doc.table(r, "halophosphate", "");
     if (!ratios_table) doc.fail(&r, "", "missing table [halophosphate]");
-    std::vector<double> ratio_values;
     const auto* arr = doc.array(*ratios_table, "relative_power", "halophosphate");
     if (!arr || arr->size() != 4) doc.fail(ratios_table, "halophosphate.relative_power", "must list 4 line-group powers");
     std::array<double, 4> ratios{};
