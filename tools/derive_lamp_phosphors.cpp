@@ -431,29 +431,32 @@ std::string emission_block(const Model& m, const std::vector<double>& th, const 
     return out;
 }
 
-// Throws unless the file holds a "# BEGIN derived emission" ... "# END derived emission" block.
-void require_block(const std::string& path) {
+// A phosphor file's text and the place of its "# BEGIN derived emission" ... "# END derived
+// emission" block; throws when the file cannot be read or has no such block.
+struct BlockedFile {
+    std::string text;
+    std::size_t begin = 0, end = 0;  // of the BEGIN and END markers
+};
+
+BlockedFile read_block(const std::string& path) {
     std::ifstream in(path);
     if (!in) throw std::runtime_error(path + ": cannot be read");
     std::stringstream ss;
     ss << in.rdbuf();
-    const std::string text = ss.str();
-    const auto b = text.find("# BEGIN derived emission");
-    const auto e = text.find("# END derived emission");
-    if (b == std::string::npos || e == std::string::npos || e < b)
+    BlockedFile f{ss.str()};
+    f.begin = f.text.find("# BEGIN derived emission");
+    f.end = f.text.find("# END derived emission");
+    if (f.begin == std::string::npos || f.end == std::string::npos || f.end < f.begin)
         throw std::runtime_error(path + ": no '# BEGIN derived emission' ... '# END derived emission' block");
+    return f;
 }
 
+void require_block(const std::string& path) { (void)read_block(path); }
+
 void replace_block(const std::string& path, const std::string& block) {
-    std::ifstream in(path);
-    if (!in) throw std::runtime_error(path + ": cannot be read");
-    std::stringstream ss;
-    ss << in.rdbuf();
-    const std::string text = ss.str();
-    const auto b = text.find("# BEGIN derived emission");
-    const auto e = text.find("# END derived emission");
-    if (b == std::string::npos || e == std::string::npos || e < b)
-        throw std::runtime_error(path + ": no '# BEGIN derived emission' ... '# END derived emission' block");
+    const BlockedFile f = read_block(path);
+    const std::string& text = f.text;
+    const auto b = f.begin, e = f.end;
     const auto e_end = text.find('\n', e);
     const std::string out = text.substr(0, b) + block + text.substr(e_end == std::string::npos ? text.size() : e_end + 1);
     const std::string tmp = path + ".tmp";

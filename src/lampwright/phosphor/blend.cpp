@@ -16,14 +16,14 @@ constexpr double kStokesTolerance = 0.01;  // share of model photons allowed on 
 
 double sum_of(const Spectrum& s) { return integrate_1nm(s.values); }
 
+}  // namespace
+
 double visible_power(const Spectrum& s) {
     double p = 0;
     for (int nm = 380; nm <= 780; ++nm)
         if (s.covers(nm)) p += s.values[static_cast<std::size_t>(nm - s.first_nm)];
     return p;
 }
-
-}  // namespace
 
 Spectrum emission_for_excitation(const Phosphor& p, const Excitation& e, double shift_nm) {
     Spectrum n = emission_photons(p, shift_nm);
@@ -43,27 +43,27 @@ Spectrum emission_for_excitation(const Phosphor& p, const Excitation& e, double 
     return n;
 }
 
-Spectrum mercury_line_group(std::size_t group) {
-    Spectrum s = emission_grid("mercury lines");
-    if (group == 3) {
-        add_line(s, 577.0, 0.5);
-        add_line(s, 579.1, 0.5);
-    } else {
-        add_line(s, kMercuryLineGroupsNm.at(group), 1.0);
-    }
-    return s;
-}
-
 Spectrum mercury_visible_lines(double power, const std::array<double, 4>& relative_power) {
     double total = 0;
     for (double r : relative_power) total += r;
     Spectrum s = emission_grid("mercury lines");
     if (!(total > 0)) return s;
     for (std::size_t g = 0; g < relative_power.size(); ++g) {
-        const Spectrum one = mercury_line_group(g);
-        for (std::size_t k = 0; k < s.values.size(); ++k) s.values[k] += power * relative_power[g] / total * one.values[k];
+        const double p = power * relative_power[g] / total;
+        if (g == 3) {  // the 577.0/579.1 nm pair, one 5 nm value in the CIE tables: split 1:1
+            add_line(s, 577.0, 0.5 * p);
+            add_line(s, 579.1, 0.5 * p);
+        } else {
+            add_line(s, kMercuryLineGroupsNm[g], p);
+        }
     }
     return s;
+}
+
+Spectrum mercury_line_group(std::size_t group) {
+    std::array<double, 4> unit{};
+    unit.at(group) = 1.0;
+    return mercury_visible_lines(1.0, unit);
 }
 
 BlendBasis blend_basis(const BlendInput& in) {

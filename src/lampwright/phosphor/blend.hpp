@@ -125,4 +125,7 @@ Spectrum mercury_visible_lines(double power, const std::array<double, 4>& relati
 // One unit of power in one line group (0-3, kMercuryLineGroupsNm) on the emission grid.
 Spectrum mercury_line_group(std::size_t group);
 
+// Power within 380-780 nm (the CIE 15:2004 visible range) of a 1 nm spectrum.
+double visible_power(const Spectrum& s);
+
 }  // namespace lampwright

@@ -48,13 +48,6 @@ XYZ column_tristimulus(const std::vector<double>& values, const SampledSpectrum&
     return tristimulus(resample_to_1nm(SampledSpectrum{m.name, m.wavelengths_nm, values}));
 }
 
-double visible_power(const Spectrum& s) {
-    double p = 0;
-    for (int nm = 380; nm <= 780; ++nm)
-        if (s.covers(nm)) p += s.values[static_cast<std::size_t>(nm - s.first_nm)];
-    return p;
-}
-
 }  // namespace
 
 UnmixingResult unmix_spectrum(const SampledSpectrum& m, const std::vector<Phosphor>& candidates, const UnmixingOptions& o) {
