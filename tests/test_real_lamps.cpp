@@ -206,6 +206,8 @@ TEST_CASE("grain model: a component without grain data falls back to mass x abso
 }
 
 TEST_CASE("mercury lines: the lamp type is inferred from the coating and its derived defaults are applied and named") {
+    // The naming rule (halophosphate coat, tri-band rare-earth coat, broadband otherwise) is
+    // common practice, no source; the defaults are data/mercury's, derived from CIE 15:2004 T.6.
     BlendInput in;
     in.name = "halo";
     in.excitation = Excitation::mercury();

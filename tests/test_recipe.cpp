@@ -362,6 +362,22 @@ TEST_CASE("recipe: refusals name the file, the line and the key") {
                            "\"\nquantum_efficiency = 0.9\nmass_fraction = 0.5\n",
                        4, "component[1]", "absorption");
     }
+    SUBCASE("mercury-line ratios: four non-negative powers, not all zero") {
+        const std::string tail = "\n[[component]]\nphosphor = \"YOX\"\nmass_fraction = 0.5\n";
+        expect_refused("name = \"x\"\nexcitation_nm = 253.7\nmercury_line_ratios = [0.4, 1]\n" + tail, 3, "mercury_line_ratios", "must list 4 powers");
+        expect_refused("name = \"x\"\nexcitation_nm = 253.7\nmercury_line_ratios = [0, 0, 0, 0]\n" + tail, 3, "mercury_line_ratios", "must not all be zero");
+        expect_refused("name = \"x\"\nexcitation_nm = 253.7\nmercury_line_ratios = [0.4, -1, 0.5, 0.2]\n" + tail, 3, "mercury_line_ratios",
+                       "numbers >= 0");
+    }
+    SUBCASE("an unknown lamp type, and grain data outside the powder range") {
+        // Lamp phosphor powders: densities of a few g/cm3, d50 of a few micrometres (from memory).
+        const std::string head = "name = \"x\"\nexcitation_nm = 253.7\n";
+        expect_refused(head + "lamp_type = \"sodium\"\n\n[[component]]\nphosphor = \"YOX\"\nmass_fraction = 0.5\n", 3, "lamp_type",
+                       "halophosphate, tri-band or broadband");
+        expect_refused(head + "\n[[component]]\nphosphor = \"YOX\"\nmass_fraction = 0.5\nd50_um = 0\n", 7, "component[1].d50_um", "0.05-200 um");
+        expect_refused(head + "\n[[component]]\nphosphor = \"YOX\"\nmass_fraction = 0.5\ndensity_g_per_cm3 = 50\n", 7,
+                       "component[1].density_g_per_cm3", "0.5-12 g/cm3");
+    }
     SUBCASE("TOML syntax error") {
         expect_refused("name = \"x\"\nexcitation_nm = 253.7\n\n[[component]]\nphosphor = \"YOX\"\nmass_fraction = = 0.5\n", 6, "TOML");
     }
