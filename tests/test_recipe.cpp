@@ -312,6 +312,15 @@ TEST_CASE("recipe: refusals name the file, the line and the key") {
                        "quantum_efficiency = 90\n",
                        7, "component[1].quantum_efficiency", "percent");
     }
+    SUBCASE("coating weight out of range, 185 nm share in percent, coating weight for an LED") {
+        expect_refused("name = \"x\"\nexcitation_nm = 253.7\ncoating_weight_mg_per_cm2 = 0.01\n\n[[component]]\nphosphor = \"YOX\"\nmass_fraction = 0.5\n",
+                       3, "coating_weight_mg_per_cm2", "0.1-50 mg/cm2");
+        expect_refused("name = \"x\"\nexcitation_nm = 253.7\nuv_185nm_fraction = 8\n\n[[component]]\nphosphor = \"YOX\"\nmass_fraction = 0.5\n", 3,
+                       "uv_185nm_fraction", "percent?");
+        expect_refused("name = \"x\"\ncoating_weight_mg_per_cm2 = 3\n\n[pump]\npeak_nm = 395\nfwhm_nm = 12\n\n[[component]]\nphosphor = \"BAM\"\n"
+                       "mass_fraction = 0.5\n",
+                       2, "coating_weight_mg_per_cm2", "only applies to a mercury discharge");
+    }
     SUBCASE("excitation in micrometres") {
         expect_refused("name = \"x\"\nexcitation_nm = 0.2537\n\n[[component]]\nphosphor = \"YOX\"\nmass_fraction = 0.5\n", 2,
                        "excitation_nm", "micrometres");
