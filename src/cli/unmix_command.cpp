@@ -46,20 +46,36 @@ const NumberRange kShiftRange{0, 20, "nm"};
 const NumberRange kBandwidthRange{0, 20, "nm", false, true, "0: the measurement's step"};
 const NumberRange kMaxComponentsRange{1, 6, "components", false, true};
 
-std::vector<std::string> split_ids(const std::string& list) {
-    std::vector<std::string> out;
+// The ids of a comma-separated list. Library ids may hold commas themselves
+// ("LaPO4:Ce3+,Tb3+"), so at each place the longest run of comma-joined pieces that names a
+// phosphor is taken; a piece that starts no known name is returned alone (and then refused).
+std::vector<std::string> split_ids(const std::string& list, const PhosphorLibrary& library) {
+    std::vector<std::string> pieces;
     std::string cur;
-    auto flush = [&] {
-        const auto a = cur.find_first_not_of(" \t"), b = cur.find_last_not_of(" \t");
-        if (a == std::string::npos) throw UsageError{"--components: an empty phosphor id in '" + list + "'"};
-        out.push_back(cur.substr(a, b - a + 1));
-        cur.clear();
-    };
     for (char c : list) {
-        if (c == ',') flush();
+        if (c == ',') pieces.push_back(cur), cur.clear();
         else cur += c;
     }
-    flush();
+    pieces.push_back(cur);
+    auto trim = [](const std::string& t) {
+        const auto a = t.find_first_not_of(" \t"), b = t.find_last_not_of(" \t");
+        return a == std::string::npos ? std::string() : t.substr(a, b - a + 1);
+    };
+    std::vector<std::string> out;
+    for (std::size_t i = 0; i < pieces.size();) {
+        std::size_t take = 1;
+        std::string joined = pieces[i];
+        for (std::size_t j = i + 1; j < pieces.size(); ++j) {
+            joined += "," + pieces[j];
+            if (library.try_find(trim(joined))) take = j - i + 1;
+        }
+        std::string id = pieces[i];
+        for (std::size_t j = i + 1; j < i + take; ++j) id += "," + pieces[j];
+        id = trim(id);
+        if (id.empty()) throw UsageError{"--components: an empty phosphor id in '" + list + "'"};
+        out.push_back(id);
+        i += take;
+    }
     return out;
 }
 
@@ -67,12 +83,12 @@ std::vector<std::string> split_ids(const std::string& list) {
 
 int run_unmix(int argc, char** argv) {
     po::options_description opts(std::string(kUnmixHelp) + kSafetyNotice + "\nOptions");
-    std::string format = "text", svg, spectrum_out, components_list, recipe_path;
-    std::vector<std::string> folders, files;
+    std::string format = "text", svg, spectrum_out, recipe_path;
+    std::vector<std::string> folders, files, component_lists;
     double excitation_nm = 0, pump_fwhm = 0, shift_nm = 0;
     int bandwidth = 0, max_components = 4;
     opts.add_options()("help,h", "show this help")("format,f", po::value(&format), "text | csv | json (default text)")
-        ("components", po::value(&components_list), "the phosphors to unmix into, by library id or abbreviation, comma-separated")
+        ("components", po::value(&component_lists), "the phosphors to unmix into, by library id or abbreviation, comma-separated (ids that hold commas are recognised whole); repeatable")
         ("recipe", po::value(&recipe_path), "take the components (with their absorption, QE and grain data) and the excitation from this recipe")
         ("svg", po::value(&svg), "write measured vs reconstructed with the component stack, one panel per spectrum, to this SVG file")
         ("spectrum-out", po::value(&spectrum_out), "write the reconstructed spectra (wavelength_nm, one column per spectrum) as CSV")
@@ -129,7 +145,10 @@ int run_unmix(int argc, char** argv) {
         const PhosphorLibrary library = PhosphorLibrary::with_folders(folders);
         if (vm.count("components")) {
             std::set<std::string> seen;
-            for (const auto& id : split_ids(components_list)) {
+            std::vector<std::string> ids;
+            for (const auto& list : component_lists)
+                for (auto& id : split_ids(list, library)) ids.push_back(std::move(id));
+            for (const auto& id : ids) {
                 const Phosphor* p = library.try_find(id);
                 if (!p) {
                     try {
@@ -173,7 +192,9 @@ int run_unmix(int argc, char** argv) {
                 for (const auto& w : parsed.warnings) u.notes.push_back(w);  // the file's warnings hold for each spectrum
                 results.push_back(std::move(u));
             } catch (const Error& e) {
-                print_error(InputError(file, 0, fmt::format("spectrum '{}': {}", sampled.name, e.what())).what());
+                const std::string what = e.what();
+                const std::string named = "spectrum '" + sampled.name + "'";
+                print_error(InputError(file, 0, what.rfind(named, 0) == 0 ? what : named + ": " + what).what());
                 status |= kExitBadInput;
             }
         }

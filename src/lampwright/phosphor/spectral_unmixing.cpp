@@ -37,7 +37,9 @@ Grid measurement_grid(const SampledSpectrum& m) {
     }
     g.step = g.nm[1] - g.nm[0];
     for (std::size_t i = 1; i < g.nm.size(); ++i)
-        if (g.nm[i] - g.nm[i - 1] != g.step) throw Error(fmt::format("spectrum '{}': unmixing needs a uniform wavelength step", m.name));
+        if (g.nm[i] - g.nm[i - 1] != g.step)
+            throw Error(fmt::format("spectrum '{}': unmixing needs a uniform wavelength step ({} nm from {} nm, then {} to {} nm)", m.name, g.step,
+                                    g.nm[0], g.nm[i - 1], g.nm[i]));
     return g;
 }
 
