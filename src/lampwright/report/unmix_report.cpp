@@ -178,18 +178,18 @@ std::string unmix_text(const BlendUnmixing& u) {
 }
 
 std::string unmix_method_text(const UnmixSettings& s) {
-    std::string o = "Method: non-negative least squares (Lawson and Hanson 1974) of the components' emission plus the discharge light\n"
-                    "(the four visible mercury line groups, or the LED pump band), each seen through the measurement's triangular\n"
-                    "bandpass, over the 380-780 nm points. Mass fraction: the blend model's inverse (absorbed share ~ emitted photons / QE,\n"
-                    "mass ~ share / g). sd: ";
-    o += kUnmixUncertaintyMethod;
-    o += ".\n";
+    std::string text = "Method: non-negative least squares (Lawson and Hanson 1974) of the components' emission plus the discharge light "
+                       "(the four visible mercury line groups, or the LED pump band), each seen through the measurement's triangular "
+                       "bandpass, over the 380-780 nm points. Mass fraction: the blend model's inverse (absorbed share ~ emitted "
+                       "photons / QE, mass ~ share / g). sd: ";
+    text += kUnmixUncertaintyMethod;
+    text += ".";
     if (s.components_from == "chosen")
-        o += fmt::format("Components chosen by the smallest BIC = n ln(RSS/n) + p ln(n) (Schwarz 1978) over every subset of 1 to {}.\n",
-                         s.max_components);
+        text += fmt::format(" Components chosen by the smallest BIC = n ln(RSS/n) + p ln(n) (Schwarz 1978) over every subset of 1 to {}.",
+                            s.max_components);
     if (s.max_shift_nm > 0)
-        o += fmt::format("Band emitters could shift by up to {:g} nm (BOBYQA, NNLS inside); line emitters do not shift.\n", s.max_shift_nm);
-    return o;
+        text += fmt::format(" Band emitters could shift by up to {:g} nm (BOBYQA, NNLS inside); line emitters do not shift.", s.max_shift_nm);
+    return wrap_text(text, 100);
 }
 
 std::string unmix_spectra_csv(const std::vector<BlendUnmixing>& results) {
