@@ -146,6 +146,29 @@ TEST_CASE("unmix cli: CIE 15:2004 FL1-FL12 are decomposed into the library's lam
     }
 }
 
+TEST_CASE("unmix cli: an LED blend (led395_module.toml) is unmixed with --excitation 395 --pump-fwhm 12 and with --recipe, fractions within 1e-3") {
+    // Source: examples/recipes/led395_module.toml (395 nm pump, 12 nm FWHM, 98 % absorbed) through 'blend'.
+    const TempDir dir;
+    const Forward f = forward(dir, "led395_module.toml");
+    const std::string ids = "BAM,beta-SiAlON:Eu2+,(Sr,Ca)AlSiN3:Eu2+,CaAlSiN3:Eu2+";
+    for (const auto& args : {std::vector<std::string>{"unmix", f.spectrum, "--excitation", "395", "--pump-fwhm", "12", "--components", ids, "--format", "csv"},
+                             std::vector<std::string>{"unmix", f.spectrum, "--recipe", lwtest::example_recipe("led395_module.toml"), "--format", "csv"}}) {
+        CAPTURE(args[2]);
+        const auto r = run_cli_args(args);
+        REQUIRE(r.exit_code == 0);
+        const auto l = lines_of(r.out);
+        REQUIRE(l.size() == 2);
+        const auto h = csv_cells(l[0]), row = csv_cells(l[1]);
+        CHECK(std::stod(cell(h, row, "residual")) < 1e-5);
+        CHECK(std::stod(cell(h, row, "discharge_line_fraction")) > 0);  // the leaked pump
+        for (int i = 1; i <= 4; ++i) {
+            const std::string c = "c" + std::to_string(i) + "_";
+            CHECK(cell(h, row, c + "id") == cell(f.header, f.row, c + "id"));
+            CHECK(std::abs(std::stod(cell(h, row, c + "mass_fraction")) - std::stod(cell(f.header, f.row, c + "mass_fraction"))) <= 1e-3);
+        }
+    }
+}
+
 TEST_CASE("unmix cli: JSON has a schema version and the CSV's content; --spectrum-out and --svg are written") {
     const TempDir dir;
     const Forward f = forward(dir, "triband_4000K.toml");
