@@ -106,9 +106,12 @@ CalibrationProblem::CalibrationProblem(const std::vector<CalibrationTrial>& tria
     // other factors are tied to it through as many trials as possible.
     for (const auto& id : fitted)
         if (reference_.empty() || trial_count[id] > trial_count[reference_]) reference_ = id;
-    if (!reference_.empty())
+    if (!reference_.empty()) {
+        bool tie = false;
+        for (const auto& id : fitted) tie = tie || (id != reference_ && trial_count[id] == trial_count[reference_]);
         reference_reason_ = fmt::format("in {} of {} trials, the most used{}; its factor is 1 by definition, since the absorbed shares are relative",
-                                        trial_count[reference_], trials.size(), fitted.size() > 1 ? " (the first listed among equals)" : "");
+                                        trial_count[reference_], trials.size(), tie ? " (the first listed among equals)" : "");
+    }
     std::map<std::string, int> factor_of;
     for (const auto& id : fitted) {
         if (id == reference_) continue;
@@ -356,7 +359,7 @@ CalibrationResult calibrate_model(const std::vector<CalibrationTrial>& trials, c
         if (np >= 2)
             res.warnings.push_back(fmt::format("the trials cannot separate the {} and the {} (the information matrix is near singular: "
                                                "relative eigenvalue {:.1e}); their uncertainties are not stated. Add trials that vary them differently",
-                                               qs[order[0]].describe(), qs[order[1]].describe(), l / lmax));
+                                               qs[order[0]].describe(), qs[order[1]].describe(), std::max(0.0, l / lmax)));
     }
     const std::size_t dof = res.n > np ? res.n - np : 0;
     res.s2 = dof > 0 ? res.rss / static_cast<double>(dof) : std::numeric_limits<double>::quiet_NaN();
