@@ -203,3 +203,21 @@ TEST_CASE("calibrate: the same recipe in every trial still separates the factors
     for (const auto& w : r.warnings) MESSAGE(w);
     CHECK(parameter(r, kLap).value == doctest::Approx(true_factor(kLap, kYox)).epsilon(1e-5));
 }
+
+TEST_CASE("calibrate: applying a calibration notes a phosphor it does not list and leaves that absorption uncalibrated") {
+    ModelCalibration cal;
+    cal.path = "line2.toml";
+    cal.reference = kYox;
+    cal.phosphors = {{kYox, 1.0, 0.0}, {kLap, 0.7, 0.01}};
+    cal.lamp_types = {{"tri-band", 0.05, 0.001}};
+    BlendInput b = tri("x", 0.4, 0.4, 0.2);
+    const auto notes = apply_calibration(cal, b, {false, false, false});
+    REQUIRE(notes.size() == 1);
+    CHECK(notes[0].find(kBam) != std::string::npos);
+    CHECK(notes[0].find("uncalibrated") != std::string::npos);
+    CHECK(*b.components[1].absorption == doctest::Approx(0.7));
+    CHECK(!b.components[2].absorption);
+    CHECK(*b.mercury_line_fraction == doctest::Approx(0.05));
+    CHECK(b.calibration == "line2.toml");
+    CHECK(evaluate_blend(b).calibration == "line2.toml");
+}

@@ -126,3 +126,23 @@ TEST_CASE("calibrate CLI: --out over an input (a trial spectrum, the manifest) i
     CHECK(run_cli_args({"calibrate", manifest, "--out", manifest}).exit_code == 2);
     CHECK(run_cli_args({"calibrate", "--trial", recipe + "=" + spectrum, "--out", recipe}).exit_code == 2);
 }
+
+TEST_CASE("calibrate CLI: qc --recipe with a calibrated recipe says it used the calibrated model, in text and JSON") {
+    const std::string spec = std::string(LAMPWRIGHT_SOURCE_DIR) + "/examples/qc/spec_F4100.toml";
+    const std::string lot = std::string(LAMPWRIGHT_SOURCE_DIR) + "/examples/qc/lot_A";
+    const std::string recipe = example("triband_4000K_line2.toml");
+    const auto run = run_cli_args({"qc", spec, lot, "--recipe", recipe});
+    CHECK(run.out.find("calibrated model: " + example("line2.toml")) != std::string::npos);
+    const auto json = run_cli_args({"qc", spec, lot, "--recipe", recipe, "--format", "json"});
+    const auto j = nlohmann::json::parse(json.out);
+    CHECK(j["correction"]["calibration"] == example("line2.toml"));
+}
+
+TEST_CASE("calibrate CLI: a recipe with an LED pump naming a calibration is refused at its calibration key") {
+    const TempDir dir;
+    const std::string r = dir.write("led.toml", "name = \"led\"\ncalibration = \"x.toml\"\n[pump]\npeak_nm = 395\nfwhm_nm = 12\n"
+                                                "[[component]]\nphosphor = \"BAM\"\nmass_fraction = 1\n");
+    const auto run = run_cli_args({"blend", r});
+    CHECK(run.exit_code == 1);
+    CHECK(run.err.find(r + ":2: 'calibration': a calibration is fitted on mercury discharge lamps") != std::string::npos);
+}

@@ -100,7 +100,9 @@ std::string blend_assumptions_text(const BlendResult& r, const BlendInput& in) {
             o += "  absorbed 254 nm shares: by mass x absorption (grain data missing, see the note below)\n";
         }
     }
-    if (!r.calibration.empty()) o += fmt::format("  calibrated model: {}\n", r.calibration);
+    if (!r.calibration.empty())
+        o += fmt::format("  calibrated model: {} (each listed phosphor's absorption x its factor; its line fraction unless the recipe sets mercury_lines)\n",
+                         r.calibration);
     return o;
 }
 
