@@ -51,6 +51,7 @@ struct BlendInput {
     std::optional<std::array<double, 4>> mercury_line_ratios;
     std::optional<std::string> lamp_type;  // "halophosphate", "tri-band", "broadband"; default inferred
     double absorbed_fraction = 1.0;  // share of the excitation the coating absorbs (0, 1]
+    std::string calibration;  // the calibration file applied ("" none)
 };
 
 
@@ -85,6 +86,7 @@ struct BlendResult {
     bool grain_model = false;               // shares by projected area (true) or by mass x absorption
     double pump_leak_W_per_W = 0;           // LED: leaked pump power per W absorbed
     Assessment assessment;                  // of `spectrum`
+    std::string calibration;                // the calibration file applied ("" none)
 };
 
 // The blend's light is linear in the photon shares s (README "Blend physics"): spectrum =

@@ -80,6 +80,7 @@ nlohmann::ordered_json blend_json(const BlendResult& r, const BlendInput& in) {
                          {"d50_um", r.grain_model ? nlohmann::ordered_json(c.d50_um) : nlohmann::ordered_json(nullptr)},
                          {"reflectance_254nm", r.grain_model ? nlohmann::ordered_json(c.reflectance) : nlohmann::ordered_json(nullptr)},
                          {"share_weight", c.share_weight}});
+    j["calibration"] = r.calibration.empty() ? nlohmann::ordered_json(nullptr) : nlohmann::ordered_json(r.calibration);
     return j;
 }
 
@@ -99,6 +100,9 @@ std::string blend_assumptions_text(const BlendResult& r, const BlendInput& in) {
             o += "  absorbed 254 nm shares: by mass x absorption (grain data missing, see the note below)\n";
         }
     }
+    if (!r.calibration.empty())
+        o += fmt::format("  calibrated model: {} (each listed phosphor's absorption x its factor; its line fraction unless the recipe sets mercury_lines)\n",
+                         r.calibration);
     return o;
 }
 
