@@ -40,6 +40,7 @@ efficiency, radiant efficiency and efficacy per W of absorbed excitation. See RE
     check_outputs_apart({{spectrum_out, "--spectrum-out"}, {coating_sweep, "--coating-sweep"}}, inputs);
 
     const Recipe recipe = load_recipe(recipes.front(), folders);
+    for (const auto& n : recipe.notes) print_note(n);
     const BlendResult result = naming_input(recipe.path, [&] { return evaluate_blend(recipe.blend); });
     for (const auto& w : result.assessment.warnings) print_warning(fmt::format("{}: {}", result.name, w));
     if (!spectrum_out.empty()) {

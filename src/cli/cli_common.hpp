@@ -140,5 +140,7 @@ int run_layer(int argc, char** argv);
 int run_qc_command(int argc, char** argv);
 int run_history(int argc, char** argv);
 int run_compare(int argc, char** argv);
+int run_unmix(int argc, char** argv);
+int run_calibrate(int argc, char** argv);
 
 }  // namespace lampwright::cli

@@ -240,6 +240,7 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     }
     if (vm.count("fit-thickness")) throw UsageError{"fit: --fit-thickness applies to LED layer designs"};
     const Recipe recipe = load_recipe(recipes.front(), folders);
+    for (const auto& n : recipe.notes) print_note(n);
     p.blend = recipe.blend;
     const std::size_t n_components = p.blend.components.size();
     for (const auto* v : {&sw, &sp, &sq})

@@ -25,6 +25,8 @@ Commands:
   phosphors  list the phosphor library
   blend      predict the spectrum and figures of a phosphor blend recipe
   fit        solve a recipe's mass fractions for a target white
+  unmix      decompose measured spectra into phosphors and discharge lines, back to mass fractions
+  calibrate  fit the blend model's absorption factors and line fractions on trial lamps
   layer      model a phosphor conversion layer on a UV/violet LED
   compare    layer designs, recipes and spectra side by side
   qc         judge a lot of measured lamps against a specification
@@ -43,10 +45,12 @@ int run_command(const std::string& command, int argc, char** argv) {
         if (command == "phosphors") return run_phosphors(argc, argv);
         if (command == "blend") return run_blend(argc, argv);
         if (command == "fit") return run_fit(argc, argv);
+        if (command == "unmix") return run_unmix(argc, argv);
         if (command == "layer") return run_layer(argc, argv);
         if (command == "compare") return run_compare(argc, argv);
         if (command == "qc") return run_qc_command(argc, argv);
         if (command == "history") return run_history(argc, argv);
+        if (command == "calibrate") return run_calibrate(argc, argv);
         print_error("unknown command '" + command + "'");
         std::cerr << kUsage;
         return kExitUsage;

@@ -79,6 +79,8 @@ other lamp was judged), 4 some lamps failed, 8 the report or the database could 
     if (!lot_id.empty()) run_provenance().lot_id = lot_id;
     const QcSpec spec = load_qc_spec(args.front());
     const std::optional<Recipe> made_with = recipe.empty() ? std::nullopt : std::optional<Recipe>(load_recipe(recipe));
+    if (made_with)
+        for (const auto& n : made_with->notes) print_note(n);
     const std::vector<std::string> inputs(args.begin() + 1, args.end());
     const ProgressCallback progress = terminal_progress("qc", "files", 200);
     QcRun run = run_qc(spec, inputs, static_cast<unsigned>(threads), progress, read);

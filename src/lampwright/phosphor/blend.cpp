@@ -318,6 +318,7 @@ BlendResult evaluate_blend(const BlendInput& in, const AssessOptions& options) {
     r.spectrum.name = in.name;
     r.assessment = assess(r.spectrum, options);
     r.assessment.warnings.insert(r.assessment.warnings.end(), b.notes.begin(), b.notes.end());
+    r.calibration = in.calibration;
     return r;
 }
 

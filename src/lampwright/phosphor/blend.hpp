@@ -63,6 +63,7 @@ struct BlendInput {
     // share of the UV photons at 184.9 nm (default: data/mercury/uv_lines.toml).
     std::optional<double> coating_weight_mg_per_cm2;
     std::optional<double> uv_185nm_fraction;
+    std::string calibration;  // the calibration file applied ("" none)
 };
 
 // What the coating model gave a mercury-discharge blend (README "Blend physics", "Coating weight").
@@ -112,6 +113,7 @@ struct BlendResult {
     double pump_leak_W_per_W = 0;           // LED: leaked pump power per W absorbed
     CoatingResult coating;                  // mercury discharge: the coating model's figures
     Assessment assessment;                  // of `spectrum`
+    std::string calibration;                // the calibration file applied ("" none)
 };
 
 // The blend's light is linear in the photon shares s (README "Blend physics"): spectrum =

@@ -1,6 +1,7 @@
 #include "lampwright/phosphor/recipe.hpp"
 
 #include "lampwright/phosphor/component_table.hpp"
+#include "lampwright/phosphor/calibration_file.hpp"
 
 #include "lampwright/core/interpolation.hpp"
 #include "lampwright/io/spectrum_io.hpp"
@@ -177,8 +178,30 @@ Recipe recipe_from_toml(const TomlDoc& doc, const std::vector<std::string>& extr
     return rec;
 }
 
+// A recipe file; its `calibration` (a root key only files have: the path is relative to the file)
+// applied to the blend when `calibrate` is true.
+static Recipe read_recipe_file(const std::string& path, const std::vector<std::string>& extra_folders, bool calibrate) {
+    const TomlDoc doc = TomlDoc::from_file(path);
+    Recipe rec = recipe_from_toml(doc, extra_folders, {"calibration"});
+    const auto name = doc.string(doc.root(), "calibration", "");
+    if (!name) return rec;
+    const toml::node* node = doc.root().get("calibration");
+    const std::string file = path_relative_to(doc.source(), *name);
+    if (!calibrate) {
+        rec.notes.push_back(fmt::format("{}: calibration {} not applied (the uncalibrated model)", path, file));
+        return rec;
+    }
+    if (rec.blend.excitation.kind != Excitation::Kind::mercury)
+        doc.fail(node, "calibration", "a calibration is fitted on mercury discharge lamps; this recipe has an LED pump");
+    if (!std::filesystem::is_regular_file(file)) doc.fail(node, "calibration", fmt::format("cannot read the calibration file '{}'", file));
+    std::vector<bool> absorption_set;
+    for (const auto& c : rec.blend.components) absorption_set.push_back(c.absorption.has_value());
+    rec.notes = apply_calibration(load_calibration(file), rec.blend, absorption_set);
+    return rec;
+}
+
 Recipe load_recipe(const std::string& path, const std::vector<std::string>& extra_folders) {
-    return recipe_from_toml(TomlDoc::from_file(path), extra_folders);
+    return read_recipe_file(path, extra_folders, true);
 }
 
 std::string recipe_to_toml(const BlendInput& b, const std::vector<std::string>& header_comments) {
@@ -217,6 +240,10 @@ std::string recipe_to_toml(const BlendInput& b, const std::vector<std::string>& 
         if (c.d50_um) o += fmt::format("d50_um = {}\n", *c.d50_um);
     }
     return o;
+}
+
+Recipe load_recipe_without_calibration(const std::string& path, const std::vector<std::string>& extra_folders) {
+    return read_recipe_file(path, extra_folders, false);
 }
 
 }  // namespace lampwright

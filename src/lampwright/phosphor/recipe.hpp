@@ -8,6 +8,7 @@
 //   coating_weight_mg_per_cm2 = 3.0  # optional (mercury): default by lamp type, data/coating
 //   uv_185nm_fraction = 0.08         # optional (mercury): share of the UV photons at 184.9 nm
 //   phosphor_folders = ["mine"]      # optional: more phosphor files, relative to the recipe
+//   calibration = "line2.toml"       # optional: a model calibration (lampwright calibrate), relative to the recipe
 //   [[component]]
 //   phosphor = "Y2O3:Eu3+"           # library id or unambiguous abbreviation, or:
 //   # spectrum = "green.csv"  absorption = 0.8  quantum_efficiency = 0.9  (measured emission)
@@ -24,6 +25,7 @@ struct Recipe {
     std::string path;
     BlendInput blend;
     std::vector<std::string> phosphor_folders;  // resolved paths
+    std::vector<std::string> notes;  // what of the recipe's calibration was not applied, and why
 };
 
 // Parses a recipe; errors name the file, the line and the key. `extra_folders` are more phosphor
@@ -32,6 +34,10 @@ Recipe load_recipe(const std::string& path, const std::vector<std::string>& extr
 // The same from a parsed document (for files that embed a recipe, such as specs and designs).
 Recipe recipe_from_toml(const TomlDoc& doc, const std::vector<std::string>& extra_folders,
                         const std::vector<std::string>& extra_root_keys = {});
+
+// load_recipe without applying the recipe's `calibration` (accepted, noted in `notes`): the
+// uncalibrated model, as `lampwright calibrate` fits it.
+Recipe load_recipe_without_calibration(const std::string& path, const std::vector<std::string>& extra_folders = {});
 
 // Writes a recipe back as TOML (components by library id), loadable by load_recipe.
 std::string recipe_to_toml(const BlendInput& blend, const std::vector<std::string>& header_comments = {});

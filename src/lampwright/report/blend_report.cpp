@@ -108,6 +108,7 @@ nlohmann::ordered_json blend_json(const BlendResult& r, const BlendInput& in) {
                          {"d50_um", r.grain_model ? nlohmann::ordered_json(c.d50_um) : nlohmann::ordered_json(nullptr)},
                          {"reflectance_254nm", r.grain_model ? nlohmann::ordered_json(c.reflectance) : nlohmann::ordered_json(nullptr)},
                          {"share_weight", c.share_weight}});
+    j["calibration"] = r.calibration.empty() ? nlohmann::ordered_json(nullptr) : nlohmann::ordered_json(r.calibration);
     return j;
 }
 
@@ -157,6 +158,9 @@ std::string coating_sweep_csv(const std::vector<BlendResult>& sweep) {
                        format_fixed(a.cct.duv, 5), a.rendering ? format_fixed(a.rendering->ra, 1) : std::string()}) +
              "\n";
     }
+    if (!r.calibration.empty())
+        o += fmt::format("  calibrated model: {} (each listed phosphor's absorption x its factor; its line fraction unless the recipe sets mercury_lines)\n",
+                         r.calibration);
     return o;
 }
 

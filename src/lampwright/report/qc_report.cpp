@@ -666,6 +666,7 @@ std::string lot_correction_text(const LotCorrection& c, const BlendInput& recipe
                          format_signed(c.new_fractions[i] - c.old_fractions[i], 4));
     t += fmt::format("  expected centroid x {:.4f} y {:.4f}: {:.2f} steps from the target{}\n", c.expected_centroid.x, c.expected_centroid.y,
                      c.expected_steps, c.message.empty() ? "" : " (" + c.message + ")");
+    if (!recipe.calibration.empty()) t += fmt::format("  calibrated model: {}\n", recipe.calibration);
     return t + "\n" + recipe_to_toml(c.corrected, {correction_note()});
 }
 
@@ -690,6 +691,7 @@ nlohmann::ordered_json lot_correction_json(const LotCorrection& c, const BlendIn
                                    {"new_mass_fraction", c.new_fractions[i]},
                                    {"change", c.new_fractions[i] - c.old_fractions[i]}});
     j["corrected_recipe_toml"] = lot_correction_toml(c);
+    j["calibration"] = recipe.calibration.empty() ? nlohmann::ordered_json(nullptr) : nlohmann::ordered_json(recipe.calibration);
     return j;
 }
 

@@ -1,0 +1,19 @@
+#pragma once
+// Presenting a model calibration (design/calibration.hpp): text, JSON, and the calibration file
+// (TOML, read back by phosphor/calibration_file.hpp).
+#include "lampwright/design/calibration.hpp"
+#include "lampwright/report/provenance.hpp"
+
+#include <nlohmann/json.hpp>
+
+#include <string>
+
+namespace lampwright {
+
+std::string calibration_text(const CalibrationResult& r);
+nlohmann::ordered_json calibration_json(const CalibrationResult& r);
+// The calibration file: a comment header with the provenance (time, command, trials and their
+// residuals), then the factors and line fractions with their standard deviations.
+std::string calibration_toml(const CalibrationResult& r, const RunProvenance& provenance);
+
+}  // namespace lampwright
