@@ -206,7 +206,10 @@ mass_fraction = 0.4
     // s = w a / sum w a with YOX's a = 1.0 at 254 nm (blend.hpp model; common practice, no source).
     const double s_green = 0.6 * 0.5 / (0.6 * 0.5 + 0.4 * 1.0);
     CHECK(b.components[0].photon_share == doctest::Approx(s_green).epsilon(1e-12));
-    CHECK(b.quantum_yield == doctest::Approx(s_green * 0.8 + (1 - s_green) * 0.92).epsilon(1e-12));
+    // The recipe's QE 0.8 serves both UV lines; YOX has 0.92 at 254 nm and 0.69 at 185 nm (data file,
+    // from memory), weighted by the 184.9 nm share of data/mercury/uv_lines.toml.
+    const double f = mercury_uv_lines().photon_fraction_185nm;
+    CHECK(b.quantum_yield == doctest::Approx(s_green * 0.8 + (1 - s_green) * ((1 - f) * 0.92 + f * 0.69)).epsilon(1e-12));
 }
 
 TEST_CASE("recipe: phosphor_folders are read relative to the recipe, and extra folders are accepted") {

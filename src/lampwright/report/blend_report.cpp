@@ -142,6 +142,9 @@ std::string blend_assumptions_text(const BlendResult& r, const BlendInput& in) {
         }
         o += fmt::format("  UV-A (315-400 nm) leaving the lamp: {:.2f} mW per W absorbed; see the cautions\n", 1000 * k.uva_W_per_W);
     }
+    if (!r.calibration.empty())
+        o += fmt::format("  calibrated model: {} (each listed phosphor's absorption x its factor; its line fraction unless the recipe sets mercury_lines)\n",
+                         r.calibration);
     return o;
 }
 
@@ -158,9 +161,6 @@ std::string coating_sweep_csv(const std::vector<BlendResult>& sweep) {
                        format_fixed(a.cct.duv, 5), a.rendering ? format_fixed(a.rendering->ra, 1) : std::string()}) +
              "\n";
     }
-    if (!r.calibration.empty())
-        o += fmt::format("  calibrated model: {} (each listed phosphor's absorption x its factor; its line fraction unless the recipe sets mercury_lines)\n",
-                         r.calibration);
     return o;
 }
 
