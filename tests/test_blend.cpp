@@ -60,6 +60,18 @@ double max_abs(const Spectrum& s) {
     return m;
 }
 
+// Under a mercury discharge the UV is 253.7 nm and a share f of 184.9 nm photons
+// (data/mercury/uv_lines.toml): a lamp phosphor's QE is (1 - f) QE_254 + f QE_185, and the
+// exciting photons' mean energy is h c ((1 - f) / 253.7 + f / 184.9) (Planck-Einstein, from memory).
+double uv_qe(const Phosphor& p) {
+    const double f = mercury_uv_lines().photon_fraction_185nm;
+    return (1 - f) * *p.qe_254nm + f * p.qe_185nm.value_or(*p.qe_254nm);
+}
+double uv_exc_nm() {
+    const double f = mercury_uv_lines().photon_fraction_185nm;
+    return 1 / ((1 - f) / kMercuryResonanceNm + f / kMercury185Nm);
+}
+
 // Largest |a - b| over the grid, relative to the largest |a|.
 double max_rel_diff(const Spectrum& a, const Spectrum& b) {
     REQUIRE(a.first_nm == b.first_nm);
@@ -93,11 +105,11 @@ TEST_CASE("blend: one mercury-excited component reproduces its phosphor's spectr
         REQUIRE(r.components.size() == 1);
         CHECK(r.components[0].photon_share == doctest::Approx(1.0).epsilon(1e-15));
         CHECK(r.components[0].mass_fraction == doctest::Approx(1.0).epsilon(1e-15));
-        CHECK(r.quantum_yield == doctest::Approx(*p.qe_254nm).epsilon(1e-12));
+        CHECK(r.quantum_yield == doctest::Approx(uv_qe(p)).epsilon(1e-12));
         const Spectrum n = emission_photons(p);
         Spectrum expected = n;
         for (std::size_t i = 0; i < n.values.size(); ++i)
-            expected.values[i] = *p.qe_254nm * n.values[i] * kMercuryResonanceNm / (n.first_nm + static_cast<double>(i));
+            expected.values[i] = uv_qe(p) * n.values[i] * uv_exc_nm() / (n.first_nm + static_cast<double>(i));
         CHECK(max_rel_diff(expected, r.phosphor_spectrum) < 1e-12);
         // mercury_line_fraction = 0: nothing but the phosphor's light.
         CHECK(max_rel_diff(expected, r.spectrum) < 1e-12);
@@ -203,9 +215,9 @@ TEST_CASE("blend: photon and energy balance of the tri-band blend") {
         const auto& c = r.components[i];
         const double s = comps[i].mass_fraction * grain_weight(comps[i].phosphor.id, *absorption_at(comps[i].phosphor, 253.7)) / wa;
         CHECK(c.photon_share == doctest::Approx(s).epsilon(1e-12));
-        CHECK(c.quantum_efficiency == doctest::Approx(*comps[i].phosphor.qe_254nm).epsilon(1e-15));
+        CHECK(c.quantum_efficiency == doctest::Approx(uv_qe(comps[i].phosphor)).epsilon(1e-15));
         // Stokes efficiency = lambda_exc x mean(1/lambda) over the phosphor's photons (Planck-Einstein, from memory).
-        const double stokes = stokes_of(emission_photons(comps[i].phosphor), kMercuryResonanceNm);
+        const double stokes = stokes_of(emission_photons(comps[i].phosphor), uv_exc_nm());
         CHECK(c.stokes_efficiency == doctest::Approx(stokes).epsilon(1e-12));
         CHECK(c.radiant_W_per_W == doctest::Approx(s * c.quantum_efficiency * stokes).epsilon(1e-12));
         share_sum += c.photon_share;
@@ -231,7 +243,7 @@ TEST_CASE("blend: photon and energy balance of the tri-band blend") {
             break;
         }
     REQUIRE(shortest > 0);
-    CHECK(r.radiant_efficiency <= r.quantum_yield * kMercuryResonanceNm / shortest);
+    CHECK(r.radiant_efficiency <= r.quantum_yield * uv_exc_nm() / shortest);
     // The tri-band light is mostly green and red: its photons' mean energy is below half that of a
     // 253.7 nm photon (beyond 2 x 253.7 = 507.4 nm; Planck-Einstein relation, from memory).
     CHECK(r.radiant_efficiency < 0.5 * r.quantum_yield);
@@ -245,10 +257,12 @@ TEST_CASE("blend: Stokes efficiency of Y2O3:Eu3+ under 253.7 nm") {
     // a 253.7 nm photon converted into a ~611 nm photon keeps about 253.7 / 611 of its energy.
     const BlendResult r = evaluate_blend(mercury_blend({component("YOX", 1.0)}));
     const double s = r.components[0].stokes_efficiency;
-    MESSAGE("YOX Stokes efficiency ", s, " (253.7/611 = ", 253.7 / 611.0, ")");
-    CHECK(s == doctest::Approx(253.7 / 611.0).epsilon(0.03));
-    CHECK(s == doctest::Approx(stokes_of(emission_photons(lib().find("YOX")), 253.7)).epsilon(1e-12));
-    CHECK(r.radiant_efficiency == doctest::Approx(0.92 * s).epsilon(1e-12));  // QE 0.92 at 254 nm (data file, from memory)
+    // The exciting photons are 253.7 nm and a share of 184.9 nm ones (uv_exc_nm above).
+    MESSAGE("YOX Stokes efficiency ", s, " (", uv_exc_nm(), "/611 = ", uv_exc_nm() / 611.0, ")");
+    CHECK(s == doctest::Approx(uv_exc_nm() / 611.0).epsilon(0.03));
+    CHECK(s == doctest::Approx(stokes_of(emission_photons(lib().find("YOX")), uv_exc_nm())).epsilon(1e-12));
+    // QE 0.92 at 254 nm and 0.69 at 185 nm (data file, from memory).
+    CHECK(r.radiant_efficiency == doctest::Approx(uv_qe(lib().find("YOX")) * s).epsilon(1e-12));
 }
 
 TEST_CASE("blend: scaling every mass fraction changes nothing") {

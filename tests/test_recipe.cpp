@@ -206,7 +206,10 @@ mass_fraction = 0.4
     // s = w a / sum w a with YOX's a = 1.0 at 254 nm (blend.hpp model; common practice, no source).
     const double s_green = 0.6 * 0.5 / (0.6 * 0.5 + 0.4 * 1.0);
     CHECK(b.components[0].photon_share == doctest::Approx(s_green).epsilon(1e-12));
-    CHECK(b.quantum_yield == doctest::Approx(s_green * 0.8 + (1 - s_green) * 0.92).epsilon(1e-12));
+    // The recipe's QE 0.8 serves both UV lines; YOX has 0.92 at 254 nm and 0.69 at 185 nm (data file,
+    // from memory), weighted by the 184.9 nm share of data/mercury/uv_lines.toml.
+    const double f = mercury_uv_lines().photon_fraction_185nm;
+    CHECK(b.quantum_yield == doctest::Approx(s_green * 0.8 + (1 - s_green) * ((1 - f) * 0.92 + f * 0.69)).epsilon(1e-12));
 }
 
 TEST_CASE("recipe: phosphor_folders are read relative to the recipe, and extra folders are accepted") {
@@ -311,6 +314,15 @@ TEST_CASE("recipe: refusals name the file, the line and the key") {
         expect_refused("name = \"x\"\nexcitation_nm = 253.7\n\n[[component]]\nphosphor = \"YOX\"\nmass_fraction = 0.5\n"
                        "quantum_efficiency = 90\n",
                        7, "component[1].quantum_efficiency", "percent");
+    }
+    SUBCASE("coating weight out of range, 185 nm share in percent, coating weight for an LED") {
+        expect_refused("name = \"x\"\nexcitation_nm = 253.7\ncoating_weight_mg_per_cm2 = 0.01\n\n[[component]]\nphosphor = \"YOX\"\nmass_fraction = 0.5\n",
+                       3, "coating_weight_mg_per_cm2", "0.1-50 mg/cm2");
+        expect_refused("name = \"x\"\nexcitation_nm = 253.7\nuv_185nm_fraction = 8\n\n[[component]]\nphosphor = \"YOX\"\nmass_fraction = 0.5\n", 3,
+                       "uv_185nm_fraction", "percent?");
+        expect_refused("name = \"x\"\ncoating_weight_mg_per_cm2 = 3\n\n[pump]\npeak_nm = 395\nfwhm_nm = 12\n\n[[component]]\nphosphor = \"BAM\"\n"
+                       "mass_fraction = 0.5\n",
+                       2, "coating_weight_mg_per_cm2", "only applies to a mercury discharge");
     }
     SUBCASE("excitation in micrometres") {
         expect_refused("name = \"x\"\nexcitation_nm = 0.2537\n\n[[component]]\nphosphor = \"YOX\"\nmass_fraction = 0.5\n", 2,

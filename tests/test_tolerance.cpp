@@ -63,8 +63,11 @@ TEST_CASE("tolerance: the fast path agrees with evaluate_blend on shifted phosph
             s.next(d);
             const Chromaticity fast = m.chromaticity(d);
             const BlendResult exact = evaluate_draw_exactly(t.blend, d);
-            CHECK(fast.x == doctest::Approx(exact.assessment.xy.x).epsilon(1e-6));
-            CHECK(fast.y == doctest::Approx(exact.assessment.xy.y).epsilon(1e-6));
+            // The fast path keeps the coating optics of the nominal fractions (blend_basis: the 365 nm
+            // line's escape depends on the coating's make-up); the exact path recomputes them at the
+            // drawn fractions. That moves x, y by a few 1e-6, far below a MacAdam step (next check).
+            CHECK(fast.x == doctest::Approx(exact.assessment.xy.x).epsilon(1e-5));
+            CHECK(fast.y == doctest::Approx(exact.assessment.xy.y).epsilon(1e-5));
             CHECK(std::abs(macadam_steps(t.ellipse, fast) - macadam_steps(t.ellipse, exact.assessment.xy)) < 0.002);
         }
     }

@@ -23,10 +23,12 @@ emitted spectrum, then every figure of 'assess' plus per-phosphor shares, quantu
 efficiency, radiant efficiency and efficacy per W of absorbed excitation. See README, "Blend physics".
 
 )") + kSafetyNotice + "\nOptions");
-    std::string format = "text", spectrum_out;
+    std::string format = "text", spectrum_out, coating_sweep;
     std::vector<std::string> folders, recipes;
     opts.add_options()("help,h", "show this help")("format,f", po::value(&format), "text | csv | json (default text)")
         ("spectrum-out", po::value(&spectrum_out), "write the blend spectrum (W/nm per W absorbed) as wavelength_nm,value CSV")
+        ("coating-sweep", po::value(&coating_sweep),
+         "write the blend at coating weights 0.25-12 mg/cm2 (step 0.25) as CSV: UV absorbed, light out, efficacy per W of UV, colour")
         ("phosphors", po::value(&folders), "a folder of your own phosphor files (*.toml); repeatable");
     po::variables_map vm;
     if (!parse_command_line(argc, argv, opts, "recipe", &recipes, vm, "blend")) return kExitOk;
@@ -35,7 +37,7 @@ efficiency, radiant efficiency and efficacy per W of absorbed excitation. See RE
 
     std::vector<FileRole> inputs{{recipes.front(), "the recipe"}};
     add_inputs(inputs, folders, "--phosphors folder");
-    check_outputs_apart({{spectrum_out, "--spectrum-out"}}, inputs);
+    check_outputs_apart({{spectrum_out, "--spectrum-out"}, {coating_sweep, "--coating-sweep"}}, inputs);
 
     const Recipe recipe = load_recipe(recipes.front(), folders);
     for (const auto& n : recipe.notes) print_note(n);
@@ -45,6 +47,14 @@ efficiency, radiant efficiency and efficacy per W of absorbed excitation. See RE
         std::ostringstream out;
         write_spectrum_csv(out, result.spectrum, "value");
         write_output_or_throw(spectrum_out, out.str());
+    }
+    if (!coating_sweep.empty()) {
+        if (recipe.blend.excitation.kind != Excitation::Kind::mercury)
+            throw UsageError{"blend: --coating-sweep applies to a mercury-discharge recipe (an LED layer has its own design file)"};
+        std::vector<double> weights;
+        for (int k = 1; k <= 48; ++k) weights.push_back(0.25 * k);
+        const auto sweep = naming_input(recipe.path, [&] { return coating_weight_sweep(recipe.blend, weights); });
+        write_output_or_throw(coating_sweep, coating_sweep_csv(sweep));
     }
     switch (f) {
         case Format::text: std::cout << blend_text(result, recipe.blend); break;

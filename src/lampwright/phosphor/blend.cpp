@@ -16,7 +16,68 @@ constexpr double kStokesTolerance = 0.01;  // share of model photons allowed on 
 
 double sum_of(const Spectrum& s) { return integrate_1nm(s.values); }
 
+double grain_density(const BlendComponent& c) { return c.density_g_per_cm3.value_or(c.phosphor.density_g_per_cm3); }
+double grain_d50(const BlendComponent& c) { return c.d50_um.value_or(c.phosphor.d50_um); }
+bool has_grain_data(const BlendComponent& c) { return grain_density(c) > 0 && grain_d50(c) > 0; }
+
+// The coating's grains at the input's mass fractions (equal shares when they are not all given,
+// as at the start of a fit from scratch).
+std::vector<CoatingGrain> coating_grains(const BlendInput& in) {
+    double total = 0;
+    bool all_positive = true;
+    for (const auto& c : in.components) {
+        if (c.mass_fraction > 0 && std::isfinite(c.mass_fraction)) total += c.mass_fraction;
+        else all_positive = false;
+    }
+    std::vector<CoatingGrain> grains;
+    const double equal = 1.0 / static_cast<double>(in.components.size());
+    for (const auto& c : in.components) {
+        CoatingGrain g;
+        g.mass_fraction = all_positive ? c.mass_fraction / total : equal;
+        g.density_g_per_cm3 = grain_density(c);
+        g.d50_um = grain_d50(c);
+        g.uv_absorption = c.absorption ? *c.absorption : absorption_for(c.phosphor, in.excitation);
+        g.uv_reflectance = c.phosphor.reflectance_254nm;
+        g.absorption_365nm = absorption_at(c.phosphor, mercury_uv_lines().wavelength_365nm).value_or(0.0);
+        grains.push_back(g);
+    }
+    return grains;
+}
+
+// The effective QE of a lamp phosphor under both UV lines: (1 - f) QE_254 + f QE_185.
+double uv_quantum_efficiency(const BlendComponent& c, double f185, std::vector<std::string>& notes) {
+    const double qe254 = quantum_efficiency_for(c.phosphor, Excitation::mercury());
+    if (!(f185 > 0)) return qe254;
+    if (!c.phosphor.qe_185nm) {
+        notes.push_back(fmt::format("component '{}' has no QE at 185 nm (at_185nm): its 254 nm value is used for the 184.9 nm photons too",
+                                    c.label));
+        return qe254;
+    }
+    return (1 - f185) * qe254 + f185 * *c.phosphor.qe_185nm;
+}
+
 }  // namespace
+
+CoatingResult blend_coating(const BlendInput& in, double weight) {
+    CoatingResult r;
+    if (in.excitation.kind != Excitation::Kind::mercury || in.components.empty()) return r;
+    for (const auto& c : in.components)
+        if (!has_grain_data(c)) return r;
+    const std::vector<CoatingGrain> grains = coating_grains(in);
+    const CoatingOptics o = coating_optics(grains, weight);
+    r.modelled = true;
+    r.weight_mg_per_cm2 = weight;
+    r.uv_absorbed = o.uv_absorbed;
+    r.uv_lost = o.uv_lost;
+    r.visible_escape = o.visible_escape;
+    r.line_escape = o.line_escape;
+    r.uv365_escape = o.uv365_escape;
+    r.conversion = o.conversion();
+    r.optimum_weight_mg_per_cm2 = optimum_coating_weight(grains);
+    r.optimum_conversion = coating_optics(grains, r.optimum_weight_mg_per_cm2).conversion();
+    r.uv_185nm_fraction = in.uv_185nm_fraction.value_or(mercury_uv_lines().photon_fraction_185nm);
+    return r;
+}
 
 double visible_power(const Spectrum& s) {
     double p = 0;
@@ -72,7 +133,7 @@ BlendBasis blend_basis(const BlendInput& in) {
         throw Error(fmt::format("absorbed fraction must lie in (0, 1], not {:g}", in.absorbed_fraction));
     BlendBasis b;
     const Excitation& e = in.excitation;
-    const double inv_lambda_exc = mean_inverse_wavelength(e);
+    double inv_lambda_exc = mean_inverse_wavelength(e);
     Spectrum leak = emission_grid("leak");
     if (e.kind == Excitation::Kind::mercury) {
         b.lamp_type = in.lamp_type ? *in.lamp_type : infer_lamp_type(in.components);
@@ -90,15 +151,38 @@ BlendBasis blend_basis(const BlendInput& in) {
         // Opaque grains at 254 nm: shares by projected area, when every component has grain data.
         b.grain_model = true;
         for (const auto& c : in.components) {
-            const double rho = c.density_g_per_cm3.value_or(c.phosphor.density_g_per_cm3);
-            const double d = c.d50_um.value_or(c.phosphor.d50_um);
-            if (!(rho > 0) || !(d > 0)) {
+            if (!has_grain_data(c)) {
                 b.grain_model = false;
                 b.notes.push_back(fmt::format("component '{}' has no {}: absorbed shares taken as mass x absorption for every component "
                                               "(give density_g_per_cm3 and d50_um in the recipe)",
-                                              c.label, !(rho > 0) ? "density" : "particle size d50"));
+                                              c.label, !(grain_density(c) > 0) ? "density" : "particle size d50"));
                 break;
             }
+        }
+        b.uv_185nm_fraction = in.uv_185nm_fraction.value_or(mercury_uv_lines().photon_fraction_185nm);
+        if (!(b.uv_185nm_fraction >= 0 && b.uv_185nm_fraction < 1))
+            throw Error(fmt::format("the 185 nm share of the UV photons must lie in [0, 1), not {:g}", b.uv_185nm_fraction));
+        if (b.grain_model) {
+            const double reference_weight = default_coating_weight(b.lamp_type);
+            const bool own_weight = in.coating_weight_mg_per_cm2.has_value();
+            b.coating = blend_coating(in, in.coating_weight_mg_per_cm2.value_or(reference_weight));
+            b.coating.uv_185nm_fraction = b.uv_185nm_fraction;
+            b.coating.weight_source = own_weight ? "the recipe"
+                                                 : fmt::format("the {} default (data/coating/lamp_coating.toml, from memory)", b.lamp_type);
+            // The visible-line fraction is derived from lamps taken to be coated at the lamp type's
+            // default weight. Lines reach the outside with the coating's line escape L; phosphor light
+            // with its conversion C; so the lines' power relative to the phosphors' scales as L / C.
+            if (!in.mercury_line_fraction && own_weight) {
+                const CoatingResult ref = blend_coating(in, reference_weight);
+                const double scale = (b.coating.line_escape / b.coating.conversion) / (ref.line_escape / ref.conversion);
+                const double odds = b.mercury_line_fraction / (1 - b.mercury_line_fraction) * scale;
+                b.mercury_line_fraction = odds / (1 + odds);
+                b.mercury_source += fmt::format("; fraction moved from {:.4f} at the default {:g} mg/cm2 to this coating weight by its line "
+                                                "escape / UV conversion (coating model)",
+                                                set.visible_fraction, reference_weight);
+            }
+        } else if (in.coating_weight_mg_per_cm2) {
+            b.notes.push_back("coating weight given but not modelled: the coating model needs every component's density and d50");
         }
     } else if (in.absorbed_fraction < 1) {
         // Unabsorbed pump light leaves the lamp; per W absorbed, (1 - f) / f W leak. It does not
@@ -107,9 +191,13 @@ BlendBasis blend_basis(const BlendInput& in) {
         b.pump_leak_W_per_W = (1 - in.absorbed_fraction) / in.absorbed_fraction;
         for (std::size_t k = 0; k < p.values.size(); ++k) leak.values[k] = b.pump_leak_W_per_W * p.values[k];
     }
+    if (e.kind == Excitation::Kind::mercury)  // the mean photon energy of the 253.7 and 184.9 nm photons
+        inv_lambda_exc = (1 - b.uv_185nm_fraction) / e.peak_nm + b.uv_185nm_fraction / kMercury185Nm;
     for (const auto& c : in.components) {
         const double a = c.absorption ? *c.absorption : absorption_for(c.phosphor, e);
-        const double qe = c.quantum_efficiency ? *c.quantum_efficiency : quantum_efficiency_for(c.phosphor, e);
+        const double qe = c.quantum_efficiency                  ? *c.quantum_efficiency
+                          : e.kind == Excitation::Kind::mercury ? uv_quantum_efficiency(c, b.uv_185nm_fraction, b.notes)
+                                                                : quantum_efficiency_for(c.phosphor, e);
         if (a < 0) throw Error(fmt::format("component '{}': absorption must not be negative", c.label));
         const Spectrum n = emission_for_excitation(c.phosphor, e);
         Spectrum power = emission_grid(c.label);
@@ -123,16 +211,24 @@ BlendBasis blend_basis(const BlendInput& in) {
         Spectrum light = power;
         if (e.kind == Excitation::Kind::mercury) {
             const double f = b.mercury_line_fraction;
-            const Spectrum hg = mercury_visible_lines(f / (1 - f) * visible_power(power), b.mercury_line_ratios);
+            const double line_power = f / (1 - f) * visible_power(power);
+            const Spectrum hg = mercury_visible_lines(line_power, b.mercury_line_ratios);
             for (std::size_t k = 0; k < hg.values.size(); ++k) light.values[k] += hg.values[k];
+            if (b.coating.modelled) {
+                // The 365 nm group leaves with its own escape (phosphors that absorb at 365 nm take
+                // part of it); it is set against the 435.8 nm line, which leaves with the line escape.
+                double ratio_total = 0;
+                for (double r : b.mercury_line_ratios) ratio_total += r;
+                const double p436 = ratio_total > 0 ? line_power * b.mercury_line_ratios[1] / ratio_total : 0.0;
+                const MercuryUvLines& uv = mercury_uv_lines();
+                add_line(light, uv.wavelength_365nm, p436 * uv.relative_power_365nm * b.coating.uv365_escape / b.coating.line_escape);
+            }
         }
         for (std::size_t k = 0; k < leak.values.size(); ++k) light.values[k] += leak.values[k];
         b.absorption.push_back(a);
         if (b.grain_model) {
             // g = a (1 - R) / (rho d50): projected area per unit mass of opaque spheres, less reflection.
-            const double rho = c.density_g_per_cm3.value_or(c.phosphor.density_g_per_cm3);
-            const double d = c.d50_um.value_or(c.phosphor.d50_um);
-            b.share_weight.push_back(a * (1 - c.phosphor.reflectance_254nm) / (rho * d));
+            b.share_weight.push_back(a * (1 - c.phosphor.reflectance_254nm) / (grain_density(c) * grain_d50(c)));
         } else {
             b.share_weight.push_back(a);
         }
@@ -176,8 +272,8 @@ BlendResult evaluate_blend(const BlendInput& in, const AssessOptions& options) {
         cr.share_weight = b.share_weight[i];
         if (b.grain_model) {
             const auto& c = in.components[i];
-            cr.density_g_per_cm3 = c.density_g_per_cm3.value_or(c.phosphor.density_g_per_cm3);
-            cr.d50_um = c.d50_um.value_or(c.phosphor.d50_um);
+            cr.density_g_per_cm3 = grain_density(c);
+            cr.d50_um = grain_d50(c);
             cr.reflectance = c.phosphor.reflectance_254nm;
         }
         absorption_total += cr.mass_fraction * cr.share_weight;
@@ -214,11 +310,28 @@ BlendResult evaluate_blend(const BlendInput& in, const AssessOptions& options) {
     r.mercury_source = b.mercury_source;
     r.grain_model = b.grain_model;
     r.pump_leak_W_per_W = b.pump_leak_W_per_W;
+    r.coating = b.coating;
+    if (r.coating.modelled) r.coating.luminous_efficacy_uv = r.luminous_efficacy_absorbed * r.coating.conversion;
+    // UV-A (315-400 nm, CIE S 017 / ILV) leaving the lamp, per W of absorbed excitation.
+    for (int nm = 315; nm <= 400; ++nm)
+        if (r.spectrum.covers(nm)) r.coating.uva_W_per_W += r.spectrum.values[static_cast<std::size_t>(nm - r.spectrum.first_nm)];
     r.spectrum.name = in.name;
     r.assessment = assess(r.spectrum, options);
     r.assessment.warnings.insert(r.assessment.warnings.end(), b.notes.begin(), b.notes.end());
     r.calibration = in.calibration;
     return r;
+}
+
+std::vector<BlendResult> coating_weight_sweep(const BlendInput& input, const std::vector<double>& weights, const AssessOptions& options) {
+    if (input.excitation.kind != Excitation::Kind::mercury) throw Error("a coating-weight sweep applies to a mercury discharge only");
+    std::vector<BlendResult> out;
+    BlendInput in = input;
+    for (double w : weights) {
+        in.coating_weight_mg_per_cm2 = w;
+        out.push_back(evaluate_blend(in, options));
+        if (!out.back().coating.modelled) throw Error("the coating model needs every component's density and d50");
+    }
+    return out;
 }
 
 }  // namespace lampwright

@@ -13,9 +13,17 @@
 //       LED pump: g_i = a_i, the relative absorption per unit mass (Beer-Lambert in a dilute layer);
 //   - it emits s_i QE_i photons along its emission shape; spectral power P(l) = N(l) h c / l;
 //   - Stokes rule: no photon leaves with more energy than the exciting one;
-//   - a discharge lamp adds the visible mercury lines as a set fraction of its visible output.
+//   - a discharge lamp adds the visible mercury lines as a set fraction of its visible output;
+//   - mercury discharge: the UV is the 253.7 nm line and a share of 184.9 nm photons
+//     (data/mercury/uv_lines.toml); every grain is opaque at both, so both are shared by grain
+//     area alike, and each phosphor converts them with its QE at that line (at_254nm, at_185nm);
+//   - mercury discharge: the coating is a two-flux layer of a given weight (phosphor/coating.hpp):
+//     it sets how much of the discharge's UV is absorbed and how much of the light leaves, and so
+//     the visible-line fraction, which is derived at the lamp type's default weight, and the
+//     365 nm UV-A that leaves the lamp.
 // Spectra are in W per nm per W of absorbed excitation power.
 #include "lampwright/colour/assessment.hpp"
+#include "lampwright/phosphor/coating.hpp"
 #include "lampwright/phosphor/excitation.hpp"
 #include "lampwright/phosphor/mercury_discharge.hpp"
 #include "lampwright/phosphor/phosphor.hpp"
@@ -51,7 +59,25 @@ struct BlendInput {
     std::optional<std::array<double, 4>> mercury_line_ratios;
     std::optional<std::string> lamp_type;  // "halophosphate", "tri-band", "broadband"; default inferred
     double absorbed_fraction = 1.0;  // share of the excitation the coating absorbs (0, 1]
+    // Mercury discharge: coating weight in mg/cm2 (default: the lamp type's, data/coating) and the
+    // share of the UV photons at 184.9 nm (default: data/mercury/uv_lines.toml).
+    std::optional<double> coating_weight_mg_per_cm2;
+    std::optional<double> uv_185nm_fraction;
     std::string calibration;  // the calibration file applied ("" none)
+};
+
+// What the coating model gave a mercury-discharge blend (README "Blend physics", "Coating weight").
+struct CoatingResult {
+    bool modelled = false;              // false: an LED pump, or no grain data
+    double weight_mg_per_cm2 = 0;       // as used
+    std::string weight_source;          // "the recipe" or the lamp type's default and its source
+    double uv_absorbed = 0, uv_lost = 0, visible_escape = 0, line_escape = 0, uv365_escape = 0;
+    double conversion = 0;              // uv_absorbed x visible_escape
+    double optimum_weight_mg_per_cm2 = 0;  // the weight of the most light per W of UV, this blend
+    double optimum_conversion = 0;
+    double uv_185nm_fraction = 0;       // share of the UV photons at 184.9 nm, as used
+    double uva_W_per_W = 0;             // UV-A (315-400 nm) leaving the lamp per W of absorbed excitation
+    double luminous_efficacy_uv = 0;    // lm of phosphor light leaving the lamp per W of UV sent to the wall
 };
 
 
@@ -85,6 +111,7 @@ struct BlendResult {
     std::string mercury_source;             // where the applied mercury-line values come from
     bool grain_model = false;               // shares by projected area (true) or by mass x absorption
     double pump_leak_W_per_W = 0;           // LED: leaked pump power per W absorbed
+    CoatingResult coating;                  // mercury discharge: the coating model's figures
     Assessment assessment;                  // of `spectrum`
     std::string calibration;                // the calibration file applied ("" none)
 };
@@ -105,15 +132,28 @@ struct BlendBasis {
     bool grain_model = false;
     std::vector<std::string> notes;          // what the model had to assume (into the assessment's warnings)
     double pump_leak_W_per_W = 0;
+    double uv_185nm_fraction = 0;            // mercury: share of the UV photons at 184.9 nm, as applied
+    CoatingResult coating;                   // at the input's mass fractions (see blend_basis)
 };
-// Throws Error for an impossible blend (as evaluate_blend; the fractions are not looked at).
+// Throws Error for an impossible blend (as evaluate_blend). The fractions matter only through the
+// coating model (the layer's make-up sets its optics and so the visible-line fraction); a fit
+// that moves them keeps the coating of the starting fractions (a small effect: the grains' areas
+// per unit mass differ by tens of per cent, and only the line fraction depends on them).
 BlendBasis blend_basis(const BlendInput& input);
+// The coating model for a mercury-discharge blend at the given coating weight and the input's
+// mass fractions; `modelled` false for an LED pump or without grain data.
+CoatingResult blend_coating(const BlendInput& input, double weight_mg_per_cm2);
 // s_i = w_i g_i / sum_j w_j g_j for normalised mass fractions w; throws Error when nothing absorbs.
 std::vector<double> photon_shares(const BlendBasis& basis, const std::vector<double>& mass_fractions);
 
 // Evaluates the blend. Throws Error for an impossible blend (no components, non-positive
 // fractions, Stokes rule broken, excitation outside a phosphor's data).
 BlendResult evaluate_blend(const BlendInput& input, const AssessOptions& options = {});
+
+// The blend at each coating weight (mg/cm2), mercury discharge only: efficacy against coating
+// weight, and the colour shift that comes with it (the visible-line fraction moves).
+std::vector<BlendResult> coating_weight_sweep(const BlendInput& input, const std::vector<double>& weights_mg_per_cm2,
+                                              const AssessOptions& options = {});
 
 // The phosphor's photon emission for this excitation: the Stokes check and the removal of the
 // model tail at shorter wavelengths than the excitation. Throws Error when more than 1 % of the

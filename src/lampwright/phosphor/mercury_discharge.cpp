@@ -47,6 +47,24 @@ std::vector<MercuryLineSet> load_line_sets() {
     return sets;
 }
 
+MercuryUvLines load_uv_lines() {
+    const std::string path = "mercury/uv_lines.toml";
+    const TomlDoc doc(std::string(embedded_file(path)), "data/" + path);
+    const auto& r = doc.root();
+    const auto* l185 = doc.table(r, "line_185nm", "");
+    const auto* l365 = doc.table(r, "line_365nm", "");
+    if (!l185 || !l365) doc.fail(&r, "", "needs tables [line_185nm] and [line_365nm]");
+    MercuryUvLines u;
+    u.photon_fraction_185nm = doc.require_number(*l185, "photon_fraction", "line_185nm");
+    if (!(u.photon_fraction_185nm >= 0 && u.photon_fraction_185nm < 1))
+        doc.fail(l185->get("photon_fraction"), "line_185nm.photon_fraction", "must be a fraction in [0, 1)");
+    u.source_185nm = doc.string(*l185, "source", "line_185nm").value_or("");
+    u.relative_power_365nm = doc.require_number(*l365, "relative_power", "line_365nm");
+    u.wavelength_365nm = doc.require_number(*l365, "wavelength_nm", "line_365nm");
+    u.source_365nm = doc.string(*l365, "source", "line_365nm").value_or("");
+    return u;
+}
+
 bool is_halophosphate(const Phosphor& p) { return p.id.rfind("Ca5(PO4)3", 0) == 0; }
 
 bool is_triband_component(const Phosphor& p) {
@@ -62,6 +80,11 @@ bool is_triband_component(const Phosphor& p) {
 const std::vector<MercuryLineSet>& mercury_line_sets() {
     static const std::vector<MercuryLineSet> sets = load_line_sets();
     return sets;
+}
+
+const MercuryUvLines& mercury_uv_lines() {
+    static const MercuryUvLines lines = load_uv_lines();
+    return lines;
 }
 
 const MercuryLineSet& mercury_line_set(const std::string& lamp_type) {

@@ -22,6 +22,17 @@ struct MercuryLineSet {
     std::string source;                   // where the numbers come from, in words
 };
 
+// The ultraviolet lines as they reach the coating (data/mercury/uv_lines.toml, from memory).
+struct MercuryUvLines {
+    double photon_fraction_185nm = 0;  // of the UV photons (184.9 + 253.7 nm), at 184.9 nm
+    std::string source_185nm;
+    double relative_power_365nm = 0;   // 365 nm group / 435.8 nm line, as the discharge emits them
+    double wavelength_365nm = 0;
+    std::string source_365nm;
+};
+const MercuryUvLines& mercury_uv_lines();
+inline constexpr double kMercury185Nm = 184.9;
+
 // The lamp types of the data file, in its order.
 const std::vector<MercuryLineSet>& mercury_line_sets();
 // One lamp type; throws Error naming the known types for another.

@@ -250,15 +250,17 @@ Phosphor parse_phosphor(const std::string& text, const std::string& origin) {
 
     const auto* q = doc.table(r, "quantum_efficiency", "");
     if (!q) doc.fail(&r, "", "missing table [quantum_efficiency]");
-    doc.only_keys(*q, {"at_254nm", "at_365_405nm", "source"}, "quantum_efficiency");
+    doc.only_keys(*q, {"at_254nm", "at_185nm", "at_365_405nm", "source"}, "quantum_efficiency");
     p.qe_254nm = doc.number(*q, "at_254nm", "quantum_efficiency");
+    p.qe_185nm = doc.number(*q, "at_185nm", "quantum_efficiency");
     p.qe_365_405nm = doc.number(*q, "at_365_405nm", "quantum_efficiency");
-    for (const char* k : {"at_254nm", "at_365_405nm"}) {
+    for (const char* k : {"at_254nm", "at_185nm", "at_365_405nm"}) {
         const auto v = doc.number(*q, k, "quantum_efficiency");
         if (v && (*v <= 0 || *v > 1))
             doc.fail(q->get(k), key_path("quantum_efficiency", k), fmt::format("must be a fraction in (0, 1], not {:g} (percent?)", *v));
     }
     if (!p.qe_254nm && !p.qe_365_405nm) doc.fail(q, "quantum_efficiency", "needs at_254nm or at_365_405nm");
+    if (p.qe_185nm && !p.qe_254nm) doc.fail(q->get("at_185nm"), "quantum_efficiency.at_185nm", "needs at_254nm too (both lines of the discharge)");
     p.qe_source = doc.string(*q, "source", "quantum_efficiency").value_or("");
 
     if (const auto* t = doc.table(r, "thermal", "")) {

@@ -58,6 +58,7 @@ struct Phosphor {
     std::string absorption_source;
 
     std::optional<double> qe_254nm, qe_365_405nm;
+    std::optional<double> qe_185nm;  // under the 184.9 nm mercury line (lamp phosphors)
     std::string qe_source;
 
     std::vector<double> quench_C, quench_rel;  // relative QE vs temperature (deg C)

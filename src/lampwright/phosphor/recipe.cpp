@@ -56,7 +56,7 @@ Recipe recipe_from_toml(const TomlDoc& doc, const std::vector<std::string>& extr
                         const std::vector<std::string>& extra_root_keys) {
     const auto& r = doc.root();
     std::vector<std::string> known{"name", "excitation_nm", "pump", "mercury_lines", "mercury_line_ratios", "lamp_type", "absorbed_fraction",
-                                   "phosphor_folders", "component"};
+                                   "coating_weight_mg_per_cm2", "uv_185nm_fraction", "phosphor_folders", "component"};
     known.insert(known.end(), extra_root_keys.begin(), extra_root_keys.end());
     doc.only_keys(r, known, "");
     Recipe rec;
@@ -91,6 +91,23 @@ Recipe recipe_from_toml(const TomlDoc& doc, const std::vector<std::string>& extr
         if (*t != "halophosphate" && *t != "tri-band" && *t != "broadband")
             doc.fail(r.get("lamp_type"), "lamp_type", fmt::format("must be halophosphate, tri-band or broadband, not '{}'", *t));
         rec.blend.lamp_type = *t;
+    }
+    if (auto w = doc.number(r, "coating_weight_mg_per_cm2", "")) {
+        if (rec.blend.excitation.kind != Excitation::Kind::mercury)
+            doc.fail(r.get("coating_weight_mg_per_cm2"), "coating_weight_mg_per_cm2",
+                     "only applies to a mercury discharge (excitation_nm = 253.7); an LED layer is described by its own design file");
+        if (!(*w >= 0.1 && *w <= 50))
+            doc.fail(r.get("coating_weight_mg_per_cm2"), "coating_weight_mg_per_cm2",
+                     fmt::format("must be a coating weight of 0.1-50 mg/cm2, not {:g}", *w));
+        rec.blend.coating_weight_mg_per_cm2 = *w;
+    }
+    if (auto f = doc.number(r, "uv_185nm_fraction", "")) {
+        if (rec.blend.excitation.kind != Excitation::Kind::mercury)
+            doc.fail(r.get("uv_185nm_fraction"), "uv_185nm_fraction", "only applies to a mercury discharge (excitation_nm = 253.7)");
+        if (!(*f >= 0 && *f < 0.5))
+            doc.fail(r.get("uv_185nm_fraction"), "uv_185nm_fraction",
+                     fmt::format("must be the share of the UV photons at 184.9 nm, in [0, 0.5), not {:g} (percent?)", *f));
+        rec.blend.uv_185nm_fraction = *f;
     }
     if (auto f = doc.number(r, "absorbed_fraction", "")) {
         if (!(*f > 0 && *f <= 1)) doc.fail(r.get("absorbed_fraction"), "absorbed_fraction", fmt::format("must lie in (0, 1], not {:g}", *f));
@@ -198,6 +215,8 @@ std::string recipe_to_toml(const BlendInput& b, const std::vector<std::string>& 
             o += fmt::format("mercury_line_ratios = [{:g}, {:g}, {:g}, {:g}]\n", (*b.mercury_line_ratios)[0], (*b.mercury_line_ratios)[1],
                              (*b.mercury_line_ratios)[2], (*b.mercury_line_ratios)[3]);
         if (b.lamp_type) o += fmt::format("lamp_type = {}\n", toml_quote(*b.lamp_type));
+        if (b.coating_weight_mg_per_cm2) o += fmt::format("coating_weight_mg_per_cm2 = {}\n", *b.coating_weight_mg_per_cm2);
+        if (b.uv_185nm_fraction) o += fmt::format("uv_185nm_fraction = {}\n", *b.uv_185nm_fraction);
     }
     if (b.absorbed_fraction != 1.0) o += fmt::format("absorbed_fraction = {:g}\n", b.absorbed_fraction);
     if (b.excitation.kind == Excitation::Kind::led)

@@ -5,6 +5,8 @@
 //   excitation_nm = 253.7            # or:  [pump]  peak_nm = 395  fwhm_nm = 12
 //   mercury_lines = 0.03             # optional: visible Hg lines, fraction of visible output
 //   absorbed_fraction = 1.0          # optional: share of the excitation the coating absorbs
+//   coating_weight_mg_per_cm2 = 3.0  # optional (mercury): default by lamp type, data/coating
+//   uv_185nm_fraction = 0.08         # optional (mercury): share of the UV photons at 184.9 nm
 //   phosphor_folders = ["mine"]      # optional: more phosphor files, relative to the recipe
 //   calibration = "line2.toml"       # optional: a model calibration (lampwright calibrate), relative to the recipe
 //   [[component]]

@@ -19,7 +19,9 @@ std::vector<std::string> blend_columns(const BlendResult& r) {
     // lamp_type and absorbed_share_model close the blend's fixed part, before the variable
     // component groups (docs/output-schemas.md).
     for (const char* k : {"quantum_yield", "stokes_efficiency", "radiant_efficiency", "efficacy_lm_per_W_absorbed",
-                          "mercury_line_fraction", "pump_leak_W_per_W", "lamp_type", "absorbed_share_model"})
+                          "mercury_line_fraction", "pump_leak_W_per_W", "lamp_type", "absorbed_share_model", "coating_weight_mg_per_cm2",
+                          "uv_absorbed", "visible_escape", "efficacy_lm_per_W_uv", "optimum_coating_weight_mg_per_cm2", "uv_185nm_fraction",
+                          "uva_W_per_W"})
         c.push_back(k);
     for (std::size_t i = 1; i <= r.components.size(); ++i)
         for (const char* k : {"id", "mass_fraction", "photon_share", "radiant_share", "luminous_share", "stokes_efficiency"})
@@ -37,6 +39,15 @@ std::vector<std::string> blend_values(const BlendResult& r) {
     v.push_back(format_fixed(r.pump_leak_W_per_W, 5));
     v.push_back(r.lamp_type);
     v.push_back(share_model_name(r));
+    const CoatingResult& k = r.coating;
+    const auto coating_value = [&](double x, int digits) { return k.modelled ? format_fixed(x, digits) : std::string(); };
+    v.push_back(coating_value(k.weight_mg_per_cm2, 3));
+    v.push_back(coating_value(k.uv_absorbed, 5));
+    v.push_back(coating_value(k.visible_escape, 5));
+    v.push_back(coating_value(k.luminous_efficacy_uv, 2));
+    v.push_back(coating_value(k.optimum_weight_mg_per_cm2, 3));
+    v.push_back(r.lamp_type.empty() ? std::string() : format_fixed(k.uv_185nm_fraction, 4));
+    v.push_back(format_fixed(k.uva_W_per_W, 6));
     for (const auto& c : r.components) {
         v.push_back(c.label);
         v.push_back(format_fixed(c.mass_fraction, 6));
@@ -66,6 +77,23 @@ nlohmann::ordered_json blend_json(const BlendResult& r, const BlendInput& in) {
         j["mercury_source"] = nullptr;
     }
     j["absorbed_share_model"] = share_model_name(r);
+    const CoatingResult& k = r.coating;
+    if (k.modelled)
+        j["coating"] = {{"weight_mg_per_cm2", k.weight_mg_per_cm2},
+                        {"weight_source", k.weight_source},
+                        {"uv_absorbed", k.uv_absorbed},
+                        {"uv_lost", k.uv_lost},
+                        {"visible_escape", k.visible_escape},
+                        {"line_escape", k.line_escape},
+                        {"uv365_escape", k.uv365_escape},
+                        {"conversion", k.conversion},
+                        {"efficacy_lm_per_W_uv", k.luminous_efficacy_uv},
+                        {"optimum_weight_mg_per_cm2", k.optimum_weight_mg_per_cm2},
+                        {"optimum_conversion", k.optimum_conversion}};
+    else
+        j["coating"] = nullptr;
+    j["uv_185nm_fraction"] = r.lamp_type.empty() ? nlohmann::ordered_json(nullptr) : nlohmann::ordered_json(k.uv_185nm_fraction);
+    j["uva_W_per_W"] = k.uva_W_per_W;
     auto& comps = j["components"] = nlohmann::ordered_json::array();
     for (const auto& c : r.components)
         comps.push_back({{"id", c.label},
@@ -99,10 +127,40 @@ std::string blend_assumptions_text(const BlendResult& r, const BlendInput& in) {
         } else {
             o += "  absorbed 254 nm shares: by mass x absorption (grain data missing, see the note below)\n";
         }
+        const CoatingResult& k = r.coating;
+        o += fmt::format("  UV: 253.7 nm, and {:.1f} % of the UV photons at 184.9 nm (data/mercury/uv_lines.toml, from memory); QE above: the mean "
+                         "over both lines\n",
+                         100 * k.uv_185nm_fraction);
+        if (k.modelled) {
+            o += fmt::format("  coating {:.2f} mg/cm2 ({}): UV absorbed {:.1f} %, lost into the glass {:.1f} %; phosphor light leaving {:.1f} %\n",
+                             k.weight_mg_per_cm2, k.weight_source, 100 * k.uv_absorbed, 100 * k.uv_lost, 100 * k.visible_escape);
+            o += fmt::format("    {:.1f} lm of phosphor light per W of UV; most light at {:.2f} mg/cm2 ({:+.1f} % against this weight; two-flux "
+                             "Kubelka-Munk layer)\n",
+                             k.luminous_efficacy_uv, k.optimum_weight_mg_per_cm2, 100 * (k.optimum_conversion / k.conversion - 1));
+        } else {
+            o += "  coating: not modelled (it needs every component's density and d50)\n";
+        }
+        o += fmt::format("  UV-A (315-400 nm) leaving the lamp: {:.2f} mW per W absorbed; see the cautions\n", 1000 * k.uva_W_per_W);
     }
     if (!r.calibration.empty())
         o += fmt::format("  calibrated model: {} (each listed phosphor's absorption x its factor; its line fraction unless the recipe sets mercury_lines)\n",
                          r.calibration);
+    return o;
+}
+
+std::string coating_sweep_csv(const std::vector<BlendResult>& sweep) {
+    std::string o = csv_line({"coating_weight_mg_per_cm2", "uv_absorbed", "uv_lost", "visible_escape", "conversion", "efficacy_lm_per_W_uv",
+                              "mercury_line_fraction", "x", "y", "CCT_K", "Duv", "Ra"}) +
+                    "\n";
+    for (const auto& r : sweep) {
+        const CoatingResult& k = r.coating;
+        const Assessment& a = r.assessment;
+        o += csv_line({format_fixed(k.weight_mg_per_cm2, 3), format_fixed(k.uv_absorbed, 5), format_fixed(k.uv_lost, 5),
+                       format_fixed(k.visible_escape, 5), format_fixed(k.conversion, 5), format_fixed(k.luminous_efficacy_uv, 2),
+                       format_fixed(r.mercury_line_fraction, 4), format_fixed(a.xy.x, 5), format_fixed(a.xy.y, 5), a.cct.valid ? format_fixed(a.cct.cct_K, 0) : std::string(),
+                       format_fixed(a.cct.duv, 5), a.rendering ? format_fixed(a.rendering->ra, 1) : std::string()}) +
+             "\n";
+    }
     return o;
 }
 

@@ -19,6 +19,8 @@ nlohmann::ordered_json blend_json(const BlendResult& r, const BlendInput& in);
 // Empty for an LED pump. Used by blend and fit.
 std::string blend_assumptions_text(const BlendResult& r, const BlendInput& in);
 std::string blend_text(const BlendResult& r, const BlendInput& in);
+// One row per coating weight of coating_weight_sweep (docs/output-schemas.md, "blend --coating-sweep").
+std::string coating_sweep_csv(const std::vector<BlendResult>& sweep);
 
 std::vector<std::string> phosphor_columns();
 std::vector<std::string> phosphor_values(const Phosphor& p);
