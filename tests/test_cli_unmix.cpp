@@ -16,6 +16,7 @@
 
 namespace {
 
+using lwtest::csv_cells;
 using lwtest::run_cli_args;
 using lwtest::slurp;
 using lwtest::TempDir;
@@ -30,26 +31,6 @@ std::vector<std::string> lines_of(const std::string& text) {
     return v;
 }
 
-// Cells of a CSV line (RFC 4180 quotes).
-std::vector<std::string> csv_cells(const std::string& line) {
-    std::vector<std::string> cells{""};
-    bool quoted = false;
-    for (std::size_t i = 0; i < line.size(); ++i) {
-        const char c = line[i];
-        if (quoted) {
-            if (c == '"' && i + 1 < line.size() && line[i + 1] == '"') cells.back() += '"', ++i;
-            else if (c == '"') quoted = false;
-            else cells.back() += c;
-        } else if (c == '"') {
-            quoted = true;
-        } else if (c == ',') {
-            cells.emplace_back();
-        } else {
-            cells.back() += c;
-        }
-    }
-    return cells;
-}
 
 std::string cell(const std::vector<std::string>& header, const std::vector<std::string>& row, const std::string& name) {
     for (std::size_t i = 0; i < header.size(); ++i)

@@ -20,6 +20,7 @@
 
 using namespace lampwright;
 
+using lwtest::library_component;
 namespace {
 
 // Every library phosphor made for fluorescent lamps (use "lamp"): the candidates of a rebuild.
@@ -46,13 +47,6 @@ Rebuild rebuild(const SampledSpectrum& lamp, const std::vector<Phosphor>& candid
             model.rendering->ri[8] - measured.rendering->ri[8]};
 }
 
-BlendComponent library_component(const std::string& id, double w) {
-    BlendComponent c;
-    c.phosphor = PhosphorLibrary::builtin().find(id);
-    c.label = c.phosphor.id;
-    c.mass_fraction = w;
-    return c;
-}
 
 }  // namespace
 

@@ -31,6 +31,36 @@
 
 namespace lwtest {
 
+// Cells of a CSV line (RFC 4180 quotes, as csv_line writes them).
+inline std::vector<std::string> csv_cells(const std::string& line) {
+    std::vector<std::string> cells{""};
+    bool quoted = false;
+    for (std::size_t i = 0; i < line.size(); ++i) {
+        const char c = line[i];
+        if (quoted) {
+            if (c == '"' && i + 1 < line.size() && line[i + 1] == '"') cells.back() += '"', ++i;
+            else if (c == '"') quoted = false;
+            else cells.back() += c;
+        } else if (c == '"') {
+            quoted = true;
+        } else if (c == ',') {
+            cells.emplace_back();
+        } else {
+            cells.back() += c;
+        }
+    }
+    return cells;
+}
+
+// A library phosphor as a blend component of mass fraction w (label = its id).
+inline lampwright::BlendComponent library_component(const std::string& id, double w) {
+    lampwright::BlendComponent c;
+    c.phosphor = lampwright::PhosphorLibrary::builtin().find(id);
+    c.label = c.phosphor.id;
+    c.mass_fraction = w;
+    return c;
+}
+
 // ../shared/reference/<name>: published CIE tables, read in place (never copied into the repo).
 inline std::string reference_file(const std::string& name) {
     return std::string(LAMPWRIGHT_SOURCE_DIR) + "/../shared/reference/" + name;

@@ -18,6 +18,7 @@
 
 using namespace lampwright;
 
+using lwtest::library_component;
 namespace {
 
 // A forward blend's spectrum as a table on `step_nm` over 380-780 nm, seen through a triangular
@@ -41,13 +42,6 @@ void check_fractions(const BlendUnmixing& u, const BlendResult& truth, double to
     }
 }
 
-BlendComponent library_component(const std::string& id, double w) {
-    BlendComponent c;
-    c.phosphor = PhosphorLibrary::builtin().find(id);
-    c.label = c.phosphor.id;
-    c.mass_fraction = w;
-    return c;
-}
 
 }  // namespace
 
