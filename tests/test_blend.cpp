@@ -476,6 +476,18 @@ TEST_CASE("blend: leaked pump with absorbed fraction below one") {
     CHECK_THROWS_AS((void)evaluate_blend(in), Error);
 }
 
+TEST_CASE("blend: an absorbed fraction is refused for a mercury discharge (the coating model gives the absorbed UV)") {
+    // One mechanism for the absorbed UV of a tube: the coating model (README "Blend physics",
+    // coating weight); an absorbed fraction beside it would be ignored or counted twice.
+    BlendInput in;
+    in.name = "tri-band";
+    in.excitation = Excitation::mercury();
+    in.components = {component("YOX", 0.4), component("LAP", 0.45), component("BAM", 0.15)};
+    CHECK_NOTHROW((void)evaluate_blend(in));
+    in.absorbed_fraction = 0.9;
+    CHECK_THROWS_WITH_AS((void)evaluate_blend(in), doctest::Contains("LED pump only"), Error);
+}
+
 TEST_CASE("blend: impossible blends are refused") {
     // No components, non-positive or NaN fractions, no QE or absorption for the excitation: nothing
     // can be predicted (common practice, no source).

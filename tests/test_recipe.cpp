@@ -324,6 +324,10 @@ TEST_CASE("recipe: refusals name the file, the line and the key") {
                        "mass_fraction = 0.5\n",
                        2, "coating_weight_mg_per_cm2", "only applies to a mercury discharge");
     }
+    SUBCASE("absorbed_fraction for a mercury discharge (the coating model gives the absorbed UV)") {
+        expect_refused("name = \"x\"\nexcitation_nm = 253.7\nabsorbed_fraction = 0.9\n\n[[component]]\nphosphor = \"YOX\"\nmass_fraction = 0.5\n", 3,
+                       "absorbed_fraction", "LED pump only");
+    }
     SUBCASE("excitation in micrometres") {
         expect_refused("name = \"x\"\nexcitation_nm = 0.2537\n\n[[component]]\nphosphor = \"YOX\"\nmass_fraction = 0.5\n", 2,
                        "excitation_nm", "micrometres");

@@ -73,10 +73,15 @@ CoatingResult blend_coating(const BlendInput& in, double weight) {
     r.line_escape = o.line_escape;
     r.uv365_escape = o.uv365_escape;
     r.conversion = o.conversion();
-    r.optimum_weight_mg_per_cm2 = optimum_coating_weight(grains);
-    r.optimum_conversion = coating_optics(grains, r.optimum_weight_mg_per_cm2).conversion();
     r.uv_185nm_fraction = in.uv_185nm_fraction.value_or(mercury_uv_lines().photon_fraction_185nm);
     return r;
+}
+
+void add_coating_optimum(const BlendInput& in, CoatingResult& coating) {
+    if (!coating.modelled) return;
+    const std::vector<CoatingGrain> grains = coating_grains(in);
+    coating.optimum_weight_mg_per_cm2 = optimum_coating_weight(grains);
+    coating.optimum_conversion = coating_optics(grains, coating.optimum_weight_mg_per_cm2).conversion();
 }
 
 double visible_power(const Spectrum& s) {
@@ -86,8 +91,8 @@ double visible_power(const Spectrum& s) {
     return p;
 }
 
-Spectrum emission_for_excitation(const Phosphor& p, const Excitation& e, double shift_nm) {
-    Spectrum n = emission_photons(p, shift_nm);
+Spectrum emission_for_excitation(const Phosphor& p, const Excitation& e, double shift_nm, double width_scale) {
+    Spectrum n = emission_photons(p, shift_nm, width_scale);
     double short_side = 0;
     for (std::size_t i = 0; i < n.values.size(); ++i) {
         if (n.first_nm + static_cast<double>(i) > e.peak_nm) break;
@@ -136,6 +141,11 @@ BlendBasis blend_basis(const BlendInput& in) {
     double inv_lambda_exc = mean_inverse_wavelength(e);
     Spectrum leak = emission_grid("leak");
     if (e.kind == Excitation::Kind::mercury) {
+        // The coating model decides how much UV the phosphors absorb and how much is lost.
+        if (in.absorbed_fraction != 1.0)
+            throw Error(fmt::format("an absorbed fraction ({:g}) applies to an LED pump only: for a mercury discharge the coating model "
+                                    "gives the absorbed UV (set the coating weight instead)",
+                                    in.absorbed_fraction));
         b.lamp_type = in.lamp_type ? *in.lamp_type : infer_lamp_type(in.components);
         const MercuryLineSet& set = mercury_line_set(b.lamp_type);
         b.mercury_line_fraction = in.mercury_line_fraction.value_or(set.visible_fraction);
@@ -250,7 +260,11 @@ std::vector<double> photon_shares(const BlendBasis& b, const std::vector<double>
     return s;
 }
 
-BlendResult evaluate_blend(const BlendInput& in, const AssessOptions& options) {
+namespace {
+
+// evaluate_blend without the coating's optimum weight (a Brent search of about 30 coating
+// evaluations), which depends on the fractions but not on the weight: a sweep finds it once.
+BlendResult evaluate_blend_at_weight(const BlendInput& in, const AssessOptions& options) {
     if (in.components.empty()) throw Error(fmt::format("blend '{}' has no components", in.name));
     double mass_total = 0;
     for (const auto& c : in.components) {
@@ -322,14 +336,28 @@ BlendResult evaluate_blend(const BlendInput& in, const AssessOptions& options) {
     return r;
 }
 
+}  // namespace
+
+BlendResult evaluate_blend(const BlendInput& in, const AssessOptions& options) {
+    BlendResult r = evaluate_blend_at_weight(in, options);
+    add_coating_optimum(in, r.coating);
+    return r;
+}
+
 std::vector<BlendResult> coating_weight_sweep(const BlendInput& input, const std::vector<double>& weights, const AssessOptions& options) {
     if (input.excitation.kind != Excitation::Kind::mercury) throw Error("a coating-weight sweep applies to a mercury discharge only");
     std::vector<BlendResult> out;
     BlendInput in = input;
     for (double w : weights) {
         in.coating_weight_mg_per_cm2 = w;
-        out.push_back(evaluate_blend(in, options));
+        out.push_back(evaluate_blend_at_weight(in, options));
         if (!out.back().coating.modelled) throw Error("the coating model needs every component's density and d50");
+    }
+    CoatingResult optimum = out.front().coating;
+    add_coating_optimum(input, optimum);
+    for (auto& r : out) {
+        r.coating.optimum_weight_mg_per_cm2 = optimum.optimum_weight_mg_per_cm2;
+        r.coating.optimum_conversion = optimum.optimum_conversion;
     }
     return out;
 }

@@ -141,8 +141,12 @@ struct BlendBasis {
 // per unit mass differ by tens of per cent, and only the line fraction depends on them).
 BlendBasis blend_basis(const BlendInput& input);
 // The coating model for a mercury-discharge blend at the given coating weight and the input's
-// mass fractions; `modelled` false for an LED pump or without grain data.
+// mass fractions; `modelled` false for an LED pump or without grain data. The optimum weight is
+// left at 0: add_coating_optimum finds it (evaluate_blend does, for its report).
 CoatingResult blend_coating(const BlendInput& input, double weight_mg_per_cm2);
+// Fills the coating's optimum weight and its conversion for the input's mass fractions (Brent's
+// search, coating.hpp); nothing when the coating is not modelled.
+void add_coating_optimum(const BlendInput& input, CoatingResult& coating);
 // s_i = w_i g_i / sum_j w_j g_j for normalised mass fractions w; throws Error when nothing absorbs.
 std::vector<double> photon_shares(const BlendBasis& basis, const std::vector<double>& mass_fractions);
 
@@ -158,7 +162,7 @@ std::vector<BlendResult> coating_weight_sweep(const BlendInput& input, const std
 // The phosphor's photon emission for this excitation: the Stokes check and the removal of the
 // model tail at shorter wavelengths than the excitation. Throws Error when more than 1 % of the
 // emitted photons would lie on the short side.
-Spectrum emission_for_excitation(const Phosphor& p, const Excitation& e, double shift_nm = 0.0);
+Spectrum emission_for_excitation(const Phosphor& p, const Excitation& e, double shift_nm = 0.0, double width_scale = 1.0);
 
 // Visible mercury lines (404.7, 435.8, 546.1 nm and the 577.0/579.1 nm pair, split 1:1) with the
 // given relative powers per group, scaled to `power` in total; each line shared between the two

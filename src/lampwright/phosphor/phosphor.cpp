@@ -29,10 +29,11 @@ void add_normalised(Spectrum& total, const std::vector<double>& shape, double we
 
 // A 4f-5d band: Gaussian in wavenumber whose power-per-nm maximum falls on peak_nm
 // (data/phosphors/README.md gives the derivation).
-std::vector<double> band_photons_per_nm(const EmissionBand& b, double shift_nm) {
+std::vector<double> band_photons_per_nm(const EmissionBand& b, double shift_nm, double width_scale) {
     const double peak = b.peak_nm + shift_nm;
+    const double fwhm = b.fwhm_nm * width_scale;
     const double nu_p = 1e7 / peak;
-    const double dnu = 1e7 / (peak - b.fwhm_nm / 2) - 1e7 / (peak + b.fwhm_nm / 2);
+    const double dnu = 1e7 / (peak - fwhm / 2) - 1e7 / (peak + fwhm / 2);
     const double sigma = dnu / kFwhmToSigma;
     const double nu0 = nu_p - 3 * sigma * sigma / nu_p;
     std::vector<double> out;
@@ -97,7 +98,7 @@ Spectrum power_from_photons(const Spectrum& photons) {
     return p;
 }
 
-Spectrum emission_photons(const Phosphor& p, double shift_nm) {
+Spectrum emission_photons(const Phosphor& p, double shift_nm, double width_scale) {
     if (p.emission_model == "measured") {
         Spectrum n = photons_from_power(p.measured_power);
         n.name = p.id;
@@ -105,7 +106,7 @@ Spectrum emission_photons(const Phosphor& p, double shift_nm) {
     }
     Spectrum out = emission_grid(p.id);
     if (p.emission_model == "bands") {
-        for (const auto& b : p.bands) add_normalised(out, band_photons_per_nm(b, shift_nm), b.weight);
+        for (const auto& b : p.bands) add_normalised(out, band_photons_per_nm(b, shift_nm, width_scale), b.weight);
     } else if (p.emission_model == "lines") {
         for (const auto& l : p.lines)
             add_normalised(out, line_photons_per_nm(l.nm + shift_nm, l.fwhm_nm > 0 ? l.fwhm_nm : p.line_fwhm_nm), l.weight);

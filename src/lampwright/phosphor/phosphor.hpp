@@ -67,8 +67,9 @@ struct Phosphor {
 };
 
 // Emitted photon distribution on the emission grid, summing to one photon. `shift_nm` moves
-// the model bands and lines (thermal peak shift); measured spectra are converted P(l) -> P(l) l.
-Spectrum emission_photons(const Phosphor& p, double shift_nm = 0.0);
+// the model bands and lines (thermal peak shift); `width_scale` multiplies every model band's FWHM
+// (f-f lines keep theirs); measured spectra are converted P(l) -> P(l) l and neither moves them.
+Spectrum emission_photons(const Phosphor& p, double shift_nm = 0.0, double width_scale = 1.0);
 
 // Relative absorption at a wavelength (linear between the listed points; nullopt outside them).
 std::optional<double> absorption_at(const Phosphor& p, double nm);

@@ -110,6 +110,10 @@ Recipe recipe_from_toml(const TomlDoc& doc, const std::vector<std::string>& extr
         rec.blend.uv_185nm_fraction = *f;
     }
     if (auto f = doc.number(r, "absorbed_fraction", "")) {
+        if (rec.blend.excitation.kind == Excitation::Kind::mercury)
+            doc.fail(r.get("absorbed_fraction"), "absorbed_fraction",
+                     "applies to an LED pump only: for a mercury discharge the coating model gives the absorbed UV (set "
+                     "coating_weight_mg_per_cm2 instead)");
         if (!(*f > 0 && *f <= 1)) doc.fail(r.get("absorbed_fraction"), "absorbed_fraction", fmt::format("must lie in (0, 1], not {:g}", *f));
         rec.blend.absorbed_fraction = *f;
     }
