@@ -96,7 +96,7 @@ TEST_CASE("unmix cli: without --components the tri-band blend's three phosphors 
     CHECK(got == std::vector<std::string>{"BaMgAl10O17:Eu2+", "LaPO4:Ce3+,Tb3+", "Y2O3:Eu3+"});
     CHECK(cell(h, row, "c4_id").empty());
     CHECK(cell(h, row, "c4_mass_fraction").empty());
-    CHECK(h.back() == "c4_shift_nm");
+    CHECK(h.back() == "c4_width_change");
     CHECK(row.size() == h.size());
     const auto text = run_cli_args({"unmix", f.spectrum});
     REQUIRE(text.exit_code == 0);
@@ -227,4 +227,31 @@ TEST_CASE("unmix cli: an unknown phosphor id, a spectrum off a uniform grid and 
     CHECK(led.err.find("--pump-fwhm") != std::string::npos);
     const auto gap = run_cli_args({"unmix", f.spectrum, "--excitation", "300"});
     CHECK(gap.exit_code == 2);
+}
+
+TEST_CASE("unmix cli: --width-pct fits each band emitter's width (CSV c<i>_width_change, JSON settings); beyond 0-30 % it is refused") {
+    // Source of the expectation: the forward model's own blend (blend --spectrum-out), whose bands
+    // are the library's: the width search must find no change there (common practice, no source).
+    const TempDir dir;
+    const Forward f = forward(dir, "triband_4000K.toml");
+    const auto r = run_cli_args({"unmix", f.spectrum, "--recipe", lwtest::example_recipe("triband_4000K.toml"), "--width-pct", "10",
+                                 "--format", "csv"});
+    REQUIRE(r.exit_code == 0);
+    const auto l = lines_of(r.out);
+    REQUIRE(l.size() == 2);
+    const auto h = csv_cells(l[0]), row = csv_cells(l[1]);
+    for (const char* k : {"c1_width_change", "c2_width_change", "c3_width_change"}) {
+        CAPTURE(k);
+        CHECK(std::abs(std::stod(cell(h, row, k))) < 1e-3);
+    }
+    const auto j = run_cli_args({"unmix", f.spectrum, "--recipe", lwtest::example_recipe("triband_4000K.toml"), "--width-pct", "10",
+                                 "--format", "json"});
+    REQUIRE(j.exit_code == 0);
+    CHECK(nlohmann::json::parse(j.out)["settings"]["max_width_change"].get<double>() == doctest::Approx(0.1));
+    const auto text = run_cli_args({"unmix", f.spectrum, "--recipe", lwtest::example_recipe("triband_4000K.toml"), "--width-pct", "10"});
+    CHECK(text.out.find("FWHM could change by up to 10 %") != std::string::npos);
+    const auto wide = run_cli_args({"unmix", f.spectrum, "--width-pct", "40"});
+    CHECK(wide.exit_code == 2);
+    CHECK(wide.err.find("--width-pct") != std::string::npos);
+    CHECK(wide.err.find("30") != std::string::npos);
 }

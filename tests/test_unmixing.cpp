@@ -182,6 +182,39 @@ TEST_CASE("unmix: the shift search finds a band emitter moved by 2 nm and recove
     }
 }
 
+TEST_CASE("unmix: the width search finds a band emitter 6 % wider, with a 1.5 nm shift, and recovers the fractions") {
+    // Source: the tri-band example through evaluate_blend with the BAM band's FWHM times 1.06 and
+    // its peak +1.5 nm (another lot, or a hotter lamp: bands broaden with temperature, common
+    // practice, no source); unmixed against the library's BAM with --shift-nm 3 --width-pct 10.
+    const Recipe r = load_recipe(lwtest::example_recipe("triband_4000K.toml"));
+    BlendInput moved = r.blend;
+    for (auto& c : moved.components)
+        if (c.phosphor.emission_model == "bands")
+            for (auto& b : c.phosphor.bands) b.fwhm_nm *= 1.06, b.peak_nm += 1.5;
+    const BlendResult truth = evaluate_blend(moved);
+    const SampledSpectrum m = as_table(truth.spectrum, 1);
+    BlendUnmixingOptions shift_only;
+    shift_only.max_shift_nm = 3;
+    BlendUnmixingOptions both = shift_only;
+    both.max_width_change = 0.10;
+    const BlendUnmixing a = unmix_blend(m, r.blend.components, shift_only);
+    const BlendUnmixing b = unmix_blend(m, r.blend.components, both);
+    MESSAGE("residual with shift only ", a.relative_residual, ", with width too ", b.relative_residual);
+    CHECK(a.relative_residual > 1e-3);
+    CHECK(b.relative_residual < 1e-4);
+    for (std::size_t i = 0; i < b.components.size(); ++i) {
+        const auto& c = b.components[i];
+        CAPTURE(c.id);
+        if (c.band_emitter) {
+            CHECK(c.width_change == doctest::Approx(0.06).epsilon(0.02));
+            CHECK(std::abs(c.shift_nm - 1.5) < 0.02);
+        } else {
+            CHECK(c.width_change == 0.0);
+        }
+        CHECK(std::abs(c.mass_fraction - truth.components[i].mass_fraction) <= 1e-3);
+    }
+}
+
 TEST_CASE("unmix: a spectrum off a uniform whole-nm grid, or without power, is refused with the problem named") {
     const Recipe r = load_recipe(lwtest::example_recipe("triband_4000K.toml"));
     SampledSpectrum m = as_table(evaluate_blend(r.blend).spectrum, 5);

@@ -43,6 +43,7 @@ is a band-averaged measurement: it is modelled so). See README, "Unmixing a meas
 const NumberRange kExcitationRange{253.7, 470, "nm", false, false, "253.7 for a mercury discharge, or 360-470 for an LED pump"};
 const NumberRange kPumpFwhmRange{0, 60, "nm", true};
 const NumberRange kShiftRange{0, 20, "nm"};
+const NumberRange kWidthRange{0, 30, "%"};
 const NumberRange kBandwidthRange{0, 20, "nm", false, true, "0: the measurement's step"};
 const NumberRange kMaxComponentsRange{1, 6, "components", false, true};
 
@@ -85,7 +86,7 @@ int run_unmix(int argc, char** argv) {
     po::options_description opts(std::string(kUnmixHelp) + kSafetyNotice + "\nOptions");
     std::string format = "text", svg, spectrum_out, recipe_path;
     std::vector<std::string> folders, files, component_lists;
-    double excitation_nm = 0, pump_fwhm = 0, shift_nm = 0;
+    double excitation_nm = 0, pump_fwhm = 0, shift_nm = 0, width_pct = 0;
     int bandwidth = 0, max_components = 4;
     opts.add_options()("help,h", "show this help")("format,f", po::value(&format), "text | csv | json (default text)")
         ("components", po::value(&component_lists), "the phosphors to unmix into, by library id or abbreviation, comma-separated (ids that hold commas are recognised whole); repeatable")
@@ -96,6 +97,7 @@ int run_unmix(int argc, char** argv) {
     add_number_option(opts, "excitation", &excitation_nm, kExcitationRange, "what excites the phosphors (default 253.7, mercury)");
     add_number_option(opts, "pump-fwhm", &pump_fwhm, kPumpFwhmRange, "FWHM of the LED pump band (needed with an LED --excitation)");
     add_number_option(opts, "shift-nm", &shift_nm, kShiftRange, "let each band emitter shift by up to this much (default 0: off)");
+    add_number_option(opts, "width-pct", &width_pct, kWidthRange, "let each band emitter's FWHM change by up to this many per cent (default 0: off)");
     add_number_option(opts, "bandwidth-nm", &bandwidth, kBandwidthRange, "the instrument's bandpass FWHM (default: the table's step)");
     add_number_option(opts, "max-components", &max_components, kMaxComponentsRange, "largest subset tried without --components/--recipe (default 4)");
     po::variables_map vm;
@@ -111,6 +113,7 @@ int run_unmix(int argc, char** argv) {
     BlendUnmixingOptions options;
     options.bandwidth_nm = bandwidth;
     options.max_shift_nm = shift_nm;
+    options.max_width_change = width_pct / 100;
     options.max_components = max_components;
     if (vm.count("excitation")) {
         if (excitation_nm <= 254.0) {
@@ -134,6 +137,7 @@ int run_unmix(int argc, char** argv) {
     UnmixSettings settings;
     settings.max_components = max_components;
     settings.max_shift_nm = shift_nm;
+    settings.max_width_change = width_pct / 100;
     std::vector<BlendComponent> components;
     std::vector<Phosphor> candidates;
     if (!recipe_path.empty()) {

@@ -168,8 +168,8 @@ Spectrum normalised_power(Spectrum s) {
 
 // A component's emission as power of unit total: the photon distribution the forward model uses
 // (emission_for_excitation: Stokes check, no photons above the exciting energy), P(l) ~ N(l) / l.
-Spectrum component_power(const Phosphor& ph, const std::string& label, const Excitation& e, double shift_nm) {
-    const Spectrum n = emission_for_excitation(ph, e, shift_nm);
+Spectrum component_power(const Phosphor& ph, const std::string& label, const Excitation& e, double shift_nm, double width_scale = 1.0) {
+    const Spectrum n = emission_for_excitation(ph, e, shift_nm, width_scale);
     Spectrum pw = emission_grid(label);
     for (std::size_t k = 0; k < n.values.size(); ++k) pw.values[k] = n.values[k] / (n.first_nm + static_cast<double>(k));
     return normalised_power(std::move(pw));
@@ -219,21 +219,37 @@ double bic_of(double rss, std::size_t n, std::size_t parameters) {
 
 bool is_band_emitter(const Phosphor& ph) { return ph.emission_model == "bands"; }
 
-// The shifts of the band emitters that minimise the residual: BOBYQA (Powell 2009, NLopt) within
-// +-max_shift, the amplitudes by NNLS at each trial.
-std::vector<double> search_shifts(const std::vector<BlendComponent>& comps, const std::vector<Column>& fixed, const std::vector<Column>& discharge,
-                                  const Prepared& p, const BlendUnmixingOptions& o) {
+// How a band emitter's model may move: peak shift and relative FWHM change.
+struct BandFreedom {
+    double shift_nm = 0, width_change = 0;
+};
+
+// The shifts and width changes of the band emitters that minimise the residual: BOBYQA (Powell
+// 2009, NLopt) within +-max_shift and +-max_width_change, the amplitudes by NNLS at each trial.
+std::vector<BandFreedom> search_band_freedom(const std::vector<BlendComponent>& comps, const std::vector<Column>& fixed,
+                                             const std::vector<Column>& discharge, const Prepared& p, const BlendUnmixingOptions& o) {
     std::vector<std::size_t> band;
     for (std::size_t i = 0; i < comps.size(); ++i)
         if (is_band_emitter(comps[i].phosphor)) band.push_back(i);
-    std::vector<double> shifts(comps.size(), 0.0);
-    if (band.empty() || !(o.max_shift_nm > 0)) return shifts;
+    std::vector<BandFreedom> out(comps.size());
+    const bool shift = o.max_shift_nm > 0, width = o.max_width_change > 0;
+    if (band.empty() || (!shift && !width)) return out;
+    // Parameters per band emitter: [shift][width change], scaled so that both span -1..1.
+    const std::size_t per = (shift ? 1u : 0u) + (width ? 1u : 0u);
+    auto freedom_of = [&](const std::vector<double>& z, std::size_t k) {
+        BandFreedom f;
+        std::size_t j = k * per;
+        if (shift) f.shift_nm = z[j++] * o.max_shift_nm;
+        if (width) f.width_change = z[j] * o.max_width_change;
+        return f;
+    };
     std::vector<Column> cols = fixed;
     const std::function<double(const std::vector<double>&)> rss_at = [&](const std::vector<double>& z) {
         try {
             for (std::size_t k = 0; k < band.size(); ++k) {
                 const auto& c = comps[band[k]];
-                cols[band[k]] = make_column(component_power(c.phosphor, c.label, o.excitation, z[k]), p);
+                const BandFreedom f = freedom_of(z, k);
+                cols[band[k]] = make_column(component_power(c.phosphor, c.label, o.excitation, f.shift_nm, 1 + f.width_change), p);
             }
         } catch (const Error&) {
             return kRefusedShift;
@@ -243,22 +259,22 @@ std::vector<double> search_shifts(const std::vector<BlendComponent>& comps, cons
         for (const auto& c : discharge) all.push_back(&c);
         return solve(all, p).rss;
     };
-    const auto n = static_cast<unsigned>(band.size());
+    const auto n = static_cast<unsigned>(band.size() * per);
     nlopt::opt opt(nlopt::LN_BOBYQA, n);
-    opt.set_lower_bounds(std::vector<double>(n, -o.max_shift_nm));
-    opt.set_upper_bounds(std::vector<double>(n, o.max_shift_nm));
-    opt.set_xtol_abs(1e-3);
+    opt.set_lower_bounds(std::vector<double>(n, -1.0));
+    opt.set_upper_bounds(std::vector<double>(n, 1.0));
+    opt.set_xtol_abs(1e-4);
     opt.set_maxeval(static_cast<int>(200 * n));
-    opt.set_initial_step(std::min(1.0, o.max_shift_nm / 2));
+    opt.set_initial_step(0.25);
     using Objective = std::function<double(const std::vector<double>&)>;
     struct Context {
         const Objective* f;
-        std::size_t n_band;
-    } ctx{&rss_at, band.size()};
+        std::size_t n;
+    } ctx{&rss_at, n};
     opt.set_min_objective(
         [](unsigned, const double* z, double*, void* data) {
             const auto& c = *static_cast<const Context*>(data);
-            return (*c.f)(std::vector<double>(z, z + c.n_band));
+            return (*c.f)(std::vector<double>(z, z + c.n));
         },
         &ctx);
     std::vector<double> z(n, 0.0);
@@ -271,13 +287,13 @@ std::vector<double> search_shifts(const std::vector<BlendComponent>& comps, cons
     } catch (const nlopt::roundoff_limited&) {
         if (rss_at(z) < best) z0 = z;
     }
-    for (std::size_t k = 0; k < band.size(); ++k) shifts[band[k]] = z0[k];
-    return shifts;
+    for (std::size_t k = 0; k < band.size(); ++k) out[band[k]] = freedom_of(z0, k);
+    return out;
 }
 
-// The result for the components at the given shifts: amplitudes, the model inverse, the
+// The result for the components at the given shifts and widths: amplitudes, the model inverse, the
 // covariance and the assessments.
-BlendUnmixing finish(const SampledSpectrum& m, const Prepared& p, const std::vector<BlendComponent>& comps, const std::vector<double>& shifts,
+BlendUnmixing finish(const SampledSpectrum& m, const Prepared& p, const std::vector<BlendComponent>& comps, const std::vector<BandFreedom>& freedom,
                      const BlendUnmixingOptions& o) {
     BlendInput in;
     in.name = m.name;
@@ -286,7 +302,7 @@ BlendUnmixing finish(const SampledSpectrum& m, const Prepared& p, const std::vec
     const BlendBasis basis = blend_basis(in);
 
     std::vector<Column> cols;
-    for (std::size_t i = 0; i < comps.size(); ++i) cols.push_back(make_column(component_power(comps[i].phosphor, comps[i].label, o.excitation, shifts[i]), p));
+    for (std::size_t i = 0; i < comps.size(); ++i) cols.push_back(make_column(component_power(comps[i].phosphor, comps[i].label, o.excitation, freedom[i].shift_nm, 1 + freedom[i].width_change), p));
     const std::vector<Column> discharge = discharge_columns(o.excitation, p);
     std::vector<const Column*> all;
     for (const auto& c : cols) all.push_back(&c);
@@ -374,7 +390,8 @@ BlendUnmixing finish(const SampledSpectrum& m, const Prepared& p, const std::vec
         UnmixedComponent c;
         c.id = comps[i].label;
         c.band_emitter = is_band_emitter(comps[i].phosphor);
-        c.shift_nm = shifts[i];
+        c.shift_nm = freedom[i].shift_nm;
+        c.width_change = freedom[i].width_change;
         c.power = s.x(static_cast<Eigen::Index>(i)) * p.b_norm;
         c.radiant_share = s.x(static_cast<Eigen::Index>(i)) / p_total;
         c.emitted_photon_share = photons[i] / n_total;
@@ -424,13 +441,13 @@ std::vector<Phosphor> unmixing_candidates(const std::vector<Phosphor>& library, 
 BlendUnmixing unmix_blend(const SampledSpectrum& m, const std::vector<BlendComponent>& comps, const BlendUnmixingOptions& o) {
     if (comps.empty()) throw Error(fmt::format("spectrum '{}': no components to unmix it into", m.name));
     const Prepared p = prepare(m, o.bandwidth_nm);
-    std::vector<double> shifts(comps.size(), 0.0);
-    if (o.max_shift_nm > 0) {
+    std::vector<BandFreedom> freedom(comps.size());
+    if (o.max_shift_nm > 0 || o.max_width_change > 0) {
         std::vector<Column> cols;
         for (const auto& c : comps) cols.push_back(make_column(component_power(c.phosphor, c.label, o.excitation, 0.0), p));
-        shifts = search_shifts(comps, cols, discharge_columns(o.excitation, p), p, o);
+        freedom = search_band_freedom(comps, cols, discharge_columns(o.excitation, p), p, o);
     }
-    return finish(m, p, comps, shifts, o);
+    return finish(m, p, comps, freedom, o);
 }
 
 BlendUnmixing unmix_blend_choosing(const SampledSpectrum& m, const std::vector<Phosphor>& candidates, const BlendUnmixingOptions& o) {

@@ -55,6 +55,10 @@ struct BlendUnmixingOptions {
     // search, Powell 2009, NNLS inside); line emitters (Eu3+, Tb3+ f-f lines) and measured spectra
     // do not move. 0: no shift.
     double max_shift_nm = 0;
+    // Each band emitter's FWHM (every band of it alike) may change by up to this fraction, in the
+    // same search: band widths vary with the host's composition and the temperature (the
+    // configurational-coordinate model, Blasse and Grabmaier 1994 ch. 2, from memory). 0: fixed.
+    double max_width_change = 0;
     // Subset choice (unmix_blend_choosing): every subset of 1 to this many candidates is tried.
     int max_components = 4;
 };
@@ -63,6 +67,7 @@ struct UnmixedComponent {
     std::string id;                 // the component's label (library id)
     bool band_emitter = false;      // may shift (emission model "bands")
     double shift_nm = 0;            // as fitted (0 without --shift-nm)
+    double width_change = 0;        // relative FWHM change as fitted (0 without --width-pct)
     double power = 0;               // fitted radiant power, in the measurement's units x nm
     double radiant_share = 0;       // share of the phosphors' radiant power
     double emitted_photon_share = 0;  // share of the photons the phosphors emit

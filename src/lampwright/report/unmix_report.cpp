@@ -37,7 +37,7 @@ std::vector<std::string> unmix_columns(std::size_t groups) {
     std::vector<std::string> c{"name", "residual", "fit_x", "fit_y", "fit_Ra", "fit_R9", "x", "y", "Ra", "R9",
                                "discharge_line_fraction", "fit_cct_K", "cct_K", "components", "bic"};
     for (std::size_t i = 1; i <= groups; ++i)
-        for (const char* k : {"id", "mass_fraction", "photon_share", "mass_fraction_sd", "radiant_share", "emitted_photon_share", "shift_nm"})
+        for (const char* k : {"id", "mass_fraction", "photon_share", "mass_fraction_sd", "radiant_share", "emitted_photon_share", "shift_nm", "width_change"})
             c.push_back(fmt::format("c{}_{}", i, k));
     return c;
 }
@@ -62,7 +62,7 @@ std::vector<std::string> unmix_values(const BlendUnmixing& u, std::size_t groups
                                format_fixed(u.bic, 2)};
     for (std::size_t i = 0; i < groups; ++i) {
         if (i >= u.components.size()) {
-            v.insert(v.end(), 7, "");
+            v.insert(v.end(), 8, "");
             continue;
         }
         const auto& c = u.components[i];
@@ -73,6 +73,7 @@ std::vector<std::string> unmix_values(const BlendUnmixing& u, std::size_t groups
         v.push_back(format_fixed(c.radiant_share, 6));
         v.push_back(format_fixed(c.emitted_photon_share, 6));
         v.push_back(format_fixed(c.shift_nm, 2));
+        v.push_back(format_fixed(c.width_change, 4));
     }
     return v;
 }
@@ -122,6 +123,7 @@ nlohmann::ordered_json unmix_result_json(const BlendUnmixing& u) {
                          {"power", c.power},
                          {"band_emitter", c.band_emitter},
                          {"shift_nm", c.shift_nm},
+                         {"width_change", c.width_change},
                          {"quantum_efficiency", c.quantum_efficiency},
                          {"share_weight", c.share_weight}});
     j["warnings"] = unmix_warnings(u);
@@ -135,7 +137,8 @@ nlohmann::ordered_json unmix_json(const std::vector<BlendUnmixing>& results, con
     j["settings"] = {{"excitation", s.excitation},
                      {"components_from", s.components_from},
                      {"max_components", s.max_components},
-                     {"max_shift_nm", s.max_shift_nm}};
+                     {"max_shift_nm", s.max_shift_nm},
+                     {"max_width_change", s.max_width_change}};
     j["method"] = {{"solver", "non-negative least squares (Lawson and Hanson 1974) over the 380-780 nm points, each model spectrum seen through the measurement's triangular bandpass"},
                    {"selection", "smallest BIC = n ln(RSS/n) + p ln(n) (Schwarz 1978) over every subset of 1 to max_components candidates"},
                    {"uncertainty", kUnmixUncertaintyMethod},
@@ -148,13 +151,16 @@ nlohmann::ordered_json unmix_json(const std::vector<BlendUnmixing>& results, con
 std::string unmix_text(const BlendUnmixing& u) {
     std::string o = fmt::format("{}   ({}; {} nm bandpass)\n", u.name, u.excitation.describe(), u.bandwidth_nm);
     o += fmt::format("  components: {}\n", u.selection == "given" ? std::string("as given") : u.selection);
-    o += fmt::format("  {:<34} {:>7} {:>7} {:>9} {:>9} {:>7} {:>8}\n", "component", "mass %", "± sd %", "absorb.%", "emitted%", "power%",
-                     "shift nm");
+    bool widths = false;
+    for (const auto& c : u.components) widths = widths || c.width_change != 0;
+    o += fmt::format("  {:<34} {:>7} {:>7} {:>9} {:>9} {:>7} {:>8}{}\n", "component", "mass %", "± sd %", "absorb.%", "emitted%", "power%",
+                     "shift nm", widths ? "  width %" : "");
     for (const auto& c : u.components)
-        o += fmt::format("  {:<34} {:>7.2f} {:>7} {:>9.2f} {:>9.2f} {:>7.2f} {:>8}\n", c.id, 100 * c.mass_fraction,
+        o += fmt::format("  {:<34} {:>7.2f} {:>7} {:>9.2f} {:>9.2f} {:>7.2f} {:>8}{}\n", c.id, 100 * c.mass_fraction,
                          std::isfinite(c.mass_fraction_sd) ? format_fixed(100 * c.mass_fraction_sd, 2) : std::string("at 0"),
                          100 * c.photon_share, 100 * c.emitted_photon_share, 100 * c.radiant_share,
-                         c.band_emitter ? format_signed(c.shift_nm, 2) : std::string("lines"));
+                         c.band_emitter ? format_signed(c.shift_nm, 2) : std::string("lines"),
+                         !widths ? std::string() : fmt::format(" {:>8}", c.band_emitter ? format_signed(100 * c.width_change, 1) : std::string("lines")));
     if (is_mercury(u)) {
         const auto& q = u.mercury_power;
         const double ref = q[1] > 0 ? q[1] : 1.0;
@@ -189,6 +195,9 @@ std::string unmix_method_text(const UnmixSettings& s) {
                             s.max_components);
     if (s.max_shift_nm > 0)
         text += fmt::format(" Band emitters could shift by up to {:g} nm (BOBYQA, NNLS inside); line emitters do not shift.", s.max_shift_nm);
+    if (s.max_width_change > 0)
+        text += fmt::format(" Each band emitter's FWHM could change by up to {:g} % (in the same search); line widths are fixed.",
+                            100 * s.max_width_change);
     return wrap_text(text, 100);
 }
 

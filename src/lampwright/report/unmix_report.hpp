@@ -21,6 +21,7 @@ struct UnmixSettings {
     std::string components_from;  // "--components", "the recipe <path>" or "chosen"
     int max_components = 4;
     double max_shift_nm = 0;
+    double max_width_change = 0;  // relative (0.1 = 10 %)
 };
 
 // How the mass-fraction sd is obtained, in words (text and JSON).
