@@ -307,6 +307,26 @@ TEST_CASE("optimiser: min_fraction and max_fraction from the recipe") {
     }
 }
 
+TEST_CASE("optimiser: a component held at a fixed fraction (min = max, not a 6-decimal number) is feasible, within the rounding") {
+    // A fixed component is how a base coat or a reclaimed powder enters a fit (common practice, no
+    // source). The result's fractions are rounded to 6 decimals, so 0.1234567 comes back as
+    // 0.123457; that must not count as breaking the maximum (before the fix it did, and no fit
+    // with a fixed component was ever reported feasible).
+    FitProblem p;
+    p.blend = load_recipe(example_recipe("multiband_5000K.toml")).blend;
+    REQUIRE(p.blend.components.size() == 4);
+    p.min_fraction = {0, 0, 0, 0.1234567};
+    p.max_fraction = {1, 1, 1, 0.1234567};
+    p.target = target_cct(5000, 0.0);
+    const FitResult r = solve(p);
+    CHECK(r.feasible);
+    CHECK(std::abs(r.mass_fractions[3] - 0.1234567) <= 5e-7);
+    for (const auto& c : r.constraints) {
+        CAPTURE(c.text);
+        CHECK(c.satisfied);
+    }
+}
+
 TEST_CASE("optimiser: fraction sensitivity") {
     // Euler's theorem for a function unchanged when every fraction is scaled (the light depends
     // on w only through w / sum w): sum_i w_i dF/dw_i = 0. Common practice, no source.

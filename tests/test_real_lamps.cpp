@@ -117,10 +117,11 @@ TEST_CASE("real lamps: the YOX/LAP/BAM blend fitted to the FL11 chromaticity pre
     MESSAGE("model Ra ", a.rendering->ra, " R9 ", a.rendering->ri[8], "; FL11 Ra ", fl11.rendering->ra, " R9 ", fl11.rendering->ri[8]);
     CHECK(f.result.lamp_type == "tri-band");
     CHECK(std::abs(a.rendering->ra - fl11.rendering->ra) <= 2.0);
-    // Aim: R9 within 10. Reached (2026-12-03): model 39.0 against FL11's 25.2 (+13.8); the
-    // derivation fitted FL10-FL12 with a halophosphate base coat, which this three-phosphor
-    // blend lacks. Held at 15 until that is modelled (README, "How far the model is from real
-    // lamps"); before the derived data the gap was 50-90.
+    // Aim: R9 within 10. Reached by the three phosphors alone (2026-12-03): model 39.0 against
+    // FL11's 25.2 (+13.8): the derivation fitted FL10-FL12 with a halophosphate base coat, which
+    // this three-phosphor blend lacks (the next test adds it and meets the aim). Re-deriving the
+    // three without a base coat (tried 2026-12-04) gave +10.7 but tri-band residuals of 0.04-0.05
+    // instead of 0.03. Held at 15; before the derived data the gap was 50-90.
     CHECK(std::abs(a.rendering->ri[8] - fl11.rendering->ri[8]) <= 15.0);
     // The red tail: FL11 has about 7 % of its 380-780 nm power above 640 nm (the Eu3+ 5D0-7F3,4
     // lines and the Tb3+ 5D4-7F1,0 lines); the model must show it too (within a factor 1.5).
@@ -138,6 +139,47 @@ TEST_CASE("real lamps: the YOX/LAP/BAM blend fitted to the FL11 chromaticity pre
     MESSAGE("share above 640 nm: FL11 ", measured_red, ", model ", model_red);
     CHECK(model_red >= measured_red / 1.5);
     CHECK(model_red <= measured_red * 1.5);
+}
+
+TEST_CASE("real lamps: YOX/LAP/BAM over a halophosphate base coat (its share from FL10 and FL12) fitted to FL11's chromaticity predicts Ra within 2, R9 within 10") {
+    // CIE 15:2004 Table T.6. The derivation of the tri-band phosphors (tools/derive_lamp_phosphors.cpp)
+    // took FL10-FL12 to be rare-earth coats over a halophosphate base coat (common practice, no
+    // source): the weak continuum between their lines (500-530 and 555-580 nm, 720-780 nm) is
+    // not in any of the three line and band phosphors. A forward prediction of FL11 built the same
+    // way: the base coat's mass share is the mean that unmixing finds in the two other tri-band
+    // lamps, FL10 and FL12 (FL11 itself is not used), the three rare-earth fractions are fitted
+    // to FL11's x, y alone, and Ra and R9 are then predictions.
+    const std::vector<BlendComponent> four{library_component("Y2O3:Eu3+", 0.35), library_component("LaPO4:Ce3+,Tb3+", 0.45),
+                                           library_component("BaMgAl10O17:Eu2+", 0.20),
+                                           library_component("Ca5(PO4)3(F,Cl):Sb3+,Mn2+ (cool)", 0.10)};
+    double base = 0;
+    for (int k : {10, 12}) {
+        const BlendUnmixing u = unmix_blend(cie_fl_table(k), four);
+        CHECK(u.relative_residual <= 0.05);
+        base += u.components[3].mass_fraction / 2;
+    }
+    MESSAGE("base coat mass share from FL10 and FL12: ", base);
+    CHECK(base > 0.05);  // a base coat is found in both lamps (0.21 and 0.13 measured 2026-12-04)
+    const Assessment fl11 = assess(cie_fl_illuminant(11));
+    REQUIRE(fl11.rendering);
+    FitProblem p;
+    p.blend.name = "FL11-like tri-band over a base coat";
+    p.blend.excitation = Excitation::mercury();
+    p.blend.lamp_type = "tri-band";  // as the derivation treated FL10-FL12 (not inferred from the base coat)
+    p.blend.components = four;
+    p.blend.components[3].mass_fraction = base;
+    p.min_fraction = {0, 0, 0, base};
+    p.max_fraction = {1, 1, 1, base};
+    p.target = target_xy(fl11.xy.x, fl11.xy.y);
+    p.tolerance_uv_prime = 0.0005;
+    const FitResult f = solve(p);
+    REQUIRE(f.feasible);
+    const Assessment& a = f.result.assessment;
+    REQUIRE(a.rendering);
+    MESSAGE("model Ra ", a.rendering->ra, " R9 ", a.rendering->ri[8], "; FL11 Ra ", fl11.rendering->ra, " R9 ", fl11.rendering->ri[8]);
+    // Measured 2026-12-04: base coat 0.206; model Ra 82.45, R9 22.2 against FL11's 82.83 and 25.2.
+    CHECK(std::abs(a.rendering->ra - fl11.rendering->ra) <= 2.0);
+    CHECK(std::abs(a.rendering->ri[8] - fl11.rendering->ri[8]) <= 10.0);
 }
 
 TEST_CASE("real lamps: held-out CIE 15:2018 FL3.x lamps are rebuilt by the library (read in place, skipped when absent)") {

@@ -21,6 +21,7 @@ constexpr double kChromaticityMargin = 0.99;  // solve to 99 % of the tolerance
 constexpr double kIndexMargin = 0.01;         // Ra, R9, LER lower bounds + 0.01
 constexpr double kDropFraction = 1e-5;        // fractions below this are set to zero
 constexpr double kActiveFraction = 1e-4;      // a fraction this close to its limit is active
+constexpr double kFractionRounding = 5e-7;    // a result's fractions are rounded to 6 decimals (tidy)
 constexpr double kPenalty = 1e3;              // objective where CCT or Ra does not exist
 
 double round6(double v) { return std::round(v * 1e6) / 1e6; }
@@ -547,11 +548,14 @@ std::vector<ConstraintReport> check_constraints(const FitProblem& p, const std::
     std::vector<ConstraintReport> out;
     const Limits lim = limits_of(p);
     const Assessment& a = res.assessment;
-    auto upper = [&](std::string name, double value, double limit, double active_margin, std::string text) {
-        out.push_back({std::move(name), value, limit, value <= limit, value > limit - active_margin && value <= limit, std::move(text)});
+    // `rounding`: how far a value computed at its limit may fall past it (0: exact comparisons).
+    auto upper = [&](std::string name, double value, double limit, double active_margin, std::string text, double rounding = 0) {
+        const bool ok = value <= limit + rounding;
+        out.push_back({std::move(name), value, limit, ok, value > limit - active_margin && ok, std::move(text)});
     };
-    auto lower = [&](std::string name, double value, double limit, double active_margin, std::string text) {
-        out.push_back({std::move(name), value, limit, value >= limit, value < limit + active_margin && value >= limit, std::move(text)});
+    auto lower = [&](std::string name, double value, double limit, double active_margin, std::string text, double rounding = 0) {
+        const bool ok = value >= limit - rounding;
+        out.push_back({std::move(name), value, limit, ok, value < limit + active_margin && ok, std::move(text)});
     };
     if (p.target.ellipse) {
         const double st = macadam_steps(*p.target.ellipse, a.xy);
@@ -569,8 +573,12 @@ std::vector<ConstraintReport> check_constraints(const FitProblem& p, const std::
     if (p.min_ler) lower("LER >=", a.ler_lm_per_W, *p.min_ler, 0.05, fmt::format("LER {:.2f} lm/W, limit {:g}", a.ler_lm_per_W, *p.min_ler));
     for (std::size_t i = 0; i < w.size(); ++i) {
         const auto& label = p.blend.components[i].label;
-        lower("fraction >=", w[i], lim.lo[i], kActiveFraction, fmt::format("{}: fraction {:.6f}, minimum {:g}", label, w[i], lim.lo[i]));
-        upper("fraction <=", w[i], lim.hi[i], kActiveFraction, fmt::format("{}: fraction {:.6f}, maximum {:g}", label, w[i], lim.hi[i]));
+        // A fraction held at its limit (min = max: a fixed component) is rounded to 6 decimals in the
+        // result (tidy), so it may land up to half a unit of the 6th decimal past the limit.
+        lower("fraction >=", w[i], lim.lo[i], kActiveFraction, fmt::format("{}: fraction {:.6f}, minimum {:g}", label, w[i], lim.lo[i]),
+              kFractionRounding);
+        upper("fraction <=", w[i], lim.hi[i], kActiveFraction, fmt::format("{}: fraction {:.6f}, maximum {:g}", label, w[i], lim.hi[i]),
+              kFractionRounding);
     }
     return out;
 }
