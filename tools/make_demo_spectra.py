@@ -1,8 +1,10 @@
 #!/usr/bin/env python3
 """Make the invented demo spectra in examples/spectra from the example recipes.
 
-Each file is a blend spectrum from `lampwright blend --spectrum-out`, sampled every 2 nm over
-360-830 nm, scaled to a spectroradiometer-like W/nm level and given 0.3 % Gaussian noise with a
+Each file is a blend spectrum from `lampwright blend --spectrum-out`, seen through a 2 nm
+triangular bandpass (weights 1/4, 1/2, 1/4 on the 1 nm grid, as a spectroradiometer of 2 nm
+bandwidth records it; point sampling would drop the lines on odd wavelengths) and sampled every
+2 nm over 360-830 nm, scaled to a spectroradiometer-like W/nm level and given 0.3 % Gaussian noise with a
 fixed seed. Invented data for the demo only: no real lamp was measured.
 Usage: tools/make_demo_spectra.py [path/to/lampwright]
 """
@@ -31,6 +33,7 @@ for recipe, out, what in demos:
         f.write(f"# Made by tools/make_demo_spectra.py from examples/recipes/{recipe}; no real lamp was measured.\n")
         f.write("wavelength_nm,spectral_power_W_per_nm\n")
         for nm in range(360, 831, 2):
-            v = data[nm] / peak * 0.05 * (1 + rng.gauss(0, 0.003)) + rng.gauss(0, 5e-7)
+            seen = 0.25 * data.get(nm - 1, 0.0) + 0.5 * data[nm] + 0.25 * data.get(nm + 1, 0.0)
+            v = seen / peak * 0.05 * (1 + rng.gauss(0, 0.003)) + rng.gauss(0, 5e-7)
             f.write(f"{nm},{v:.7f}\n")
     print("wrote", out)
