@@ -4,6 +4,7 @@
 #include "lampwright/colour/assessment.hpp"
 #include "lampwright/colour/cie_tables.hpp"
 #include "lampwright/colour/colorimetry.hpp"
+#include "lampwright/core/error.hpp"
 #include "lampwright/core/interpolation.hpp"
 #include "lampwright/design/optimiser.hpp"
 #include "lampwright/design/targets.hpp"
@@ -283,4 +284,22 @@ TEST_CASE("mercury lines: the lamp type is inferred from the coating and its der
     CHECK(own.mercury_source.rfind("fraction: the recipe", 0) == 0);
     in.lamp_type = "sodium";
     CHECK_THROWS_WITH_AS((void)evaluate_blend(in), doctest::Contains("unknown lamp type 'sodium'"), Error);
+    // The family is the phosphor file's `lamp_family`, not its name: a user's halophosphate under
+    // another id counts, and the library's warm blend without the key would not.
+    in.lamp_type.reset();
+    in.mercury_line_fraction.reset();
+    BlendComponent renamed = library_component("Ca5(PO4)3(F,Cl):Sb3+,Mn2+ (warm)", 1.0);
+    renamed.phosphor.id = renamed.label = "line 1 warm-white halophosphate, lot 7";
+    in.components = {renamed};
+    CHECK(evaluate_blend(in).lamp_type == "halophosphate");
+    in.components[0].phosphor.lamp_family.clear();
+    CHECK(evaluate_blend(in).lamp_type == "broadband");
+    const std::string bad = "id = \"X\"\nuse = [\"lamp\"]\nlamp_family = \"tri-phosphor\"\n";
+    CHECK_THROWS_WITH_AS((void)parse_phosphor(bad, "user.toml"), doctest::Contains("lamp_family"), InputError);
+    try {
+        (void)parse_phosphor(bad, "user.toml");
+    } catch (const InputError& e) {
+        CHECK(e.line() == 3);
+        CHECK(e.source() == "user.toml");
+    }
 }

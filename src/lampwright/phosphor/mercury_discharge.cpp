@@ -65,7 +65,7 @@ MercuryUvLines load_uv_lines() {
     return u;
 }
 
-bool is_halophosphate(const Phosphor& p) { return p.id.rfind("Ca5(PO4)3", 0) == 0; }
+bool is_halophosphate(const Phosphor& p) { return p.lamp_family == "halophosphate"; }
 
 bool is_triband_component(const Phosphor& p) {
     if (p.emission_model == "lines") return true;

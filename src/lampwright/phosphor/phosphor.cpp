@@ -150,7 +150,7 @@ Phosphor phosphor_from_emission_file(const std::string& path) {
 Phosphor parse_phosphor(const std::string& text, const std::string& origin) {
     const TomlDoc doc(text, origin);
     const auto& r = doc.root();
-    doc.only_keys(r, {"id", "abbreviation", "name", "use", "body_colour", "model_note", "density", "grain", "emission", "absorption",
+    doc.only_keys(r, {"id", "abbreviation", "name", "use", "lamp_family", "body_colour", "model_note", "density", "grain", "emission", "absorption",
                       "quantum_efficiency", "thermal"}, "");
     Phosphor p;
     p.origin = origin;
@@ -163,6 +163,9 @@ Phosphor parse_phosphor(const std::string& text, const std::string& origin) {
     p.use = doc.strings(r, "use", "");
     for (const auto& u : p.use)
         if (u != "lamp" && u != "led") doc.fail(r.get("use"), "use", fmt::format("items must be \"lamp\" or \"led\", not \"{}\"", u));
+    p.lamp_family = doc.string(r, "lamp_family", "").value_or("");
+    if (!p.lamp_family.empty() && p.lamp_family != "halophosphate")
+        doc.fail(r.get("lamp_family"), "lamp_family", fmt::format("must be \"halophosphate\" (or left out), not \"{}\"", p.lamp_family));
 
     if (const auto* d = doc.table(r, "density", "")) {
         doc.only_keys(*d, {"g_per_cm3", "source"}, "density");

@@ -38,6 +38,9 @@ struct EmissionLine {
 struct Phosphor {
     std::string id, abbreviation, name, body_colour, model_note;
     std::vector<std::string> use;  // "lamp", "led"
+    // "halophosphate" for the calcium halophosphate family (its lamps have their own mercury-line
+    // defaults, phosphor/mercury_discharge); empty otherwise.
+    std::string lamp_family;
     std::string origin;            // file it was read from ("data/phosphors/..." for built-in ones)
     double density_g_per_cm3 = 0;
     std::string density_source;
