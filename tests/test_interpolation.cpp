@@ -233,3 +233,22 @@ TEST_CASE("resample_to_1nm: huge finite values (1e306 to 1e308) resample to fini
     }
     CHECK_THROWS_WITH_AS((void)resample_to_1nm(edge), doctest::Contains("edge"), Error);
 }
+
+TEST_CASE("resample_to_1nm: a spectrum already on the whole-nm grid comes back unchanged, bit for bit") {
+    // Sprague (CIE 167:2005) and pchip both pass through their nodes, so the 1 nm values of a
+    // 1 nm table are the table's own (common practice, no source): they are copied, not recomputed.
+    SampledSpectrum s;
+    s.name = "on grid";
+    for (int nm = 380; nm <= 780; ++nm) {
+        s.wavelengths_nm.push_back(nm);
+        s.values.push_back(1.0 + 0.3 * std::sin(nm / 7.0) + 1e-13 * nm);
+    }
+    const Spectrum r = resample_to_1nm(s);
+    CHECK(r.first_nm == 380);
+    CHECK(r.values == s.values);
+    // Off the grid by half a nanometre it is interpolated (and the node values differ from the copy).
+    for (double& w : s.wavelengths_nm) w += 0.5;
+    const Spectrum shifted = resample_to_1nm(s);
+    CHECK(shifted.first_nm == 381);
+    CHECK(shifted.values.size() == 400);
+}

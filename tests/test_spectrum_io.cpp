@@ -347,3 +347,27 @@ TEST_CASE("read_text_file: a file larger than 512 MiB is refused naming the limi
     const std::string small = tmp.write("small.csv", "wavelength_nm,v\n380,1\n");
     CHECK(read_text_file(small) == "wavelength_nm,v\n380,1\n");
 }
+
+TEST_CASE("spectrum text: every number form strtod takes is still read the same (plus sign, exponent, hexadecimal, decimal comma, underflow)") {
+    // The reader parses with std::from_chars and hands anything it does not take whole to strtod
+    // (C11 7.22.1.3): the accepted forms and their values must not depend on the path taken.
+    const std::vector<std::pair<std::string, double>> forms{
+        {"0.25", 0.25}, {"+0.25", 0.25}, {"2.5e-1", 0.25}, {"2.5E-1", 0.25}, {"0x1p-2", 0.25}, {".25", 0.25}, {"1e-400", std::strtod("1e-400", nullptr)}};
+    for (const auto& [text, expected] : forms) {
+        CAPTURE(text);
+        const auto f = parse("wavelength_nm,v\n" + rows(",", [&](int nm) { return nm == 500 ? text : std::string("1"); }));
+        REQUIRE(f.spectra.size() == 1);
+        const auto& s = f.spectra[0];
+        const auto at = std::find(s.wavelengths_nm.begin(), s.wavelengths_nm.end(), 500.0) - s.wavelengths_nm.begin();
+        CHECK(s.values[static_cast<std::size_t>(at)] == expected);
+    }
+    const auto comma = parse("wavelength_nm;v\n" + rows(";", [](int nm) { return nm == 500 ? std::string("0,25") : std::string("1"); }));
+    const auto& s = comma.spectra[0];
+    CHECK(s.values[static_cast<std::size_t>(std::find(s.wavelengths_nm.begin(), s.wavelengths_nm.end(), 500.0) - s.wavelengths_nm.begin())] == 0.25);
+    // What neither takes is refused as before, with the line and the field.
+    const InputError e = parse_error("wavelength_nm,v\n" + rows(",", [](int nm) { return nm == 500 ? std::string("0.2.5") : std::string("1"); }));
+    CHECK(e.line() == 8);
+    CHECK(std::string(e.what()).find("'0.2.5', not a number") != std::string::npos);
+    const InputError inf = parse_error("wavelength_nm,v\n" + rows(",", [](int nm) { return nm == 500 ? std::string("1e999") : std::string("1"); }));
+    CHECK(std::string(inf.what()).find("not a finite number") != std::string::npos);
+}

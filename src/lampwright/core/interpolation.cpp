@@ -126,6 +126,14 @@ Spectrum resample_to_1nm(const SampledSpectrum& s) {
     Spectrum out{s.name, first, {}};
     out.absolute = s.absolute;
     out.electrical_power_W = s.electrical_power_W;
+    // Already on the 1 nm grid: every interpolant here passes through the data points, so the
+    // values are the answer (a copy, no arithmetic).
+    bool on_grid = static_cast<double>(last - first + 1) == static_cast<double>(x.size());
+    for (std::size_t i = 0; on_grid && i < x.size(); ++i) on_grid = x[i] == static_cast<double>(first) + static_cast<double>(i);
+    if (on_grid) {
+        out.values = s.values;
+        return out;
+    }
     // Huge finite values (a file in odd units, 1e306 and up) would overflow inside the
     // interpolation: Sprague's end extension multiplies them by up to 3033/209 (CIE 167:2005,
     // Table 2) and pchip divides differences by steps under 1 nm. Both are linear in the values,

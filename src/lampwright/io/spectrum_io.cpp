@@ -8,6 +8,10 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <charconv>
+#include <iterator>
+#include <string_view>
+#include <unordered_map>
 #include <cerrno>
 #include <cmath>
 #include <cstdlib>
@@ -26,20 +30,49 @@ namespace lampwright {
 
 namespace {
 
-std::string trim(std::string_view s) {
+std::string_view trim_view(std::string_view s) {
     const auto b = s.find_first_not_of(" \t\r\n\v\f");
     if (b == std::string_view::npos) return {};
     const auto e = s.find_last_not_of(" \t\r\n\v\f");
-    return std::string(s.substr(b, e - b + 1));
+    return s.substr(b, e - b + 1);
 }
+
+std::string trim(std::string_view s) { return std::string(trim_view(s)); }
 
 enum class Separator { comma, semicolon, tab, space };
 
-Separator detect_separator(const std::string& line) {
+Separator detect_separator(std::string_view line) {
     if (line.find(';') != std::string::npos) return Separator::semicolon;
     if (line.find('\t') != std::string::npos) return Separator::tab;  // before ',' so "380<TAB>0,12" reads as a decimal comma
     if (line.find(',') != std::string::npos) return Separator::comma;
     return Separator::space;
+}
+
+// The fields of one line as views into it (no copy); `out` is reused from line to line.
+void split_views(std::string_view line, Separator sep, std::vector<std::string_view>& out) {
+    out.clear();
+    if (sep == Separator::space) {
+        std::size_t i = 0;
+        while (i < line.size()) {
+            while (i < line.size() && std::isspace(static_cast<unsigned char>(line[i]))) ++i;
+            if (i >= line.size()) break;
+            std::size_t j = i;
+            while (j < line.size() && !std::isspace(static_cast<unsigned char>(line[j]))) ++j;
+            out.push_back(line.substr(i, j - i));
+            i = j;
+        }
+        return;
+    }
+    const char c = sep == Separator::comma ? ',' : (sep == Separator::semicolon ? ';' : '\t');
+    std::size_t start = 0;
+    while (true) {
+        const auto pos = line.find(c, start);
+        out.push_back(trim_view(line.substr(start, pos == std::string_view::npos ? std::string_view::npos : pos - start)));
+        if (pos == std::string_view::npos) break;
+        start = pos + 1;
+    }
+    // A trailing separator at the end of a row is common in spreadsheet exports.
+    if (out.size() > 1 && out.back().empty()) out.pop_back();
 }
 
 std::vector<std::string> split(const std::string& line, Separator sep) {
@@ -70,10 +103,19 @@ std::vector<std::string> split(const std::string& line, Separator sep) {
 }
 
 // Parses a whole field as a number; nullopt when it is not one. NaN/Inf are reported separately.
-std::optional<double> parse_number(std::string field, bool decimal_comma) {
+// Fast path: std::from_chars on the view (plain decimal, the common case); anything it does not
+// take whole (a leading '+', hexadecimal, out of range, "inf", a decimal comma) goes to strtod,
+// which keeps the reader's accepted forms unchanged.
+std::optional<double> parse_number(std::string_view field, bool decimal_comma) {
     if (field.empty()) return std::nullopt;
-    if (decimal_comma) std::replace(field.begin(), field.end(), ',', '.');
-    const char* begin = field.c_str();
+    if (!decimal_comma || field.find(',') == std::string_view::npos) {
+        double v = 0;
+        const auto [end, ec] = std::from_chars(field.data(), field.data() + field.size(), v);
+        if (ec == std::errc() && end == field.data() + field.size()) return v;
+    }
+    std::string copy(field);
+    if (decimal_comma) std::replace(copy.begin(), copy.end(), ',', '.');
+    const char* begin = copy.c_str();
     char* end = nullptr;
     errno = 0;
     const double v = std::strtod(begin, &end);
@@ -81,8 +123,8 @@ std::optional<double> parse_number(std::string field, bool decimal_comma) {
     return v;
 }
 
-bool looks_non_finite(const std::string& field) {
-    std::string f = field;
+bool looks_non_finite(std::string_view field) {
+    std::string f(field);
     std::transform(f.begin(), f.end(), f.begin(), [](unsigned char ch) { return std::tolower(ch); });
     if (!f.empty() && (f[0] == '+' || f[0] == '-')) f.erase(0, 1);
     return f == "nan" || f == "inf" || f == "infinity";
@@ -227,7 +269,9 @@ std::optional<double> spectral_unit_to_W_per_nm(const std::string& unit) {
 
 std::string file_stem(const std::string& path) { return std::filesystem::path(path).stem().string(); }
 
-SpectrumFile parse_spectrum_text(std::istream& in, const std::string& source, const std::string& stem,
+// One pass over the file's bytes: lines and fields are views into the buffer, numbers are parsed
+// in place; nothing is copied per line or per field except header names and messages.
+SpectrumFile parse_spectrum_text(std::string_view text, const std::string& source, const std::string& stem,
                                  const SpectrumReadOptions& options) {
     std::vector<std::string> names;
     std::vector<std::vector<double>> columns;  // [0] wavelengths
@@ -238,13 +282,17 @@ SpectrumFile parse_spectrum_text(std::istream& in, const std::string& source, co
 
     Radiometry radiometry;
 
-    std::string raw;
-    std::size_t line_no = 0;
-    while (std::getline(in, raw)) {
+    std::vector<std::string_view> fields;
+    std::size_t line_no = 0, pos = 0;
+    // Lines as std::getline gives them: split at '\n', a last line without one included.
+    while (pos < text.size()) {
+        const std::size_t nl = text.find('\n', pos);
+        std::string_view raw = text.substr(pos, nl == std::string_view::npos ? std::string_view::npos : nl - pos);
+        pos = nl == std::string_view::npos ? text.size() : nl + 1;
         ++line_no;
-        if (line_no == 1 && raw.size() >= 3 && raw.compare(0, 3, "\xEF\xBB\xBF") == 0) raw.erase(0, 3);
-        if (const std::string full = trim(raw); !full.empty() && full[0] == '#') {
-            if (const auto d = header_directive(full.substr(1))) {
+        if (line_no == 1 && raw.size() >= 3 && raw.substr(0, 3) == "\xEF\xBB\xBF") raw.remove_prefix(3);
+        if (const std::string_view full = trim_view(raw); !full.empty() && full[0] == '#') {
+            if (const auto d = header_directive(std::string(full.substr(1)))) {
                 if (d->first == "units") {
                     if (radiometry.unit)
                         throw InputError(source, line_no, fmt::format("units declared twice (first on line {})", radiometry.unit_line));
@@ -270,28 +318,29 @@ SpectrumFile parse_spectrum_text(std::istream& in, const std::string& source, co
             }
             continue;
         }
-        if (const auto hash = raw.find('#'); hash != std::string::npos) raw.erase(hash);
-        const std::string line = trim(raw);
+        if (const auto hash = raw.find('#'); hash != std::string_view::npos) raw = raw.substr(0, hash);
+        const std::string_view line = trim_view(raw);
         if (line.empty()) continue;
         if (!sep) sep = detect_separator(line);
         const bool decimal_comma = *sep != Separator::comma;  // "0,123" is a decimal comma unless commas separate
-        auto fields = split(line, *sep);
+        split_views(line, *sep, fields);
         if (fields.size() < 2)
             throw InputError(source, line_no, fmt::format("expected at least two columns (wavelength_nm and a value), found {}", fields.size()));
 
         if (!header_seen && columns.empty() && !parse_number(fields[0], decimal_comma) && !looks_non_finite(fields[0])) {
             header_seen = true;
             ncols = fields.size();
+            std::unordered_map<std::string, std::size_t> column_of;  // name -> column (1-based), for duplicates
             for (std::size_t i = 1; i < fields.size(); ++i) {
                 // A name in another encoding (a Latin-1 "\xB5W") is kept, its bad bytes shown as U+FFFD.
-                fields[i] = sanitize_utf8(fields[i]);
-                if (fields[i].empty()) throw InputError(source, line_no, fmt::format("header column {} has no name", i + 1));
+                std::string name = sanitize_utf8(std::string(fields[i]));
+                if (name.empty()) throw InputError(source, line_no, fmt::format("header column {} has no name", i + 1));
                 // Each column is one lamp, known by its name (qc stores lamps by name): two columns
                 // of one name would be two lamps judged but one stored.
-                if (const auto dup = std::find(names.begin(), names.end(), fields[i]); dup != names.end())
-                    throw InputError(source, line_no, fmt::format("spectrum name '{}' is used by columns {} and {}; give each column its own name", fields[i],
-                                                                  dup - names.begin() + 2, i + 1));
-                names.push_back(fields[i]);
+                if (const auto [it, fresh] = column_of.emplace(name, i + 1); !fresh)
+                    throw InputError(source, line_no, fmt::format("spectrum name '{}' is used by columns {} and {}; give each column its own name", name,
+                                                                  it->second, i + 1));
+                names.push_back(std::move(name));
             }
             continue;
         }
@@ -300,11 +349,12 @@ SpectrumFile parse_spectrum_text(std::istream& in, const std::string& source, co
             throw InputError(source, line_no, fmt::format("row has {} columns, expected {}", fields.size(), ncols));
         if (columns.empty()) columns.resize(ncols);
         for (std::size_t c = 0; c < ncols; ++c) {
-            if (looks_non_finite(fields[c]))
-                throw InputError(source, line_no, fmt::format("column {} is '{}', not a finite number", c + 1, fields[c]));
             const auto v = parse_number(fields[c], decimal_comma);
-            if (!v) throw InputError(source, line_no, fmt::format("column {} is '{}', not a number", c + 1, fields[c]));
-            if (!std::isfinite(*v)) throw InputError(source, line_no, fmt::format("column {} is '{}', not a finite number", c + 1, fields[c]));
+            if (!v || !std::isfinite(*v)) {
+                const bool non_finite = (v && !std::isfinite(*v)) || looks_non_finite(fields[c]);
+                throw InputError(source, line_no, fmt::format("column {} is '{}', not {}", c + 1, sanitize_utf8(std::string(fields[c])),
+                                                              non_finite ? "a finite number" : "a number"));
+            }
             columns[c].push_back(*v);
         }
         const auto& wl = columns[0];
@@ -314,7 +364,6 @@ SpectrumFile parse_spectrum_text(std::istream& in, const std::string& source, co
                                                           wl[wl.size() - 1], wl[wl.size() - 2]));
         value_lines.push_back(line_no);
     }
-    if (in.bad()) throw InputError(source, 0, "could not be read");
     if (columns.empty() || columns[0].size() < 2) throw InputError(source, 0, "holds no spectral data (need rows of wavelength_nm,value)");
 
     std::vector<std::string> column_names;
@@ -323,6 +372,12 @@ SpectrumFile parse_spectrum_text(std::istream& in, const std::string& source, co
     SpectrumFile result = validated_spectra(source, column_names, columns, value_lines, options);
     apply_radiometry(result, source, radiometry, options);
     return result;
+}
+
+SpectrumFile parse_spectrum_text(std::istream& in, const std::string& source, const std::string& stem, const SpectrumReadOptions& options) {
+    std::string bytes((std::istreambuf_iterator<char>(in)), std::istreambuf_iterator<char>());
+    if (in.bad()) throw InputError(source, 0, "could not be read");
+    return parse_spectrum_text(std::string_view(bytes), source, stem, options);
 }
 
 SpectrumFile parse_tm27_xml(const std::string& bytes, const std::string& source, const std::string& stem, const SpectrumReadOptions& options) {
@@ -395,8 +450,7 @@ SpectrumFile parse_tm27_xml(const std::string& bytes, const std::string& source,
 SpectrumFile parse_spectrum_bytes(const std::string& bytes, const std::string& source, const SpectrumReadOptions& options) {
     const auto first = bytes.find_first_not_of(" \t\r\n\xEF\xBB\xBF");
     if (first != std::string::npos && bytes[first] == '<') return parse_tm27_xml(bytes, source, file_stem(source), options);
-    std::istringstream in(bytes);
-    return parse_spectrum_text(in, source, file_stem(source), options);
+    return parse_spectrum_text(std::string_view(bytes), source, file_stem(source), options);
 }
 
 SpectrumFile read_spectrum_file(const std::string& path, const SpectrumReadOptions& options) {

@@ -24,6 +24,7 @@
 #include <iosfwd>
 #include <optional>
 #include <string>
+#include <string_view>
 #include <vector>
 
 namespace lampwright {
@@ -57,6 +58,9 @@ struct SpectrumFile {
 
 // `source` names the input in messages (a path, or "stdin"); `stem` names single-column spectra.
 SpectrumFile parse_spectrum_text(std::istream& in, const std::string& source, const std::string& stem,
+                                 const SpectrumReadOptions& options = {});
+// The same over a text already in memory (no copy of it).
+SpectrumFile parse_spectrum_text(std::string_view text, const std::string& source, const std::string& stem,
                                  const SpectrumReadOptions& options = {});
 // IES TM-27-14 spectral XML: <IESTM2714> ... <SpectralData wavelength="380">0.12</SpectralData> ...
 SpectrumFile parse_tm27_xml(const std::string& bytes, const std::string& source, const std::string& stem,
