@@ -189,6 +189,11 @@ TEST_CASE("correction: from the inlier centroid the drifted lot lands within 0.5
     CHECK(ic.correction.offset_steps > 2.0);  // the drift is worth correcting
     CHECK(inlier_landing < 0.5);
     CHECK(all_landing > 0.5);
+    // The lamp-by-lamp prediction agrees: its inliers land within half a step as well; with the four
+    // slips in, the mean of all lamps stays about the outliers' shift away.
+    MESSAGE("prediction: inliers " << ic.prediction.inlier_centroid_steps << " steps, all lamps " << ic.prediction.centroid_steps);
+    CHECK(ic.prediction.inlier_centroid_steps < 0.5);
+    CHECK(ic.prediction.centroid_steps == doctest::Approx(ic.outlier_shift_steps).epsilon(0.3));
     // Bootstrap (Efron and Tibshirani 1993): 200 resamples, every one corrected; the sd of BAM's new
     // fraction is about the standard error of the centroid carried through the correction: small
     // but not zero, and reproducible with the seed.

@@ -298,7 +298,7 @@ TEST_CASE("qc report: the drift section holds the share chart (recipe and lot pe
     CHECK(html.find("mass fraction (%)") != std::string::npos);  // axis unit
     const pugi::xml_node legend = root.select_node("//*[@id='drift-chart']//*[@class='legend']/*[local-name()='rect']").node();
     REQUIRE(legend);
-    const SvgPlotArea area = svg_plot_area(560, 320, 170);
+    const SvgPlotArea area = svg_plot_area(600, 320, 170);
     CHECK(legend.attribute("x").as_double() > area.right);
     check_self_contained(html);
 }

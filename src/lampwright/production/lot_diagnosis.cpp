@@ -103,6 +103,8 @@ DriftDiagnosis diagnose_drift(const BlendInput& recipe, const std::vector<Sample
     for (std::size_t j = 0; j < nc; ++j) {
         DriftComponent dc;
         dc.label = recipe.components[j].label;
+        const std::string& abbreviation = recipe.components[j].phosphor.abbreviation;
+        dc.short_label = abbreviation.empty() || dc.label != recipe.components[j].phosphor.id ? dc.label : abbreviation;
         dc.recipe_fraction = w0[j];
         dc.lot_fraction = c.components[j].mass_fraction;
         dc.lot_fraction_sd = c.components[j].mass_fraction_sd;
@@ -126,7 +128,7 @@ DriftDiagnosis diagnose_drift(const BlendInput& recipe, const std::vector<Sample
 }
 
 CorrectedLotPrediction predict_corrected_lot(const QcSpec& spec, const BlendInput& original, const BlendInput& corrected,
-                                             const std::vector<SampledSpectrum>& lamps) {
+                                             const std::vector<SampledSpectrum>& lamps, const std::vector<bool>& inlier) {
     AssessOptions quick;
     quick.spectral_features = false;
     const BlendResult before = evaluate_blend(original, quick), after = evaluate_blend(corrected, quick);
@@ -138,9 +140,10 @@ CorrectedLotPrediction predict_corrected_lot(const QcSpec& spec, const BlendInpu
         return a - b;
     };
     CorrectedLotPrediction p;
-    std::vector<double> ra, r9, xs, ys;
+    std::vector<double> ra, r9, xs, ys, in_x, in_y;
     std::map<std::string, std::size_t> failed;
-    for (const auto& s : lamps) {
+    for (std::size_t i = 0; i < lamps.size(); ++i) {
+        const SampledSpectrum& s = lamps[i];
         Spectrum m = resample_to_1nm(s);
         const double k = visible_power(m) / reference;
         for (std::size_t j = 0; j < m.values.size(); ++j) m.values[j] += k * model_change(m.first_nm + static_cast<int>(j));
@@ -154,6 +157,7 @@ CorrectedLotPrediction predict_corrected_lot(const QcSpec& spec, const BlendInpu
         }
         xs.push_back(r.assessment.xy.x);
         ys.push_back(r.assessment.xy.y);
+        if (inlier.empty() || (i < inlier.size() && inlier[i])) in_x.push_back(r.assessment.xy.x), in_y.push_back(r.assessment.xy.y);
     }
     p.pass_share = p.lamps ? static_cast<double>(p.passing) / static_cast<double>(p.lamps) : 0.0;
     p.mean_ra = mean(ra);
@@ -162,6 +166,8 @@ CorrectedLotPrediction predict_corrected_lot(const QcSpec& spec, const BlendInpu
     MacAdamEllipse at_target = spec.step_ellipse;
     at_target.centre = spec.centre;
     p.centroid_steps = p.lamps ? macadam_steps(at_target, p.centroid) : std::numeric_limits<double>::quiet_NaN();
+    p.inlier_centroid = {mean(in_x), mean(in_y)};
+    p.inlier_centroid_steps = in_x.empty() ? std::numeric_limits<double>::quiet_NaN() : macadam_steps(at_target, p.inlier_centroid);
     for (const auto& [kind, n] : failed) p.failures.emplace_back(kind, n);
     std::stable_sort(p.failures.begin(), p.failures.end(), [](const auto& a, const auto& b) { return a.second > b.second; });
     p.warning = p.lamps > 0 && p.pass_share < kPassShareWarning;
@@ -250,7 +256,9 @@ InlierCorrection correct_from_inliers(const QcSpec& spec, const BlendInput& reci
     ic.landing_x_sd = sample_sd(xs);
     ic.landing_y_sd = sample_sd(ys);
 
-    ic.prediction = predict_corrected_lot(spec, recipe, ic.correction.corrected, spectra);
+    std::vector<bool> is_inlier(lamps.size(), false);
+    for (std::size_t i : in) is_inlier[i] = true;
+    ic.prediction = predict_corrected_lot(spec, recipe, ic.correction.corrected, spectra, is_inlier);
     return ic;
 }
 

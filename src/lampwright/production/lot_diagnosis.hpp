@@ -28,6 +28,7 @@ inline constexpr double kDriftSignificance = 2.0;
 
 struct DriftComponent {
     std::string label;
+    std::string short_label;        // the phosphor's abbreviation where it has one (chart ticks), else the label
     double recipe_fraction = 0;     // the recipe's mass fraction, normalised
     double lot_fraction = 0;        // the model inverse of the lot's centroid spectrum
     double lot_fraction_sd = std::numeric_limits<double>::quiet_NaN();  // the unmix's own sd of it (residual and Jacobian)
@@ -85,6 +86,8 @@ struct CorrectedLotPrediction {
     double mean_ra = 0, mean_r9 = 0;       // of the shifted lamps (NaN where none has Ra)
     Chromaticity centroid;                 // mean x, y of the shifted lamps
     double centroid_steps = 0;
+    Chromaticity inlier_centroid;          // the same over the lamps marked inliers (all when none is marked)
+    double inlier_centroid_steps = 0;
     // Failed limits of the shifted lamps, by kind ("chromaticity", "Ra", "R9", "CCT", "Duv", ...)
     // with the number of lamps failing each.
     std::vector<std::pair<std::string, std::size_t>> failures;
@@ -111,8 +114,9 @@ struct InlierCorrection {
 // Every limit of the spec on each measured lamp shifted by the correction: the lamp's 1 nm
 // spectrum + k (blend(corrected) - blend(original)), k = the lamp's 380-780 nm power over the
 // original blend's, so the model's change of spectrum is added at the lamp's own scale.
+// `inlier[i]` false marks lamp i an outlier for inlier_centroid (empty: every lamp is an inlier).
 CorrectedLotPrediction predict_corrected_lot(const QcSpec& spec, const BlendInput& original, const BlendInput& corrected,
-                                             const std::vector<SampledSpectrum>& lamps);
+                                             const std::vector<SampledSpectrum>& lamps, const std::vector<bool>& inlier = {});
 
 // The correction from the inlier centroid (lamps[i].outlier false; all lamps when none is
 // flagged), with its bootstrap and the prediction of the corrected lot from every lamp's

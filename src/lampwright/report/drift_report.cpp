@@ -71,7 +71,7 @@ std::string drift_text(const DriftDiagnosis& d, const std::string& recipe_path) 
                      "verdict");
     for (const auto& c : d.components)
         t += fmt::format("  {:<34} {:>8} {:>8} {:>8} {:>8} {:>8} {:>6}  {}\n", c.label, pct(c.recipe_fraction), pct(c.lot_fraction),
-                         pct(c.lot_fraction_sd), pct(c.standard_error), signed_pct(c.change), format_signed(c.z, 1, "-"), verdict(c));
+                         pct(c.lot_fraction_sd, 3), pct(c.standard_error, 3), signed_pct(c.change), format_signed(c.z, 1, "-"), verdict(c));
     if (d.most_moved >= 0) {
         const auto& c = d.components[static_cast<std::size_t>(d.most_moved)];
         t += fmt::format("  moved most: {} ({} percentage points of mass, {} standard errors)\n", c.label, signed_pct(c.change),
@@ -149,11 +149,11 @@ namespace {
 constexpr const char* kRecipeColour = "#7f7f7f";
 constexpr const char* kLotColour = "#1f5fa8";
 constexpr const char* kMovedColour = "#d62728";
-constexpr int kChartWidth = 560, kChartHeight = 320, kLegend = 170;
+constexpr int kChartWidth = 600, kChartHeight = 320, kLegend = 170;
 
 std::vector<std::pair<double, std::string>> component_ticks(const DriftDiagnosis& d) {
     std::vector<std::pair<double, std::string>> t;
-    for (std::size_t i = 0; i < d.components.size(); ++i) t.emplace_back(static_cast<double>(i + 1), d.components[i].label);
+    for (std::size_t i = 0; i < d.components.size(); ++i) t.emplace_back(static_cast<double>(i + 1), d.components[i].short_label);
     return t;
 }
 
@@ -279,8 +279,8 @@ std::string drift_html(const DriftDiagnosis& d, const std::string& recipe_path) 
          "<th>change (points)</th><th>z</th><th class=\"text\">verdict</th></tr></thead><tbody>\n";
     for (const auto& c : d.components)
         h += fmt::format("<tr class=\"{}\"><td class=\"text\">{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td class=\"text\">{}</td></tr>\n",
-                         c.moved ? "moved" : "within", xml_escape(c.label), pct(c.recipe_fraction), pct(c.lot_fraction), pct(c.lot_fraction_sd),
-                         pct(c.standard_error), signed_pct(c.change), format_signed(c.z, 1, "-"), verdict(c));
+                         c.moved ? "moved" : "within", xml_escape(c.label), pct(c.recipe_fraction), pct(c.lot_fraction), pct(c.lot_fraction_sd, 3),
+                         pct(c.standard_error, 3), signed_pct(c.change), format_signed(c.z, 1, "-"), verdict(c));
     h += "</tbody></table>\n";
     h += fmt::format("<p id=\"drift-verdict\">{}</p>\n",
                      d.most_moved >= 0 ? xml_escape(fmt::format("Moved most: {}.", d.components[static_cast<std::size_t>(d.most_moved)].label))

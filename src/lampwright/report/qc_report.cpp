@@ -655,7 +655,7 @@ namespace lampwright {
 
 namespace {
 
-std::string correction_note() { return "Corrected by lampwright qc from the lot centroid; check it on a trial batch first."; }
+std::string correction_note() { return "Corrected by lampwright qc from the centroid of the lot's inlier lamps; check it on a trial batch first."; }
 
 }  // namespace
 
@@ -664,14 +664,15 @@ namespace {
 std::string prediction_text(const CorrectedLotPrediction& p) {
     std::string fails;
     for (const auto& [kind, n] : p.failures) fails += fmt::format("{}{} {}", fails.empty() ? "" : ", ", kind, n);
-    return fmt::format("mean Ra {} R9 {}, centroid x {:.4f} y {:.4f} ({:.2f} steps); {} of {} lamps ({:.1f} %) pass every limit{}",
-                       format_fixed(p.mean_ra, 1, "-"), format_fixed(p.mean_r9, 1, "-"), p.centroid.x, p.centroid.y, p.centroid_steps, p.passing, p.lamps,
-                       100 * p.pass_share, fails.empty() ? "" : " (failing: " + fails + ")");
+    return fmt::format("mean Ra {} R9 {}; centroid of the inliers x {:.4f} y {:.4f} ({:.2f} steps), of all lamps {:.2f} steps; {} of {} lamps "
+                       "({:.1f} %) pass every limit{}",
+                       format_fixed(p.mean_ra, 1, "-"), format_fixed(p.mean_r9, 1, "-"), p.inlier_centroid.x, p.inlier_centroid.y,
+                       p.inlier_centroid_steps, p.centroid_steps, p.passing, p.lamps, 100 * p.pass_share, fails.empty() ? "" : " (failing: " + fails + ")");
 }
 
 constexpr const char* kPredictionMethod =
-    "each measured lamp's spectrum plus the model's change of spectrum, blend(corrected) - blend(recipe), scaled to the lamp's "
-    "380-780 nm power, judged against every limit of the spec";
+    "every measured lamp, outliers included, its spectrum plus the model's change of spectrum, blend(corrected) - blend(recipe), "
+    "scaled to the lamp's 380-780 nm power, judged against every limit of the spec";
 
 }  // namespace
 
@@ -740,6 +741,8 @@ nlohmann::ordered_json lot_correction_json(const InlierCorrection& ic, const Ble
                        {"mean_R9", number_or_null(p.mean_r9)},
                        {"centroid", {{"x", number_or_null(p.centroid.x)}, {"y", number_or_null(p.centroid.y)}}},
                        {"centroid_steps", number_or_null(p.centroid_steps)},
+                       {"inlier_centroid", {{"x", number_or_null(p.inlier_centroid.x)}, {"y", number_or_null(p.inlier_centroid.y)}}},
+                       {"inlier_centroid_steps", number_or_null(p.inlier_centroid_steps)},
                        {"failures", std::move(fails)},
                        {"warning", p.warning ? J(p.warning_text) : J(nullptr)}};
     return j;
