@@ -136,7 +136,7 @@ TEST_CASE("drift: a lot made to the recipe shows no component moved") {
     }
 }
 
-TEST_CASE("drift: outliers are left out of the centroid; lamps on two grids are refused") {
+TEST_CASE("drift: outliers are left out of the centroid, lamps on two grids are refused") {
     const Recipe recipe = load_recipe(kRecipe);
     auto lot = make_lot(recipe.blend, 10, 3);
     std::vector<bool> use(lot.size(), true);
@@ -150,7 +150,7 @@ TEST_CASE("drift: outliers are left out of the centroid; lamps on two grids are 
     CHECK_THROWS_WITH_AS(diagnose_drift(recipe.blend, lot, names_of(lot)), doctest::Contains("different wavelength grids"), Error);
 }
 
-TEST_CASE("correction: from the inlier centroid the drifted lot lands within 0.5 step of the target; the all-lamps centroid with four slips does not") {
+TEST_CASE("correction: from the inlier centroid the drifted lot lands within 0.5 step of the target, the all-lamps centroid with four slips does not") {
     // The plant: BAM at 0.85 of its absorption. 40 lamps, plus 4 with a weighing slip (red Y2O3:Eu3+
     // 30 % over), flagged as robust outliers (Iglewicz and Hoaglin 1993, qc.hpp). The landing is
     // the true plant's blend of the corrected recipe (noise-free), in steps of the spec's F4100
