@@ -63,8 +63,8 @@ std::string drift_text(const DriftDiagnosis& d, const std::string& recipe_path) 
     }
     const auto res = used_residuals(d);
     std::string t = fmt::format("\nDrift diagnosis against {} (the recipe's components unmixed from the lot)\n", recipe_path);
-    t += fmt::format("  {} lamps used{}{}; centroid spectrum residual {:.4f}, lamps' residual median {} max {} (relative L2 over 380-780 nm)\n",
-                     d.lamps_used, outliers ? fmt::format(" ({} outlier{} left out)", outliers, outliers == 1 ? "" : "s") : "",
+    t += fmt::format("  {} lamp{} used{}{}; centroid spectrum residual {:.4f}, lamps' residual median {} max {} (relative L2 over 380-780 nm)\n",
+                     d.lamps_used, d.lamps_used == 1 ? "" : "s", outliers ? fmt::format(" ({} outlier{} left out)", outliers, outliers == 1 ? "" : "s") : "",
                      failed ? fmt::format(", {} not unmixed", failed) : "", d.centroid_residual,
                      res.empty() ? "-" : format_fixed(median(res), 4), res.empty() ? "-" : format_fixed(*std::max_element(res.begin(), res.end()), 4));
     t += fmt::format("  {:<34} {:>8} {:>8} {:>8} {:>8} {:>8} {:>6}  {}\n", "component", "recipe %", "lot %", "unmix sd", "lamp se", "change", "z",
@@ -74,8 +74,7 @@ std::string drift_text(const DriftDiagnosis& d, const std::string& recipe_path) 
                          pct(c.lot_fraction_sd, 3), pct(c.standard_error, 3), signed_pct(c.change), format_signed(c.z, 1, "-"), verdict(c));
     if (d.most_moved >= 0) {
         const auto& c = d.components[static_cast<std::size_t>(d.most_moved)];
-        t += fmt::format("  moved most: {} ({} percentage points of mass, {} standard errors)\n", c.label, signed_pct(c.change),
-                         format_signed(c.z, 1));
+        t += fmt::format("  moved most: {} ({} percentage points of mass, z {})\n", c.label, signed_pct(c.change), format_signed(c.z, 1));
     } else {
         t += "  no component moved beyond its uncertainty\n";
     }
