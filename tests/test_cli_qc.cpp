@@ -10,6 +10,7 @@
 
 #include <cmath>
 #include <filesystem>
+#include <fstream>
 #include <string>
 
 namespace {
@@ -106,4 +107,29 @@ TEST_CASE("cli qc --recipe: the drift table and the inlier correction with its b
     CHECK(text.out.find("Drift diagnosis against") != std::string::npos);
     CHECK(text.out.find("from the centroid of the 37 inlier lamps") != std::string::npos);
     CHECK(text.out.find("predicted corrected lot") != std::string::npos);
+}
+
+TEST_CASE("cli qc --recipe: a corrected lot predicted below 90 % passing is warned about on stderr, in the text and in the JSON") {
+    // Lot B (examples/qc/lot_B: BAM absorbing 10 % less) with the example spec's Ra limit raised to
+    // 82.5: the corrected lot's lamps sit near Ra 82.5 (README "Drift diagnosis"), so about half fail
+    // it; the rule is a warning below 90 % (lot_diagnosis.hpp, kPassShareWarning).
+    const lwtest::TempDir dir("lampwright_qc_warn");
+    const std::string spec = (dir.path / "spec.toml").string();
+    {
+        std::ofstream f(spec);
+        f << "name = \"F4100, Ra 82.5\"\n[target]\nflamp = \"F4100\"\nsteps = 4\n[limits]\nra_min = 82.5\n";
+    }
+    const std::string lot = std::string(LAMPWRIGHT_SOURCE_DIR) + "/examples/qc/lot_B";
+    const std::string recipe = std::string(LAMPWRIGHT_SOURCE_DIR) + "/examples/recipes/triband_4000K.toml";
+    const lwtest::CliRun j = lwtest::run_cli_args({"qc", spec, lot, "--recipe", recipe, "-f", "json"});
+    CHECK(j.exit_code == 4);
+    const auto doc = nlohmann::json::parse(j.out);
+    const auto& p = doc["correction"]["prediction"];
+    CHECK(p["pass_share"].get<double>() < 0.9);
+    REQUIRE(p["warning"].is_string());
+    CHECK(p["warning"].get<std::string>().find("Ra") != std::string::npos);
+    CHECK(p["failures"][0]["limit"] == "Ra");
+    CHECK(j.err.find("below 90 %") != std::string::npos);
+    const lwtest::CliRun t = lwtest::run_cli_args({"qc", spec, lot, "--recipe", recipe});
+    CHECK(t.out.find("WARNING: only") != std::string::npos);
 }
