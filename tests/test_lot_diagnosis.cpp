@@ -201,8 +201,9 @@ TEST_CASE("correction: from the inlier centroid the drifted lot lands within 0.5
     REQUIRE(ic.fraction_sd.size() == 3);
     for (double sd : ic.fraction_sd) CHECK((sd > 0 && sd < 0.01));
     CHECK(ic.landing_x_sd > 0);
-    const InlierCorrection again = correct_from_inliers(spec, recipe.blend, lamps, 200, 5);
+    const InlierCorrection again = correct_from_inliers(spec, recipe.blend, lamps, 200, 5, 1);  // one worker: the same numbers
     CHECK(again.fraction_sd == ic.fraction_sd);
+    CHECK(again.landing_x_sd == ic.landing_x_sd);
     // The landing's sd is the standard error of the inlier centroid (sd of x over the inliers / sqrt(n)),
     // as the bootstrap estimates it to within its own sampling error (about 1 / sqrt(2 x 200) = 5 %; 20 % allowed).
     std::vector<double> xs;

@@ -103,7 +103,7 @@ other lamp was judged), 4 some lamps failed, 8 the report or the database could 
         } catch (const Error& e) {
             print_warning(fmt::format("no drift diagnosis: {}", e.what()));
         }
-        correction = correct_from_inliers(run.spec, made_with->blend, run.lamps);
+        correction = correct_from_inliers(run.spec, made_with->blend, run.lamps, 200, 12, static_cast<unsigned>(threads));
         if (correction->prediction.warning) print_warning(correction->prediction.warning_text);
     }
     switch (f) {

@@ -183,7 +183,7 @@ CorrectedLotPrediction predict_corrected_lot(const QcSpec& spec, const BlendInpu
 }
 
 InlierCorrection correct_from_inliers(const QcSpec& spec, const BlendInput& recipe, const std::vector<LampResult>& lamps, int resamples,
-                                      unsigned long long seed) {
+                                      unsigned long long seed, unsigned threads) {
     if (lamps.empty()) throw Error("no lamps: nothing to correct");
     std::vector<SampledSpectrum> spectra;
     for (const auto& l : lamps) {
@@ -227,11 +227,11 @@ InlierCorrection correct_from_inliers(const QcSpec& spec, const BlendInput& reci
     const std::size_t nc = recipe.components.size();
     std::vector<std::vector<double>> fractions(centres.size());
     {
-        const unsigned threads = std::max(1u, std::min(std::thread::hardware_concurrency(), 8u));
+        const unsigned workers = qc_worker_count(threads, centres.size());
         std::vector<std::jthread> pool;
-        for (unsigned t = 0; t < threads; ++t)
+        for (unsigned t = 0; t < workers; ++t)
             pool.emplace_back([&, t] {
-                for (std::size_t b = t; b < centres.size(); b += threads) {
+                for (std::size_t b = t; b < centres.size(); b += workers) {
                     try {
                         fractions[b] = correct_recipe(recipe, centres[b], spec.centre, spec.step_ellipse).new_fractions;
                     } catch (const std::exception&) {

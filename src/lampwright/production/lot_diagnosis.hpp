@@ -122,7 +122,9 @@ CorrectedLotPrediction predict_corrected_lot(const QcSpec& spec, const BlendInpu
 // flagged), with its bootstrap and the prediction of the corrected lot from every lamp's
 // `spectrum` (outliers included: the slips that made them will recur). Error when a lamp has no
 // spectrum kept (run_qc keep_spectra).
+// The resamples are shared among `threads` workers (0: all cores, as run_qc); the result does not
+// depend on their number.
 InlierCorrection correct_from_inliers(const QcSpec& spec, const BlendInput& recipe, const std::vector<LampResult>& lamps,
-                                      int resamples = 200, unsigned long long seed = 12);
+                                      int resamples = 200, unsigned long long seed = 12, unsigned threads = 0);
 
 }  // namespace lampwright
