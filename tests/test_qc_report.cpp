@@ -8,7 +8,11 @@
 #include "lampwright/colour/colorimetry.hpp"
 #include "lampwright/colour/illuminants.hpp"
 #include "lampwright/production/qc.hpp"
+#include "lampwright/phosphor/recipe.hpp"
+#include "lampwright/production/lot_diagnosis.hpp"
+#include "lampwright/report/drift_report.hpp"
 #include "lampwright/report/qc_report.hpp"
+#include "lampwright/report/svg_plot.hpp"
 #include "lampwright/design/targets.hpp"
 
 #include <doctest/doctest.h>
@@ -265,4 +269,36 @@ TEST_CASE("qc report: an empty lot still gives a well-formed report") {
     const auto j = nlohmann::json::parse(qc_json(run).dump());
     CHECK(j.at("count") == 0);
     CHECK(j.at("pass_rate").is_null());
+}
+
+TEST_CASE("qc report: the drift section holds the share chart (recipe and lot per component, error bars, legend outside the plot) and parses as XML") {
+    // The demo lot unmixed against its recipe (examples/recipes/triband_4000K.toml): three
+    // components, so three recipe markers, three lot markers and one error bar per component with
+    // a standard error; the legend lies right of the plot area (x beyond it), never over data.
+    const QcSpec spec = load_qc_spec(kExamples + "/spec_F4100.toml");
+    QcRun run = run_qc(spec, {kExamples + "/lot_A"}, 2, {}, {}, true);
+    const Recipe recipe = load_recipe(std::string(LAMPWRIGHT_SOURCE_DIR) + "/examples/recipes/triband_4000K.toml");
+    std::vector<SampledSpectrum> spectra;
+    std::vector<std::string> names;
+    std::vector<bool> use;
+    for (const auto& l : run.lamps) spectra.push_back(l.spectrum), names.push_back(l.name), use.push_back(!l.outlier);
+    const DriftDiagnosis d = diagnose_drift(recipe.blend, spectra, names, use);
+    CHECK(d.lamps_used == run.lamps.size() - run.stats.outliers);
+    const std::string html = qc_html_report(run, drift_html(d, "triband_4000K.toml"));
+    pugi::xml_document doc;
+    const auto parsed = doc.load_string(html.c_str(), pugi::parse_default | pugi::parse_doctype);
+    REQUIRE_MESSAGE(parsed, parsed.description() << " at offset " << parsed.offset);
+    const pugi::xml_node root = doc.document_element();
+    CHECK(count_xpath(root, "//*[@id='drift-chart']") == 1);
+    CHECK(count_xpath(root, "//*[@id='drift-chart']//*[" + has_class("recipe") + "]") == 3);
+    CHECK(count_xpath(root, "//*[@id='drift-chart']//*[" + has_class("lot") + "]") == 3);
+    CHECK(count_xpath(root, "//*[@id='drift-chart']//*[" + has_class("error-bar") + "]") == 3);
+    CHECK(count_xpath(root, "//*[@id='drift-change-chart']//*[" + has_class("change") + "]") == 3);
+    CHECK(count_xpath(root, "//*[@id='drift-table']/tbody/tr") == 3);
+    CHECK(html.find("mass fraction (%)") != std::string::npos);  // axis unit
+    const pugi::xml_node legend = root.select_node("//*[@id='drift-chart']//*[@class='legend']/*[local-name()='rect']").node();
+    REQUIRE(legend);
+    const SvgPlotArea area = svg_plot_area(600, 320, 170);
+    CHECK(legend.attribute("x").as_double() > area.right);
+    check_self_contained(html);
 }

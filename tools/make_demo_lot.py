@@ -11,7 +11,12 @@ Each lamp:
     360-830 nm, scaled to a W/nm-like level with a lamp-to-lamp output spread of 3 %, 0.3 %
     multiplicative Gaussian noise per sample and a small additive noise floor.
 A fixed seed makes the lot reproducible. Invented data for the demo only: no real lamp was
-measured. Usage: tools/make_demo_lot.py [path/to/lampwright]
+measured. Usage: tools/make_demo_lot.py [path/to/lampwright] [--lot B]
+
+--lot B makes examples/qc/lot_B instead: the same recipe and line, with a drift for the QC drift
+diagnosis (qc --recipe): the blue BaMgAl10O17:Eu2+ of this lot came from a new delivery that
+absorbs 10 % less at 254 nm (its `absorption` 0.90 instead of the library's 1.0, as a coarser
+powder would), every lamp; lamps 12 and 33 have weighing slips; another seed.
 """
 import os
 import random
@@ -20,9 +25,17 @@ import sys
 import tempfile
 
 root = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
-exe = sys.argv[1] if len(sys.argv) > 1 else os.path.join(root, "build", "lampwright")
+args = [a for a in sys.argv[1:]]
+lot = "A"
+if "--lot" in args:
+    k = args.index("--lot")
+    lot = args[k + 1]
+    del args[k:k + 2]
+if lot not in ("A", "B"):
+    sys.exit("make_demo_lot.py: --lot is A or B")
+exe = args[0] if args else os.path.join(root, "build", "lampwright")
 recipe_rel = "examples/recipes/triband_4000K.toml"
-out_dir = os.path.join(root, "examples", "qc", "lot_A")
+out_dir = os.path.join(root, "examples", "qc", "lot_" + lot)
 n_lamps = 40
 weighing_sd = 0.01        # relative, per component mass fraction
 gain_noise = 0.003        # relative, per sample
@@ -31,7 +44,13 @@ floor_noise = 5e-7        # W/nm, per sample (the peak is about 0.05 W/nm)
 slips = {
     37: (2, 0.80, "the blue BaMgAl10O17:Eu2+ was weighed 20 % short"),
     40: (0, 1.15, "the red Y2O3:Eu3+ was weighed 15 % over (a scoop too many)"),
+} if lot == "A" else {
+    12: (0, 1.20, "the red Y2O3:Eu3+ was weighed 20 % over"),
+    33: (1, 0.80, "the green LaPO4:Ce3+,Tb3+ was weighed 20 % short"),
 }
+# Lot B: per-component absorption at 254 nm written into each lamp's recipe (None: the library's).
+drift_absorption = {2: 0.90} if lot == "B" else {}
+seed = 20261202 if lot == "A" else 20261204
 
 
 def read_recipe(path):
@@ -54,8 +73,10 @@ def blend_spectrum(header, comps, tmp):
     rec = os.path.join(tmp, "lamp.toml")
     with open(rec, "w") as f:
         f.write("\n".join(header) + "\n")
-        for phosphor, fraction in comps:
+        for k, (phosphor, fraction) in enumerate(comps):
             f.write(f'\n[[component]]\nphosphor = "{phosphor}"\nmass_fraction = {fraction:.6f}\n')
+            if k in drift_absorption:
+                f.write(f"absorption = {drift_absorption[k]}\n")
     spec = os.path.join(tmp, "lamp.csv")
     subprocess.run([exe, "blend", rec, "--spectrum-out", spec], check=True, stdout=subprocess.DEVNULL)
     return {int(r[0]): float(r[1]) for r in (l.strip().split(",") for l in open(spec) if l[0].isdigit())}
@@ -75,7 +96,7 @@ def measure(data, rng, scale):
 def main():
     header, nominal = read_recipe(os.path.join(root, recipe_rel))
     os.makedirs(out_dir, exist_ok=True)
-    rng = random.Random(20261202)
+    rng = random.Random(seed)
     with tempfile.TemporaryDirectory() as tmp:
         for i in range(1, n_lamps + 1):
             comps = [[p, m * (1 + rng.gauss(0, weighing_sd))] for p, m in nominal]
@@ -89,11 +110,13 @@ def main():
             rows = measure(data, rng, 1 + rng.gauss(0, 0.03))
             name = f"lamp_{i:02d}"
             with open(os.path.join(out_dir, name + ".csv"), "w") as f:
-                f.write(f"# INVENTED DEMO DATA: simulated spectroradiometer reading of tube {name} of lot A from our invented\n")
+                f.write(f"# INVENTED DEMO DATA: simulated spectroradiometer reading of tube {name} of lot {lot} from our invented\n")
                 f.write(f"# coating line 2 (no real lamp was measured). Made by tools/make_demo_lot.py from {recipe_rel}\n")
                 f.write("# with simulated weighing error (1 % relative per component) and measurement noise (2 nm bandpass,\n")
                 f.write("# 2 nm steps, 0.3 % noise). Mass fractions as weighed: "
                         + ", ".join(f"{p} {m / total:.4f}" for p, m in comps) + "\n")
+                for k, a in drift_absorption.items():
+                    f.write(f"# Drift of this lot: {comps[k][0]} from a delivery absorbing {a:g} x the library's value at 254 nm.\n")
                 f.write(note)
                 f.write(f"wavelength_nm,{name}\n")
                 for nm, v in rows:

@@ -5,8 +5,10 @@
 #include "lampwright/core/error.hpp"
 #include "lampwright/phosphor/recipe.hpp"
 #include "lampwright/production/lot_correction.hpp"
+#include "lampwright/production/lot_diagnosis.hpp"
 #include "lampwright/production/lot_history.hpp"
 #include "lampwright/production/qc.hpp"
+#include "lampwright/report/drift_report.hpp"
 #include "lampwright/report/qc_report.hpp"
 
 #include <fmt/format.h>
@@ -48,7 +50,9 @@ other lamp was judged), 4 some lamps failed, 8 the report or the database could 
         ("record", po::bool_switch(&record), "record the lot in the history database")
         ("db", po::value(&db), "history database (default lampwright.db in this folder); implies --record")
         ("lot", po::value(&lot_id), "lot id for the history, with --record (default: lot-, the UTC time to the millisecond and a random suffix)")
-        ("recipe", po::value(&recipe), "the recipe this lot was made with: print a corrected recipe (in the JSON too)")
+        ("recipe", po::value(&recipe), "the recipe this lot was made with: unmix the lot against its components (which one moved), "
+                                       "and print a recipe corrected from the inlier centroid with its bootstrap uncertainty and the "
+                                       "predicted pass share of the corrected lot (in the JSON too)")
         ("recipe-out", po::value(&recipe_out), "with --recipe: write the corrected recipe (TOML, loadable by blend and fit)")
         ("units", po::value(&units), kUnitsHelp);
     add_number_option(opts, "power-W", &power_W, kPowerRange, kPowerHelp);
@@ -83,43 +87,66 @@ other lamp was judged), 4 some lamps failed, 8 the report or the database could 
         for (const auto& n : made_with->notes) print_note(n);
     const std::vector<std::string> inputs(args.begin() + 1, args.end());
     const ProgressCallback progress = terminal_progress("qc", "files", 200);
-    QcRun run = run_qc(spec, inputs, static_cast<unsigned>(threads), progress, read);
+    QcRun run = run_qc(spec, inputs, static_cast<unsigned>(threads), progress, read, made_with.has_value());
 
     for (const auto& b : run.bad_files) print_error(fmt::format("{}: {}", b.file, b.reason));
-    std::optional<LotCorrection> correction;
+    std::optional<InlierCorrection> correction;
+    std::optional<DriftDiagnosis> drift;
     if (made_with) {
         if (run.lamps.empty()) throw InputError(recipe, 0, "no lamps were read: nothing to correct");
-        correction = correct_recipe(made_with->blend, run.stats.centroid, run.spec.centre, run.spec.step_ellipse);
+        std::vector<SampledSpectrum> spectra;
+        std::vector<std::string> names;
+        std::vector<bool> use;
+        for (const auto& l : run.lamps) spectra.push_back(l.spectrum), names.push_back(l.name), use.push_back(!l.outlier);
+        try {
+            drift = diagnose_drift(made_with->blend, spectra, names, use);
+        } catch (const Error& e) {
+            print_warning(fmt::format("no drift diagnosis: {}", e.what()));
+        }
+        correction = correct_from_inliers(run.spec, made_with->blend, run.lamps, 200, 12, static_cast<unsigned>(threads));
+        if (correction->prediction.warning) print_warning(correction->prediction.warning_text);
     }
     switch (f) {
         case Format::text:
             std::cout << qc_text(run);
+            if (drift) std::cout << drift_text(*drift, recipe);
             if (correction) std::cout << lot_correction_text(*correction, made_with->blend, recipe);
             break;
-        case Format::csv:
-            // One row per lamp; the lot's correction is not a lamp: it goes to stderr, the JSON and --recipe-out.
-            std::cout << csv_line(qc_lamp_columns()) << '\n';
-            for (const auto& l : run.lamps) std::cout << csv_line(qc_lamp_values(l)) << '\n';
+        case Format::csv: {
+            // One row per lamp (with --recipe, its unmixed fractions at the end); the lot's drift table
+            // and correction are not lamps: they go to stderr, the JSON and --recipe-out.
+            auto columns = qc_lamp_columns();
+            if (drift) for (auto& c : drift_lamp_columns(*drift)) columns.push_back(c);
+            std::cout << csv_line(columns) << '\n';
+            for (std::size_t i = 0; i < run.lamps.size(); ++i) {
+                auto v = qc_lamp_values(run.lamps[i]);
+                if (drift) for (auto& c : drift_lamp_values(*drift, i)) v.push_back(c);
+                std::cout << csv_line(v) << '\n';
+            }
+            if (drift) std::cerr << drift_text(*drift, recipe);
             if (correction) std::cerr << lot_correction_text(*correction, made_with->blend, recipe);
             break;
+        }
         case Format::json: {
             auto j = qc_json(run);
+            if (made_with) j["drift"] = drift ? drift_json(*drift, recipe) : nlohmann::ordered_json(nullptr);
             if (correction) j["correction"] = lot_correction_json(*correction, made_with->blend, recipe);
             std::cout << dump_json(j) << '\n';
             break;
         }
     }
-    const std::string correction_html = correction ? lot_correction_html(*correction, made_with->blend) : std::string();
+    const std::string correction_html =
+        (drift ? drift_html(*drift, recipe) : std::string()) + (correction ? lot_correction_html(*correction, made_with->blend) : std::string());
     // The verdict's flags are kept whatever happens to the report or the database (cli_common.hpp).
     int status = kExitOk;
     if (!run.bad_files.empty()) status |= kExitBadInput;
     if (run.stats.passed < run.stats.count) status |= kExitOutOfLimits;
     if (!report.empty() && !write_document(report, qc_html_report(run, correction_html))) status |= kExitOutputNotWritten;
     if (correction && !recipe_out.empty()) {
-        if (!correction->feasible) {
-            print_error(fmt::format("{}: no corrected recipe written: {}", recipe_out, correction->message));
+        if (!correction->correction.feasible) {
+            print_error(fmt::format("{}: no corrected recipe written: {}", recipe_out, correction->correction.message));
             status |= kExitOutputNotWritten;
-        } else if (!write_output(recipe_out, lot_correction_toml(*correction))) {
+        } else if (!write_output(recipe_out, lot_correction_toml(correction->correction))) {
             status |= kExitOutputNotWritten;
         }
     }

@@ -154,8 +154,10 @@ BlendBasis blend_basis(const BlendInput& in) {
             throw Error(fmt::format("mercury line fraction must lie in [0, 1), not {:g}", b.mercury_line_fraction));
         for (double r : b.mercury_line_ratios)
             if (!(r >= 0 && std::isfinite(r))) throw Error("mercury line ratios must be numbers >= 0");
-        b.mercury_source = in.mercury_line_fraction && in.mercury_line_ratios ? "the recipe"
-                           : in.mercury_line_fraction ? "fraction: the recipe; ratios: " + set.source
+        const std::string fraction_from = in.mercury_line_fraction_from.empty() ? "the recipe" : in.mercury_line_fraction_from;
+        b.mercury_source = in.mercury_line_fraction && in.mercury_line_ratios
+                               ? (in.mercury_line_fraction_from.empty() ? "the recipe" : "fraction: " + fraction_from + "; ratios: the recipe")
+                           : in.mercury_line_fraction ? "fraction: " + fraction_from + "; ratios: " + set.source
                            : in.mercury_line_ratios   ? "ratios: the recipe; fraction: " + set.source
                                                       : set.source;
         // Opaque grains at 254 nm: shares by projected area, when every component has grain data.

@@ -64,6 +64,9 @@ struct BlendInput {
     std::optional<double> coating_weight_mg_per_cm2;
     std::optional<double> uv_185nm_fraction;
     std::string calibration;  // the calibration file applied ("" none)
+    // Where mercury_line_fraction came from when not from the recipe itself (apply_calibration
+    // sets "the calibration FILE"); "" means the recipe's own key.
+    std::string mercury_line_fraction_from;
 };
 
 // What the coating model gave a mercury-discharge blend (README "Blend physics", "Coating weight").

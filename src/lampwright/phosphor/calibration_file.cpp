@@ -121,6 +121,7 @@ std::vector<std::string> apply_calibration(const ModelCalibration& cal, BlendInp
                                         *blend.mercury_line_fraction, cal.path, type, lt->mercury_line_fraction));
     } else if (lt) {
         blend.mercury_line_fraction = lt->mercury_line_fraction;
+        blend.mercury_line_fraction_from = "the calibration " + cal.path;
     } else {
         notes.push_back(fmt::format("calibration {} has no {} lamps: the mercury-line fraction is the lamp type's default", cal.path, type));
     }

@@ -292,7 +292,7 @@ unsigned qc_worker_count(unsigned requested, std::size_t files) {
 }
 
 QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigned threads, const ProgressCallback& progress,
-             const SpectrumReadOptions& read) {
+             const SpectrumReadOptions& read, bool keep_spectra) {
     QcRun run;
     run.spec = spec;
     const auto files = collect_spectrum_files(inputs, run.bad_files);
@@ -316,6 +316,7 @@ QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigne
                     lr.assessment.warnings.insert(lr.assessment.warnings.begin(), f.warnings.begin(), f.warnings.end());
                     lr.file = sanitize_utf8(files[i]);  // shown and stored; the path itself may be in any encoding
                     lr.content_hash = hash;
+                    if (keep_spectra) lr.spectrum = s;
                     per_file[i].push_back(std::move(lr));
                 }
             } catch (const InputError& e) {

@@ -51,6 +51,9 @@ struct LampResult {
     bool pass() const { return failures.empty(); }
     bool outlier = false;
     std::string outlier_note;
+    // The spectrum as read (its own grid), kept only when run_qc is asked to (the drift diagnosis
+    // and the corrected-lot prediction need it); empty otherwise.
+    SampledSpectrum spectrum;
 };
 
 struct BadFile {
@@ -116,8 +119,9 @@ unsigned qc_worker_count(unsigned requested, std::size_t files);
 // Reads and judges every file, in parallel over `threads` workers (0 = all cores; capped by
 // qc_worker_count).
 // `read` carries --units and --power-W for files that declare no unit or power.
+// `keep_spectra` keeps each lamp's spectrum in LampResult::spectrum.
 QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigned threads = 0, const ProgressCallback& progress = {},
-             const SpectrumReadOptions& read = {});
+             const SpectrumReadOptions& read = {}, bool keep_spectra = false);
 
 // Robust outliers: no flags in a lot of fewer lamps, where median and MAD are too unsteady to
 // call anything an outlier (common practice, no source).

@@ -1,5 +1,6 @@
 #include "lampwright/report/qc_report.hpp"
 
+#include "lampwright/core/format.hpp"
 #include "lampwright/report/assessment_report.hpp"
 #include "lampwright/phosphor/recipe.hpp"
 #include "lampwright/report/svg_plot.hpp"
@@ -654,27 +655,57 @@ namespace lampwright {
 
 namespace {
 
-std::string correction_note() { return "Corrected by lampwright qc from the lot centroid; check it on a trial batch first."; }
+std::string correction_note() { return "Corrected by lampwright qc from the centroid of the lot's inlier lamps; check it on a trial batch first."; }
 
 }  // namespace
 
-std::string lot_correction_text(const LotCorrection& c, const BlendInput& recipe, const std::string& recipe_path) {
-    std::string t = fmt::format("\nCorrection of {} (lot centroid x {:.4f} y {:.4f}, {:.2f} steps from the target):\n", recipe_path,
-                                c.lot_centroid.x, c.lot_centroid.y, c.offset_steps);
+namespace {
+
+std::string prediction_text(const CorrectedLotPrediction& p) {
+    std::string fails;
+    for (const auto& [kind, n] : p.failures) fails += fmt::format("{}{} {}", fails.empty() ? "" : ", ", kind, n);
+    return fmt::format("mean Ra {} R9 {}; centroid of the inliers x {:.4f} y {:.4f} ({:.2f} steps), of all lamps {:.2f} steps; {} of {} lamps "
+                       "({:.1f} %) pass every limit{}",
+                       format_fixed(p.mean_ra, 1, "-"), format_fixed(p.mean_r9, 1, "-"), p.inlier_centroid.x, p.inlier_centroid.y,
+                       p.inlier_centroid_steps, p.centroid_steps, p.passing, p.lamps, 100 * p.pass_share, fails.empty() ? "" : " (failing: " + fails + ")");
+}
+
+constexpr const char* kPredictionMethod =
+    "every measured lamp, outliers included, its spectrum plus the model's change of spectrum, blend(corrected) - blend(recipe), "
+    "scaled to the lamp's 380-780 nm power, judged against every limit of the spec";
+
+}  // namespace
+
+std::string lot_correction_text(const InlierCorrection& ic, const BlendInput& recipe, const std::string& recipe_path) {
+    const LotCorrection& c = ic.correction;
+    std::string t = fmt::format("\nCorrection of {} from the centroid of the {} inlier lamps (x {:.4f} y {:.4f}, {:.2f} steps from the target)\n", recipe_path,
+                                ic.inliers, c.lot_centroid.x, c.lot_centroid.y, c.offset_steps);
+    if (ic.outliers)
+        t += fmt::format("  the {} outlier{} left out move the centroid {:.2f} steps (all lamps: x {:.4f} y {:.4f})\n", ic.outliers, ic.outliers == 1 ? "" : "s",
+                         ic.outlier_shift_steps, ic.all_centroid.x, ic.all_centroid.y);
     for (std::size_t i = 0; i < c.old_fractions.size(); ++i)
-        t += fmt::format("  {:<36} {:>8.4f} -> {:>8.4f}  ({})\n", recipe.components[i].label, c.old_fractions[i], c.new_fractions[i],
-                         format_signed(c.new_fractions[i] - c.old_fractions[i], 4));
+        t += fmt::format("  {:<36} {:>8.4f} -> {:>8.4f}  ({})  ± {}\n", recipe.components[i].label, c.old_fractions[i], c.new_fractions[i],
+                         format_signed(c.new_fractions[i] - c.old_fractions[i], 4), i < ic.fraction_sd.size() ? format_fixed(ic.fraction_sd[i], 4, "-") : "-");
     t += fmt::format("  expected centroid x {:.4f} y {:.4f}: {:.2f} steps from the target{}\n", c.expected_centroid.x, c.expected_centroid.y,
                      c.expected_steps, c.message.empty() ? "" : " (" + c.message + ")");
+    t += fmt::format("  uncertainty (bootstrap, {} resamples of the inlier lamps, seed {}; Efron and Tibshirani 1993): sd of the new fractions as "
+                     "above; the corrected lot lands within sd x {:.4f} y {:.4f}{}\n",
+                     ic.resamples, ic.seed, ic.landing_x_sd, ic.landing_y_sd,
+                     ic.failed_resamples ? fmt::format(" ({} resamples gave no correction)", ic.failed_resamples) : "");
+    t += "  predicted corrected lot: " + prediction_text(ic.prediction) + "\n";
+    t += fmt::format("    ({})\n", kPredictionMethod);
+    if (ic.prediction.warning) t += "  WARNING: " + ic.prediction.warning_text + "\n";
     if (!recipe.calibration.empty()) t += fmt::format("  calibrated model: {}\n", recipe.calibration);
     return t + "\n" + recipe_to_toml(c.corrected, {correction_note()});
 }
 
 std::string lot_correction_toml(const LotCorrection& c) { return recipe_to_toml(c.corrected, {correction_note()}); }
 
-nlohmann::ordered_json lot_correction_json(const LotCorrection& c, const BlendInput& recipe, const std::string& recipe_path) {
-    auto xy = [](const Chromaticity& p) { return nlohmann::ordered_json{{"x", p.x}, {"y", p.y}}; };
-    nlohmann::ordered_json j;
+nlohmann::ordered_json lot_correction_json(const InlierCorrection& ic, const BlendInput& recipe, const std::string& recipe_path) {
+    const LotCorrection& c = ic.correction;
+    using J = nlohmann::ordered_json;
+    auto xy = [](const Chromaticity& p) { return J{{"x", p.x}, {"y", p.y}}; };
+    J j;
     j["recipe"] = recipe_path;
     j["feasible"] = c.feasible;
     j["message"] = c.message;
@@ -684,24 +715,55 @@ nlohmann::ordered_json lot_correction_json(const LotCorrection& c, const BlendIn
     j["offset_steps"] = c.offset_steps;
     j["expected_centroid"] = xy(c.expected_centroid);
     j["expected_steps"] = c.expected_steps;
-    j["components"] = nlohmann::ordered_json::array();
+    j["components"] = J::array();
     for (std::size_t i = 0; i < c.old_fractions.size(); ++i)
         j["components"].push_back({{"label", recipe.components[i].label},
                                    {"old_mass_fraction", c.old_fractions[i]},
                                    {"new_mass_fraction", c.new_fractions[i]},
-                                   {"change", c.new_fractions[i] - c.old_fractions[i]}});
+                                   {"change", c.new_fractions[i] - c.old_fractions[i]},
+                                   {"new_mass_fraction_sd", i < ic.fraction_sd.size() ? number_or_null(ic.fraction_sd[i]) : J(nullptr)}});
     j["corrected_recipe_toml"] = lot_correction_toml(c);
-    j["calibration"] = recipe.calibration.empty() ? nlohmann::ordered_json(nullptr) : nlohmann::ordered_json(recipe.calibration);
+    j["calibration"] = recipe.calibration.empty() ? J(nullptr) : J(recipe.calibration);
+    j["centroid_from"] = "inliers";
+    j["inliers"] = ic.inliers;
+    j["outliers"] = ic.outliers;
+    j["all_lamps_centroid"] = xy(ic.all_centroid);
+    j["outlier_shift_steps"] = number_or_null(ic.outlier_shift_steps);
+    j["bootstrap"] = {{"resamples", ic.resamples}, {"seed", ic.seed}, {"failed_resamples", ic.failed_resamples},
+                      {"landing_x_sd", number_or_null(ic.landing_x_sd)}, {"landing_y_sd", number_or_null(ic.landing_y_sd)}};
+    const CorrectedLotPrediction& p = ic.prediction;
+    J fails = J::array();
+    for (const auto& [kind, n] : p.failures) fails.push_back({{"limit", kind}, {"lamps", n}});
+    j["prediction"] = {{"lamps", p.lamps},
+                       {"passing", p.passing},
+                       {"pass_share", number_or_null(p.pass_share)},
+                       {"mean_Ra", number_or_null(p.mean_ra)},
+                       {"mean_R9", number_or_null(p.mean_r9)},
+                       {"centroid", {{"x", number_or_null(p.centroid.x)}, {"y", number_or_null(p.centroid.y)}}},
+                       {"centroid_steps", number_or_null(p.centroid_steps)},
+                       {"inlier_centroid", {{"x", number_or_null(p.inlier_centroid.x)}, {"y", number_or_null(p.inlier_centroid.y)}}},
+                       {"inlier_centroid_steps", number_or_null(p.inlier_centroid_steps)},
+                       {"failures", std::move(fails)},
+                       {"warning", p.warning ? J(p.warning_text) : J(nullptr)}};
     return j;
 }
 
-std::string lot_correction_html(const LotCorrection& c, const BlendInput& recipe) {
-    std::string html = "<section id=\"correction\"><h2>Corrected recipe</h2><table><tr><th>component</th><th>was</th><th>new</th><th>change</th></tr>";
+std::string lot_correction_html(const InlierCorrection& ic, const BlendInput& recipe) {
+    const LotCorrection& c = ic.correction;
+    std::string html = fmt::format("<section id=\"correction\"><h2>Corrected recipe</h2><p>From the centroid of the {} inlier lamps{}.</p>", ic.inliers,
+                                   ic.outliers ? fmt::format(" (the {} outliers left out move it {:.2f} MacAdam steps)", ic.outliers, ic.outlier_shift_steps) : "");
+    html += "<table><tr><th>component</th><th>was</th><th>new</th><th>change</th><th>bootstrap sd</th></tr>";
     for (std::size_t i = 0; i < c.old_fractions.size(); ++i)
-        html += fmt::format("<tr><td>{}</td><td>{:.4f}</td><td>{:.4f}</td><td>{}</td></tr>", xml_escape(recipe.components[i].label),
-                            c.old_fractions[i], c.new_fractions[i], format_signed(c.new_fractions[i] - c.old_fractions[i], 4));
+        html += fmt::format("<tr><td>{}</td><td>{:.4f}</td><td>{:.4f}</td><td>{}</td><td>{}</td></tr>", xml_escape(recipe.components[i].label),
+                            c.old_fractions[i], c.new_fractions[i], format_signed(c.new_fractions[i] - c.old_fractions[i], 4),
+                            i < ic.fraction_sd.size() ? format_fixed(ic.fraction_sd[i], 4, "-") : "-");
     html += fmt::format("</table><p>Expected centroid x {:.4f}, y {:.4f}: {:.2f} MacAdam steps from the target. {}</p>", c.expected_centroid.x,
                         c.expected_centroid.y, c.expected_steps, xml_escape(c.message));
+    html += fmt::format("<p>Bootstrap over the inlier lamps ({} resamples, seed {}; Efron and Tibshirani 1993): the corrected lot lands within sd x "
+                        "{:.4f}, y {:.4f}.</p>",
+                        ic.resamples, ic.seed, ic.landing_x_sd, ic.landing_y_sd);
+    html += fmt::format("<p id=\"prediction\">Predicted corrected lot: {} ({}).</p>", xml_escape(prediction_text(ic.prediction)), kPredictionMethod);
+    if (ic.prediction.warning) html += fmt::format("<p id=\"prediction-warning\" class=\"verdict some-fail\">Warning: {}</p>", xml_escape(ic.prediction.warning_text));
     return html + "<pre>" + xml_escape(recipe_to_toml(c.corrected, {correction_note()})) + "</pre></section>";
 }
 

@@ -5,6 +5,7 @@
 // lamp, the lot statistics.
 #include "lampwright/phosphor/blend.hpp"
 #include "lampwright/production/lot_correction.hpp"
+#include "lampwright/production/lot_diagnosis.hpp"
 #include "lampwright/production/qc.hpp"
 
 #include <nlohmann/json.hpp>
@@ -23,13 +24,14 @@ std::string qc_html_report(const QcRun& run, const std::string& extra_html = "")
 // The boundary of the spec's tolerance region as CIE 1976 u'v' points (closed polygon).
 std::vector<UV> tolerance_region_uv(const QcSpec& spec, int points = 180);
 
-// The corrected recipe of a lot: old and new fractions, the expected centroid and the new recipe
-// as TOML; as text and as the HTML section (id "correction") of the lot report.
-std::string lot_correction_text(const LotCorrection& c, const BlendInput& recipe, const std::string& recipe_path);
-std::string lot_correction_html(const LotCorrection& c, const BlendInput& recipe);
-// The correction for qc --format json ("correction" object; schema in README) and the corrected
-// recipe as a TOML file (qc --recipe-out), loadable by blend and fit.
-nlohmann::ordered_json lot_correction_json(const LotCorrection& c, const BlendInput& recipe, const std::string& recipe_path);
+// The corrected recipe of a lot (from the inlier centroid): old and new fractions with their
+// bootstrap sd, the expected centroid, the predicted corrected lot (Ra, R9, pass share and the
+// warning) and the new recipe as TOML; as text and as the HTML section (id "correction").
+std::string lot_correction_text(const InlierCorrection& c, const BlendInput& recipe, const std::string& recipe_path);
+std::string lot_correction_html(const InlierCorrection& c, const BlendInput& recipe);
+// The correction for qc --format json ("correction" object; docs/output-schemas.md) and the
+// corrected recipe as a TOML file (qc --recipe-out), loadable by blend and fit.
+nlohmann::ordered_json lot_correction_json(const InlierCorrection& c, const BlendInput& recipe, const std::string& recipe_path);
 std::string lot_correction_toml(const LotCorrection& c);
 
 }  // namespace lampwright
