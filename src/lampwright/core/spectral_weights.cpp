@@ -14,4 +14,8 @@ void weighted_sums_48(const double* __restrict weights, const double* __restrict
     for (int r = 0; r < 48; ++r) out[r] = acc[r];
 }
 
+void weighted_sums_48_blocks(const double* weights, const double* values, int n, int blocks, double* out) {
+    for (int b = 0; b < blocks; ++b) weighted_sums_48(weights + static_cast<std::size_t>(b) * n * 48, values, n, out + 48 * b);
+}
+
 }  // namespace lampwright
