@@ -44,6 +44,21 @@ void BM_Tm30Full(benchmark::State& state) {
 }
 BENCHMARK(BM_Tm30Full);
 
+// The first step alone: the 336 weighted sums over 401 wavelengths.
+void BM_Cie224Sums(benchmark::State& state) {
+    const auto spectra = prepared_spectra();
+    std::vector<std::vector<double>> values;
+    for (const auto& p : spectra) values.push_back(lampwright::cie224_range_values(p.spectrum));
+    (void)lampwright::cie224_tristimuli(values[0].data());
+    std::size_t i = 0;
+    for (auto _ : state) {
+        auto t = lampwright::cie224_tristimuli(values[i++ % values.size()].data());
+        benchmark::DoNotOptimize(t);
+    }
+    state.SetItemsProcessed(static_cast<int64_t>(state.iterations()));
+}
+BENCHMARK(BM_Cie224Sums);
+
 // assess with Ra and TM-30 (CCT included), without and with the spectral shape figures.
 void BM_AssessWithTm30(benchmark::State& state) {
     const auto spectra = prepared_spectra();

@@ -123,7 +123,7 @@ Jab Ciecam02::ucs(const XYZ& sample) const {
     const double b = (r.ra + r.ga - 2 * r.ba) / 9;
     const double big_a = (2 * r.ra + r.ga + r.ba / 20 - 0.305) * nbb_;
     const double j = 100 * std::pow(big_a / aw_, c_ * z_);
-    const double ab = std::hypot(a, b);
+    const double ab = std::sqrt(a * a + b * b);  // not std::hypot: no overflow is possible here, and it is slow
     Jab out;
     out.j = ucs_lightness(j);
     if (!(ab > 0)) return out;  // achromatic: M = 0
