@@ -140,3 +140,23 @@ TEST_CASE("cli tm30: blend, layer and compare append Rf and Rg at the end of the
     CHECK(bj["Rf"].is_number());
     CHECK(std::prev(bj.end()).key() == "Rg");  // appended last
 }
+
+TEST_CASE("cli tm30: fit --maximize rf and --min-rf on a blend; --min-rf is refused for an LED layer design") {
+    // fit --help: --min-rf applies to blend recipes; a floor the fit meets is listed as met.
+    const std::string recipe = kSource + "/examples/recipes/multiband_5000K.toml";
+    const auto r = run_cli("fit " + quote(recipe) + " --cct 5000 --maximize rf");
+    REQUIRE(r.exit_code == 0);  // common practice, no source
+    CHECK(r.out.find("maximum Rf (CIE 224)") != std::string::npos);
+    CHECK(r.out.find("Rf, Rg") != std::string::npos);
+    const auto m = run_cli("fit " + quote(recipe) + " --cct 5000 --min-rf 70 --format json");
+    REQUIRE(m.exit_code == 0);
+    const auto j = nlohmann::ordered_json::parse(m.out);
+    bool met = false;
+    for (const auto& c : j["constraints"]) met |= c["name"] == "Rf >=" && c["satisfied"] == true;
+    CHECK(met);
+    const auto bad = run_cli("fit " + quote(recipe) + " --cct 5000 --min-rf 101");
+    CHECK(bad.exit_code == 2);  // usage error: CIE 224 Rf lies in 0-100
+    const auto layer = run_cli("fit " + quote(kSource + "/examples/layers/module395_80um.toml") + " --cct 5000 --min-rf 70");
+    CHECK(layer.exit_code == 2);  // usage error
+    CHECK(layer.err.find("--min-rf") != std::string::npos);
+}
