@@ -1,4 +1,5 @@
-// Throughput of the full assess figures (xy, u'v', CCT, Duv, Ra, R1-R14, LER) on 1 nm spectra.
+// Throughput of the assess figures (xy, u'v', CCT, Duv, Ra, R1-R14, LER) on 1 nm spectra, without
+// CIE 224 / TM-30 (bench_tm30.cpp measures assess with them).
 #include "lampwright/colour/assessment.hpp"
 #include "lampwright/colour/cie_tables.hpp"
 #include "lampwright/colour/illuminants.hpp"
@@ -20,6 +21,7 @@ void BM_AssessFull(benchmark::State& state) {
     const auto spectra = sample_spectra();
     lampwright::AssessOptions opt;
     opt.spectral_features = state.range(0) != 0;
+    opt.colour_fidelity = false;
     (void)lampwright::assess(spectra[0], opt);  // load tables outside the timed loop
     std::size_t i = 0;
     for (auto _ : state) {

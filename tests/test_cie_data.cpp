@@ -137,8 +137,9 @@ TEST_CASE("embedded TCS01-TCS14 equal colord-data outside 380-780 nm and lie wit
     MESSAGE("TCS: worst difference from colord inside 380-780 nm: " << worst_inside);
 }
 
-TEST_CASE("embedded tables equal the published tables in ../shared (CMFs at 5 nm, S0-S2, FL1-FL12, TCS)") {
-    // ../shared/reference/README.md: values exactly as tabulated by the CIE.
+TEST_CASE("embedded tables equal the published tables in ../shared (CMFs at 5 nm, S0-S2, FL1-FL12, TCS, CES)") {
+    // ../shared/reference/README.md: values exactly as tabulated by the CIE (the CES of CIE 224:2017
+    // at 1 nm, and at 5 nm, which must be every fifth row of ours).
     struct Pair {
         const char* ours;
         std::string theirs;
@@ -149,6 +150,8 @@ TEST_CASE("embedded tables equal the published tables in ../shared (CMFs at 5 nm
         {"cie/cie_daylight_components.csv", lwtest::reference_file("cie_daylight_components_s0_s1_s2.csv")},
         {"cie/cie_fl_series.csv", lwtest::reference_file("cie_fl_series.csv")},
         {"cie/cie133_tcs.csv", lwtest::cie_tables_file("cie133_tcs_380_780.csv")},
+        {"cie/cie224_ces99.csv", lwtest::reference_file("cie224_ces99.csv")},
+        {"cie/cie224_ces99.csv", lwtest::reference_file("cie224_ces99_5nm.csv")},
     };
     for (const auto& p : pairs) {
         const std::string table_name = p.ours;

@@ -58,6 +58,10 @@ void check_answer(const FitProblem& p, const FitResult& r) {
     if (p.min_ra) CHECK(ra_of(again) >= *p.min_ra);
     if (p.min_r9) CHECK(again.assessment.rendering->ri[8] >= *p.min_r9);
     if (p.min_ler) CHECK(again.assessment.ler_lm_per_W >= *p.min_ler);
+    if (p.min_rf) {
+        REQUIRE(again.assessment.fidelity);
+        CHECK(again.assessment.fidelity->rf >= *p.min_rf);
+    }
     for (const auto& c : r.constraints) CHECK_MESSAGE(c.satisfied, c.text);
 }
 
@@ -210,6 +214,31 @@ TEST_CASE("optimiser: constraints hold on every returned answer") {
         REQUIRE(r.macadam_steps);
         CHECK(*r.macadam_steps <= 4.0);
     }
+}
+
+TEST_CASE("optimiser: the rf objective and the min_rf constraint (CIE 224 Rf)") {
+    // Maximising Rf can do no worse than the smallest-change answer at the same target, which is
+    // itself a feasible point (optimisation, common practice, no source); Rf of the fitted blend
+    // re-checked with evaluate_blend, whose assess() computes CIE 224 from the spectrum itself.
+    const auto rf_of = [](const BlendResult& b) { return b.assessment.fidelity ? b.assessment.fidelity->rf : -1.0; };
+    FitProblem base = fit_problem("multiband_5000K.toml", target_cct(5000, 0.0), FitObjective::closest_to_start);
+    const FitResult start = solve(base);
+    check_answer(base, start);
+    FitProblem best = fit_problem("multiband_5000K.toml", target_cct(5000, 0.0), FitObjective::rf);
+    const FitResult r = solve(best);
+    check_answer(best, r);
+    MESSAGE("multi-band 5000 K: Rf " << rf_of(start.result) << " (smallest change), " << rf_of(r.result) << " (maximised)");
+    CHECK(rf_of(r.result) >= rf_of(start.result) - 0.05);
+    CHECK(r.objective_value == doctest::Approx(rf_of(r.result)).epsilon(1e-9));  // the objective is Rf itself
+    // A floor halfway between the two is met (and reported) by an efficacy fit.
+    FitProblem floor = fit_problem("multiband_5000K.toml", target_cct(5000, 0.0), FitObjective::efficacy);
+    floor.min_rf = std::floor((rf_of(start.result) + rf_of(r.result)) / 2);
+    const FitResult f = solve(floor);
+    check_answer(floor, f);
+    bool reported = false;
+    for (const auto& c : f.constraints) reported |= c.name == "Rf >=";
+    CHECK(reported);
+    CHECK(parse_fit_objective("rf") == FitObjective::rf);
 }
 
 TEST_CASE("optimiser: infeasible targets are reported plainly, with the nearest reachable chromaticity") {

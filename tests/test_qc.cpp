@@ -46,6 +46,10 @@ TEST_CASE("qc spec: the three target kinds and the limits load") {
     CHECK(f.max_steps == 4);
     CHECK(f.centre.x == doctest::Approx(0.3818));  // ANSI C78.376 F4100 centre (from memory, shared/standards-facts.md)
     CHECK(*f.ra_min == 80);
+    const auto t = load_qc_spec(dir.write("t.toml", "name='F4100'\n[target]\nflamp='F4100'\n[limits]\nmin_rf=80\nmin_rg=95\nmax_rg=110\n"));
+    CHECK(*t.rf_min == 80);  // the file's value
+    CHECK(*t.rg_min == 95);  // the file's value
+    CHECK(*t.rg_max == 110);  // the file's value
     const auto q = load_qc_spec(dir.write("b.toml", "name='SSL 3500'\n[target]\nansi_class=3500\n"));
     CHECK(q.region == QcSpec::Region::ansi_quadrangle);
     CHECK(q.centre.x == doctest::Approx(0.4078));  // ANSI C78.377-2017 Table 1
@@ -62,6 +66,11 @@ TEST_CASE("qc spec: the three target kinds and the limits load") {
         {"name='x'\n[target]\nflamp='F4100'\n[limits]\nflux_min_lm=3000\nflux_max_lm=2500\n", "flux_min_lm (3000) must be below flux_max_lm (2500)"},
         {"name='x'\n[target]\nflamp='F4100'\n[limits]\nra_minimum=80\n", "unknown key"},
         {"name='x'\n[target]\nx=0.38\ny=0.38\nsteps=4\nduv_prime_max=0.004\n", "not both"},
+        // CIE 224:2017 eq. 10: Rf lies in 0-100; TM-30-20 Rg is a positive ratio.
+        {"name='x'\n[target]\nflamp='F4100'\n[limits]\nmin_rf=101\n", "limits.min_rf"},
+        {"name='x'\n[target]\nflamp='F4100'\n[limits]\nmin_rf=-3\n", "must lie in 0-100"},
+        {"name='x'\n[target]\nflamp='F4100'\n[limits]\nmax_rg=0\n", "limits.max_rg"},
+        {"name='x'\n[target]\nflamp='F4100'\n[limits]\nmin_rg=110\nmax_rg=90\n", "min_rg (110) must be below max_rg (90)"},
     };
     for (const auto& b : bad) {
         const std::string path = dir.write("bad.toml", b[0]);
@@ -102,6 +111,33 @@ TEST_CASE("qc: a lamp is judged against every limit and the failures are named")
     const LampResult fl11 = judge_lamp(spec, assess(cie_fl_illuminant(11)));
     for (const auto& f : fl11.failures) CHECK(f.find("Ra") == std::string::npos);
     for (const auto& f : fl11.failures) CHECK(f.find("CCT") == std::string::npos);
+}
+
+TEST_CASE("qc: Rf and Rg limits (CIE 224, TM-30-20) judge a lamp and name the failure") {
+    QcSpec spec;
+    spec.centre = {0.3721, 0.3751};
+    spec.step_ellipse = macadam_ellipse(spec.centre, 0.003, 0.001, 0.0);
+    spec.max_steps = 4;
+    // CIE FL2: Rf 70.1 (CIE 224 calculator), Rg 86 (TM-30-18 calculator), both from memory.
+    const Assessment a = assess(cie_fl_illuminant(2));
+    spec.rf_min = 75;
+    spec.rg_max = 85;
+    const LampResult bad = judge_lamp(spec, a);
+    bool rf_named = false, rg_named = false;
+    for (const auto& f : bad.failures) {
+        rf_named |= f.find("Rf 70.1 < 75") != std::string::npos;
+        rg_named |= f.find("Rg 86.") != std::string::npos && f.find("> 85") != std::string::npos;
+    }
+    CHECK(rf_named);  // CIE 224 calculator FL2 Rf 70.1, from memory
+    CHECK(rg_named);  // TM-30-18 calculator FL2 Rg 86, from memory
+    spec.rf_min = 70;
+    spec.rg_min = 85;
+    spec.rg_max = 88;
+    const LampResult good = judge_lamp(spec, a);
+    for (const auto& f : good.failures) {
+        CHECK(f.find("Rf") == std::string::npos);  // 70.1 >= 70
+        CHECK(f.find("Rg") == std::string::npos);  // 85 <= 86.4 <= 88
+    }
 }
 
 TEST_CASE("qc: Ppk follows the textbook formula") {

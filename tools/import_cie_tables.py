@@ -8,6 +8,7 @@ Sources (each output file repeats its own in its '#' header):
   colord-data  /usr/share/colord/cmf/CIE1931-2deg-XYZ.cmf, CIE1964-10deg-XYZ.cmf,
                ref/CIE-1986-daylight-SPD.cmf, ref/CIE-TCS.sp, illuminant/CIE-F*.sp
   CIE 13.3-1995 TCS01-TCS14 at 3 decimals, 380-780 nm (cie133_tcs_380_780.csv)
+  CIE 224:2017 CES01-CES99, 380-780 nm at 1 nm (cie224_ces99_380_780.csv), copied unchanged
 Corrections: colord stores the F-series as CIE value / 100 and has six values that
 differ from CIE 15:2004 Table T.6; the CIE values are applied below.
 """
@@ -67,6 +68,8 @@ def main():
     ap.add_argument("--tcs", default=os.path.join(os.path.dirname(__file__), "..", "..",
                                                   "shared", "cie-tables", "cie133_tcs_380_780.csv"))
     ap.add_argument("--out", default=os.path.join(os.path.dirname(__file__), "..", "data", "cie"))
+    ap.add_argument("--ces", default=os.path.join(os.path.dirname(__file__), "..", "..",
+                                                  "shared", "cie-tables", "cie224_ces99_380_780.csv"))
     a = ap.parse_args()
     c = a.colord
     os.makedirs(a.out, exist_ok=True)
@@ -123,6 +126,19 @@ def main():
                  "360-375 nm and 785-830 nm: Debian package colord-data, /usr/share/colord/ref/CIE-TCS.sp",
                  "(2 decimals; the colour-matching functions are negligible there). tools/import_cie_tables.py."],
                 ids, wl, [series[i] for i in ids])
+
+    # CIE 224:2017 CES: the published table, values and header row unchanged.
+    with open(a.ces) as f:
+        body = f.read()
+    out = os.path.join(a.out, "cie224_ces99.csv")
+    with open(out, "w", newline="") as f:
+        for h in ["CIE 224:2017 colour evaluation samples CES01-CES99 (spectral reflectance factors, 380-780 nm, 1 nm);",
+                  "ANSI/IES TM-30-18/-20 use the same 99 samples. Carried unchanged from the published CIE table",
+                  "(shared/cie-tables/cie224_ces99_380_780.csv, published free by the CIE with the standard)",
+                  "by tools/import_cie_tables.py. A 5 nm computation uses every fifth row."]:
+            f.write("# " + h + "\n")
+        f.write(body)
+    print("wrote", out)
 
 
 if __name__ == "__main__":

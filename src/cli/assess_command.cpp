@@ -21,7 +21,8 @@ namespace {
 const char* kAssessHelp = R"(Usage: lampwright assess [options] FILE...
 
 Computes, for every spectrum: CIE x, y and u', v'; CCT and Duv; CIE 13.3 colour rendering
-(Ra, R1-R14); luminous efficacy of radiation; peak, centroid, FWHM, dominant wavelength. Spectra in absolute
+(Ra, R1-R14); CIE 224:2017 colour fidelity Rf and the ANSI/IES TM-30-20 gamut index Rg with the
+16 hue-bin figures (computed at 1 nm; CSV and JSON); luminous efficacy of radiation; peak, centroid, FWHM, dominant wavelength. Spectra in absolute
 units (W/nm, mW/nm, uW/nm: a '# units: W/nm' line in the file, a TM-27 SpectralQuantity of flux,
 or --units) also get the luminous flux Phi_v = 683.002 lm/W x integral S V dl, and with the
 electrical power ('# power_W: 12.5' in the file, or --power-W) the luminous efficacy in lm/W.
@@ -38,13 +39,15 @@ Options)";
 
 int run_assess(int argc, char** argv) {
     po::options_description opts(kAssessHelp);
-    std::string format = "text", observer = "2", cct_method = "ohno", units;
+    std::string format = "text", observer = "2", cct_method = "ohno", units, cvg;
     double power_W = 0;
     opts.add_options()("help,h", "show this help")
         ("format,f", po::value(&format), "text | csv | json (default text)")
         ("observer", po::value(&observer), "2 | 10: observer for x, y, u', v' (CCT and Ra always use 2°)")
         ("cct-method", po::value(&cct_method), "ohno (Ohno 2014, default) | robertson (Robertson 1968)")
-        ("units", po::value(&units), kUnitsHelp);
+        ("units", po::value(&units), kUnitsHelp)
+        ("ces", "CSV/JSON: add Rf of each of the 99 CIE 224 colour evaluation samples (Rf_ces01..Rf_ces99)")
+        ("cvg", po::value(&cvg), "write the TM-30 colour vector graphic of every spectrum to this SVG file");
     add_number_option(opts, "power-W", &power_W, kPowerRange, kPowerHelp);
     std::vector<std::string> files;
     po::variables_map vm;
@@ -60,10 +63,20 @@ int run_assess(int argc, char** argv) {
     SpectrumReadOptions read;
     apply_photometry_options(units, vm.count("power-W") ? std::optional<double>(power_W) : std::nullopt, read);
     if (files.empty()) throw UsageError{"assess: no input file (use '-' for standard input); see lampwright assess --help"};
+    const bool ces = vm.count("ces") > 0;
+    std::vector<FileRole> inputs;
+    for (const auto& f : files)
+        if (f != "-") inputs.push_back({f, "an input spectrum"});
+    check_outputs_apart({{cvg, "--cvg"}}, inputs);
+    std::vector<Assessment> assessed;
 
     int status = kExitOk;
     nlohmann::ordered_json json_out = nlohmann::ordered_json::array();
-    if (fmt_out == Format::csv) std::cout << csv_line(assessment_columns()) << '\n';
+    if (fmt_out == Format::csv) {
+        auto cols = assessment_columns();
+        for (auto& c : fidelity_columns(ces)) cols.push_back(std::move(c));
+        std::cout << csv_line(cols) << '\n';
+    }
     bool first = true;
     for (const auto& file : files) {
         SpectrumFile parsed;
@@ -89,18 +102,35 @@ int run_assess(int argc, char** argv) {
                 case Format::text:
                     std::cout << (first ? "" : "\n") << assessment_text(a);
                     break;
-                case Format::csv: std::cout << csv_line(assessment_values(a)) << '\n'; break;
+                case Format::csv: {
+                    auto vals = assessment_values(a);
+                    for (auto& v : fidelity_values(a, ces)) vals.push_back(std::move(v));
+                    std::cout << csv_line(vals) << '\n';
+                    break;
+                }
                 case Format::json: {
                     auto j = assessment_json(a);
+                    add_fidelity_json(j, a, ces);
                     for (const auto& w : parsed.warnings) j["warnings"].push_back(w);  // the file's warnings hold for each spectrum
                     json_out.push_back(std::move(j));
                     break;
                 }
             }
             first = false;
+            if (!cvg.empty()) assessed.push_back(std::move(a));
         }
     }
     if (fmt_out == Format::json) std::cout << dump_json(json_out) << '\n';
+    if (!cvg.empty()) {
+        bool any = false;
+        for (const auto& a : assessed) any = any || a.fidelity.has_value();
+        if (!any) {
+            print_error("--cvg: no spectrum has a CCT, so there is no colour vector graphic to write");
+            status = status == kExitOk ? kExitBadInput : status;
+        } else if (!write_document(cvg, colour_vector_graphic_svg(assessed))) {
+            status |= kExitOutputNotWritten;
+        }
+    }
     return status;
 }
 

@@ -58,10 +58,21 @@ efficiency, radiant efficiency and efficacy per W of absorbed excitation. See RE
     }
     switch (f) {
         case Format::text: std::cout << blend_text(result, recipe.blend); break;
-        case Format::csv:
-            std::cout << csv_line(blend_columns(result)) << '\n' << csv_line(blend_values(result)) << '\n';
+        case Format::csv: {
+            // CIE 224 Rf and TM-30 Rg after the blend's own columns (docs/output-schemas.md).
+            auto cols = blend_columns(result);
+            auto vals = blend_values(result);
+            for (auto& c : fidelity_summary_columns()) cols.push_back(std::move(c));
+            for (auto& v : fidelity_summary_values(result.assessment)) vals.push_back(std::move(v));
+            std::cout << csv_line(cols) << '\n' << csv_line(vals) << '\n';
             break;
-        case Format::json: std::cout << dump_json(blend_json(result, recipe.blend)) << '\n'; break;
+        }
+        case Format::json: {
+            auto j = blend_json(result, recipe.blend);
+            add_fidelity_summary_json(j, result.assessment);
+            std::cout << dump_json(j) << '\n';
+            break;
+        }
     }
     return kExitOk;
 }

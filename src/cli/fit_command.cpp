@@ -38,6 +38,8 @@ const NumberRange kStepsRange{.min = 0, .max = 20, .unit = "MacAdam steps", .min
 const NumberRange kR9WeightRange{.min = 0, .max = 1};
 const NumberRange kToleranceRange{.min = 0, .max = 0.05, .unit = "delta u'v'", .min_exclusive = true};
 const NumberRange kMinRaRange{.min = -100, .max = 100, .unit = "Ra"};
+// CIE 224:2017 eq. 10: Rf lies in 0-100.
+const NumberRange kMinRfRange{.min = 0, .max = 100, .unit = "Rf"};
 const NumberRange kMinR9Range{.min = -300, .max = 100, .unit = "R9"};
 const NumberRange kMinLerRange{.min = 0, .max = 683, .unit = "lm/W", .note = "683 lm/W is the most any light can reach"};
 const NumberRange kAnsiRange{.min = 2200, .max = 6500, .unit = "K", .whole = true};
@@ -120,7 +122,7 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     int ansi = 0, points = 30, choose = 0;
     std::string front, front_csv_path, front_svg_path, weighing_sigma = "0", peak_sigma = "0", qe_sigma = "0";
     long long draws = 100000, seed = 1;
-    double min_ra = 0, min_r9 = 0, min_ler = 0;
+    double min_ra = 0, min_r9 = 0, min_ler = 0, min_rf = 0;
     opts.add_options()("help,h", "show this help");
     add_number_option(opts, "cct", &cct, kCctRange, "target CCT");
     add_number_option(opts, "duv", &duv, kDuvRange, "target Duv (with --cct; default 0)");
@@ -128,12 +130,13 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     add_number_option(opts, "ansi", &ansi, kAnsiRange, "ANSI C78.377 nominal CCT class");
     opts.add_options()("flamp", po::value(&flamp), "ANSI C78.376 lamp colour, e.g. F4100");
     add_number_option(opts, "steps", &steps, kStepsRange, "MacAdam ellipse size with --flamp or --tolerance-run (default 4)");
-    opts.add_options()("maximize", po::value(&maximize), "ra | r9 | ra-r9 | ler | efficacy; default: the smallest change from the recipe");
+    opts.add_options()("maximize", po::value(&maximize), "ra | r9 | ra-r9 | ler | efficacy | rf (CIE 224 Rf); default: the smallest change from the recipe");
     add_number_option(opts, "r9-weight", &r9_weight, kR9WeightRange, "k in (1-k) Ra + k R9 for --maximize ra-r9 (default 0.5)");
     add_number_option(opts, "tolerance", &tolerance, kToleranceRange, "chromaticity tolerance, delta u'v' (default 0.0005; not with --flamp)");
     add_number_option(opts, "min-ra", &min_ra, kMinRaRange, "require Ra >= this");
     add_number_option(opts, "min-r9", &min_r9, kMinR9Range, "require R9 >= this");
     add_number_option(opts, "min-ler", &min_ler, kMinLerRange, "require LER >= this");
+    add_number_option(opts, "min-rf", &min_rf, kMinRfRange, "require CIE 224 Rf >= this (blend recipes)");
     opts.add_options()("method", po::value(&method), "auto | exact | nlopt (default auto)")
         ("sensitivity", "text format: also print what one percentage point more of each component does to u', v', CCT, Duv, Ra")
         ("recipe-out", po::value(&recipe_out), "write the fitted recipe (TOML, loadable by 'blend')")
@@ -209,7 +212,7 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     } catch (const Error& e) {
         throw UsageError{std::string("fit: ") + e.what()};
     }
-    if (maximize == "change" && vm.count("maximize")) throw UsageError{"fit: --maximize takes ra, r9, ra-r9, ler or efficacy"};
+    if (maximize == "change" && vm.count("maximize")) throw UsageError{"fit: --maximize takes ra, r9, ra-r9, ler, efficacy or rf"};
     FitOptions options;
     if (method == "exact") options.method = FitMethod::exact;
     else if (method == "nlopt") options.method = FitMethod::nlopt;
@@ -219,13 +222,14 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     if (vm.count("min-ra")) p.min_ra = min_ra;
     if (vm.count("min-r9")) p.min_r9 = min_r9;
     if (vm.count("min-ler")) p.min_ler = min_ler;
+    if (vm.count("min-rf")) p.min_rf = min_rf;
 
     std::vector<FileRole> inputs{{recipes.front(), "the recipe"}};
     add_inputs(inputs, folders, "--phosphors folder");
     check_outputs_apart({{recipe_out, "--recipe-out"}, {front_csv_path, "--front-csv"}, {front_svg_path, "--front-svg"}}, inputs);
 
     if (const TomlDoc doc = TomlDoc::from_file(recipes.front()); is_layer_design(doc)) {
-        for (const char* o : {"front", "choose", "tolerance-run", "sensitivity", "min-ler", "method"})
+        for (const char* o : {"front", "choose", "tolerance-run", "sensitivity", "min-ler", "min-rf", "method"})
             if (vm.count(o)) throw UsageError{fmt::format("fit: --{} applies to blend recipes, not to LED layer designs", o)};
         LayerFitProblem lp;
         lp.design = layer_design_from_toml(doc, folders);

@@ -54,8 +54,21 @@ local codes and licensed practice.
     }
     switch (f) {
         case Format::text: std::cout << layer_text(rep); break;
-        case Format::csv: std::cout << csv_line(layer_columns()) << '\n' << csv_line(layer_values(rep)) << '\n'; break;
-        case Format::json: std::cout << dump_json(layer_json(rep)) << '\n'; break;
+        case Format::csv: {
+            // CIE 224 Rf and TM-30 Rg after the layer's own columns (docs/output-schemas.md).
+            auto cols = layer_columns();
+            auto vals = layer_values(rep);
+            for (auto& c : fidelity_summary_columns()) cols.push_back(std::move(c));
+            for (auto& v : fidelity_summary_values(rep.operating.assessment)) vals.push_back(std::move(v));
+            std::cout << csv_line(cols) << '\n' << csv_line(vals) << '\n';
+            break;
+        }
+        case Format::json: {
+            auto j = layer_json(rep);
+            add_fidelity_summary_json(j, rep.operating.assessment);
+            std::cout << dump_json(j) << '\n';
+            break;
+        }
     }
     return kExitOk;
 }

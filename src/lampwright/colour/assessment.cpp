@@ -62,6 +62,10 @@ void require_finite(const Assessment& a) {
         check("Ra", a.rendering->ra);
         for (double r : a.rendering->ri) check("Ri", r);
     }
+    if (a.fidelity) {
+        check("Rf", a.fidelity->rf);
+        check("Rg", a.fidelity->rg);
+    }
     check("LER", a.ler_lm_per_W);
     if (a.luminous_flux_lm) check("luminous flux", *a.luminous_flux_lm);
     if (a.efficacy_lm_per_W) check("luminous efficacy", *a.efficacy_lm_per_W);
@@ -89,6 +93,16 @@ Assessment assess_finite(const Spectrum& s, const AssessOptions& options) {
         a.xyz = tristimulus_colour_range(values.data(), options.observer);
         a.xy = chromaticity(a.xyz);
         a.uv_prime = uv_1976(a.xyz);
+    }
+    if (options.colour_fidelity && a.cct.valid) {
+        // CIE 224:2017, 4.1: zero outside the data (not extended), within 380-780 nm.
+        const bool covered = s.covers(kCesFirstNm) && s.covers(kCesLastNm);
+        const CesTristimuli ces = covered ? cie224_tristimuli(values.data()) : cie224_tristimuli(cie224_range_values(s).data());
+        try {
+            a.fidelity = colour_fidelity_from_tristimuli(ces, a.cct.cct_K);
+        } catch (const Error& e) {
+            a.warnings.push_back(std::string(e.what()) + "; Rf and Rg not computed");
+        }
     }
     if (options.spectral_features) a.features = spectral_features(s, chromaticity(XYZ{tri[0], tri[1], tri[2]}));
     if (s.absolute) {

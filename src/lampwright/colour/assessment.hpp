@@ -1,8 +1,9 @@
 #pragma once
 // Every figure a datasheet carries for one spectrum: colorimetry (CIE 15:2004), CCT and Duv
-// (Ohno 2014 or Robertson 1968), colour rendering (CIE 13.3-1995), luminous efficacy of
-// radiation and spectral shape figures.
+// (Ohno 2014 or Robertson 1968), colour rendering (CIE 13.3-1995), colour fidelity and gamut
+// (CIE 224:2017, ANSI/IES TM-30-20), luminous efficacy of radiation and spectral shape figures.
 #include "lampwright/colour/colorimetry.hpp"
+#include "lampwright/colour/colour_fidelity.hpp"
 #include "lampwright/colour/colour_rendering.hpp"
 #include "lampwright/colour/spectral_features.hpp"
 #include "lampwright/core/spectrum.hpp"
@@ -20,6 +21,8 @@ struct AssessOptions {
     Observer observer = Observer::cie1931_2deg;
     CctMethod cct_method = CctMethod::ohno2014;
     bool spectral_features = true;
+    // CIE 224:2017 Rf and the TM-30-20 figures (with the CCT of the 2-degree observer).
+    bool colour_fidelity = true;
 };
 
 struct Assessment {
@@ -31,6 +34,7 @@ struct Assessment {
     UV uv1960;             // CIE 1960 u, v, 2-degree observer
     CctResult cct;         // 2-degree observer
     std::optional<ColourRendering> rendering;  // present when the CCT is
+    std::optional<ColourFidelity> fidelity;    // CIE 224 / TM-30; present when the CCT is (and asked for)
     double ler_lm_per_W = 0;
     // Absolute photometry, for a spectrum in W/nm (Spectrum::absolute): luminous flux, and with
     // the lamp's electrical input power its luminous efficacy (lm/W). Empty for relative spectra,

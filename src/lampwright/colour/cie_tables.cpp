@@ -70,6 +70,24 @@ const std::array<std::vector<double>, 14>& cie133_test_samples() {
     return samples;
 }
 
+const std::array<std::vector<double>, kCesCount>& cie224_colour_evaluation_samples() {
+    static const std::array<std::vector<double>, kCesCount> samples = [] {
+        const std::string path = "cie/cie224_ces99.csv";
+        const auto table = load_table(path);
+        if (table.size() != kCesCount) throw Error("data/" + path + " must hold CES01-CES99");
+        std::array<std::vector<double>, kCesCount> out;
+        for (std::size_t i = 0; i < out.size(); ++i) {
+            const auto& s = table[i];
+            if (s.wavelengths_nm.size() != static_cast<std::size_t>(kCesSize) || s.wavelengths_nm.front() != kCesFirstNm ||
+                s.wavelengths_nm.back() != kCesLastNm)
+                throw Error("data/" + path + " must cover 380-780 nm at 1 nm");
+            out[i] = s.values;
+        }
+        return out;
+    }();
+    return samples;
+}
+
 SampledSpectrum cie_fl_table(int n) {
     static const std::vector<SampledSpectrum> table = load_table("cie/cie_fl_series.csv");
     if (n < 1 || n > static_cast<int>(table.size())) throw Error(fmt::format("there is no CIE illuminant FL{}", n));

@@ -24,6 +24,14 @@ const std::array<Spectrum, 3>& daylight_components();
 // CIE 13.3-1995 test colour samples TCS01-TCS14 on 360-830 nm at 1 nm (Sprague).
 const std::array<std::vector<double>, 14>& cie133_test_samples();
 
+// CIE 224:2017 colour evaluation samples CES01-CES99 (also those of ANSI/IES TM-30-20): spectral
+// reflectance factors on 380-780 nm at 1 nm (kCesSize values each), as tabulated.
+inline constexpr int kCesFirstNm = 380;
+inline constexpr int kCesLastNm = 780;
+inline constexpr int kCesSize = kCesLastNm - kCesFirstNm + 1;
+inline constexpr int kCesCount = 99;
+const std::array<std::vector<double>, kCesCount>& cie224_colour_evaluation_samples();
+
 // CIE 15:2004 Table T.6 fluorescent illuminant FLn (n = 1..12): the 5 nm table and its 1 nm form.
 SampledSpectrum cie_fl_table(int n);
 Spectrum cie_fl_illuminant(int n);

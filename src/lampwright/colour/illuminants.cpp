@@ -32,15 +32,16 @@ Chromaticity daylight_chromaticity(double t, bool allow_extrapolation) {
     return {x, -3.000 * x * x + 2.870 * x - 0.275};
 }
 
-DaylightWeights daylight_weights(const Chromaticity& p) {
+DaylightWeights daylight_weights(const Chromaticity& p, bool round_weights) {
     const double m = 0.0241 + 0.2562 * p.x - 0.7341 * p.y;
     const double m1 = (-1.3515 - 1.7703 * p.x + 5.9114 * p.y) / m;
     const double m2 = (0.0300 - 31.4424 * p.x + 30.0717 * p.y) / m;
+    if (!round_weights) return {m1, m2};
     return {std::round(m1 * 1000.0) / 1000.0, std::round(m2 * 1000.0) / 1000.0};
 }
 
-Spectrum daylight(double cct_K, bool allow_extrapolation) {
-    const auto w = daylight_weights(daylight_chromaticity(cct_K, allow_extrapolation));
+Spectrum daylight(double cct_K, bool allow_extrapolation, bool round_weights) {
+    const auto w = daylight_weights(daylight_chromaticity(cct_K, allow_extrapolation), round_weights);
     const auto& s = daylight_components();
     Spectrum d{fmt::format("CIE daylight {:g} K", cct_K), s[0].first_nm, s[0].values};
     for (std::size_t i = 0; i < d.values.size(); ++i) d.values[i] += w.m1 * s[1].values[i] + w.m2 * s[2].values[i];

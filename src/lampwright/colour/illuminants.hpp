@@ -20,9 +20,11 @@ Chromaticity daylight_chromaticity(double cct_K, bool allow_extrapolation = fals
 struct DaylightWeights {
     double m1 = 0, m2 = 0;
 };
-DaylightWeights daylight_weights(const Chromaticity& xy);
+// CIE 15:2004 rounds M1, M2 so that computed daylights match the tabulated D65; CIE 224:2017
+// needs a reference that is continuous in CCT, and uses them unrounded (round_weights = false).
+DaylightWeights daylight_weights(const Chromaticity& xy, bool round_weights = true);
 // S0 + M1 S1 + M2 S2 on 300-830 nm at 1 nm (CIE 15:2004, 3.1).
-Spectrum daylight(double cct_K, bool allow_extrapolation = false);
+Spectrum daylight(double cct_K, bool allow_extrapolation = false, bool round_weights = true);
 
 // CIE standard illuminant A from its defining formula (CIE 15:2004 eq. 3.1; c2 = 1.435e-2 m K,
 // T = 2848 K, 100 at 560 nm) on 300-830 nm.

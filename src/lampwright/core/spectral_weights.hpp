@@ -24,6 +24,10 @@ private:
 };
 
 void weighted_sums_48(const double* weights, const double* values, int n, double* out);
+// Many blocks of 48 rows over the same n values: block b's weights are the n x 48 column-major
+// array at weights + b * n * 48, its sums go to out[48 b .. 48 b + 47]. The weights are stored as
+// float (half the memory, so a large table stays in the core's cache); the sums are double.
+void weighted_sums_48_blocks(const float* weights, const double* values, int n, int blocks, double* out);
 
 template <>
 inline std::array<double, 48> SpectralWeights<48>::apply(const double* values) const {

@@ -1,5 +1,6 @@
 #include "lampwright/design/optimiser.hpp"
 
+#include "lampwright/colour/colour_fidelity.hpp"
 #include "lampwright/colour/colour_rendering.hpp"
 #include "lampwright/core/error.hpp"
 
@@ -18,7 +19,7 @@ namespace {
 
 // Inner margins, so that answers re-checked on fractions rounded to 6 decimals still hold.
 constexpr double kChromaticityMargin = 0.99;  // solve to 99 % of the tolerance
-constexpr double kIndexMargin = 0.01;         // Ra, R9, LER lower bounds + 0.01
+constexpr double kIndexMargin = 0.01;         // Ra, R9, LER, Rf lower bounds + 0.01
 constexpr double kDropFraction = 1e-5;        // fractions below this are set to zero
 constexpr double kActiveFraction = 1e-4;      // a fraction this close to its limit is active
 constexpr double kFractionRounding = 5e-7;    // a result's fractions are rounded to 6 decimals (tidy)
@@ -27,13 +28,15 @@ constexpr double kPenalty = 1e3;              // objective where CCT or Ra does 
 double round6(double v) { return std::round(v * 1e6) / 1e6; }
 
 // The blend as linear sums of precomputed per-component quantities: sample tristimuli (CIE 13.3
-// TCS and the white), radiant integral and phosphor luminous flux per unit photon share.
+// TCS and the white; with_fidelity: also the CIE 224 CES, 10-degree observer), radiant integral
+// and phosphor luminous flux per unit photon share.
 class FastBlend {
 public:
-    explicit FastBlend(const BlendInput& in) : basis_(blend_basis(in)) {
+    explicit FastBlend(const BlendInput& in, bool with_fidelity = false) : basis_(blend_basis(in)), with_fidelity_(with_fidelity) {
         for (std::size_t i = 0; i < basis_.light.size(); ++i) {
             const auto v = colour_range_values(basis_.light[i]);
             tri_.push_back(cie133_tristimuli(v.data()));
+            if (with_fidelity_) ces_.push_back(cie224_tristimuli(cie224_range_values(basis_.light[i]).data()));
             radiant_.push_back(radiant_integral(basis_.light[i]));
             phosphor_lm_.push_back(kKm * tristimulus(basis_.phosphor_light[i]).Y);
             if (!(basis_.share_weight[i] > 0))
@@ -59,13 +62,26 @@ public:
             lm += s[i] * phosphor_lm_[i];
         }
         ++evaluations;
-        return {assess_from_tristimuli(t, radiant), lm};
+        Eval e{assess_from_tristimuli(t, radiant), lm};
+        if (with_fidelity_ && e.a.cct.valid) {
+            // CIE 224 sums are linear in the light too (CIE 224:2017, 4.2).
+            CesTristimuli c{};
+            for (std::size_t i = 0; i < s.size(); ++i)
+                for (std::size_t k = 0; k < c.size(); ++k) c[k] += s[i] * ces_[i][k];
+            try {
+                e.a.fidelity = colour_fidelity_from_tristimuli(c, e.a.cct.cct_K);
+            } catch (const Error&) {
+            }
+        }
+        return e;
     }
     mutable int evaluations = 0;
 
 private:
     BlendBasis basis_;
+    bool with_fidelity_ = false;
     std::vector<SampleTristimuli> tri_;
+    std::vector<CesTristimuli> ces_;
     std::vector<double> radiant_, phosphor_lm_;
 };
 
@@ -280,7 +296,7 @@ double nlopt_objective(unsigned n, const double* z, double*, void* data) {
 
 struct IndexConstraint {
     NloptContext* c;
-    int which;  // 0 chromaticity, 1 Ra, 2 R9, 3 LER, 4 elim >= lo, 5 elim <= hi
+    int which;  // 0 chromaticity, 1 Ra, 2 R9, 3 LER, 4 elim >= lo, 5 elim <= hi, 6 Rf
 };
 
 double nlopt_constraint(unsigned n, const double* z, double*, void* data) {
@@ -299,6 +315,7 @@ double nlopt_constraint(unsigned n, const double* z, double*, void* data) {
         case 0: return chromaticity_ratio2(p, e.a) - kChromaticityMargin * kChromaticityMargin;
         case 1: return e.a.rendering ? (*p.min_ra + kIndexMargin) - e.a.rendering->ra : kPenalty;
         case 2: return e.a.rendering ? (*p.min_r9 + kIndexMargin) - e.a.rendering->ri[8] : kPenalty;
+        case 6: return e.a.fidelity ? (*p.min_rf + kIndexMargin) - e.a.fidelity->rf : kPenalty;
         default: return (*p.min_ler + kIndexMargin) - e.a.ler_lm_per_W;
     }
 }
@@ -324,7 +341,7 @@ std::pair<std::vector<double>, std::vector<double>> run_start(const FitProblem& 
         return {after1, after2};
     }
     std::vector<IndexConstraint> cons;
-    for (int k = 0; k < 6; ++k) cons.push_back({&ctx, k});
+    for (int k = 0; k < 7; ++k) cons.push_back({&ctx, k});
     auto run = [&](int phase) {
         ctx.phase = phase;
         ctx.cached_z.clear();
@@ -342,6 +359,7 @@ std::pair<std::vector<double>, std::vector<double>> run_start(const FitProblem& 
             if (p.min_ra) o.add_inequality_constraint(nlopt_constraint, &cons[1], 1e-9);
             if (p.min_r9) o.add_inequality_constraint(nlopt_constraint, &cons[2], 1e-9);
             if (p.min_ler) o.add_inequality_constraint(nlopt_constraint, &cons[3], 1e-9);
+            if (p.min_rf) o.add_inequality_constraint(nlopt_constraint, &cons[6], 1e-9);
         }
         o.set_xtol_abs(1e-6);
         o.set_ftol_abs(1e-7);
@@ -439,6 +457,7 @@ double on_target_index(unsigned, const double* t, double*, void* data) {
     if (!e || !(e->a.xyz.Y > 0)) return kPenalty;
     if (ic.second == 1) return e->a.rendering ? (*p.min_ra + kIndexMargin) - e->a.rendering->ra : kPenalty;
     if (ic.second == 2) return e->a.rendering ? (*p.min_r9 + kIndexMargin) - e->a.rendering->ri[8] : kPenalty;
+    if (ic.second == 4) return e->a.fidelity ? (*p.min_rf + kIndexMargin) - e->a.fidelity->rf : kPenalty;
     return (*p.min_ler + kIndexMargin) - e->a.ler_lm_per_W;
 }
 
@@ -452,10 +471,11 @@ std::vector<double> run_on_target(const FitProblem& p, const FastBlend& fb, cons
     nlopt::opt o(nlopt::LN_COBYLA, m);
     o.set_min_objective(on_target_objective, &ctx);
     o.add_inequality_mconstraint(on_target_limits, &ctx, std::vector<double>(2 * static_cast<std::size_t>(n), 1e-12));
-    std::vector<std::pair<OnTargetContext*, int>> idx{{&ctx, 1}, {&ctx, 2}, {&ctx, 3}};
+    std::vector<std::pair<OnTargetContext*, int>> idx{{&ctx, 1}, {&ctx, 2}, {&ctx, 3}, {&ctx, 4}};
     if (p.min_ra) o.add_inequality_constraint(on_target_index, &idx[0], 1e-9);
     if (p.min_r9) o.add_inequality_constraint(on_target_index, &idx[1], 1e-9);
     if (p.min_ler) o.add_inequality_constraint(on_target_index, &idx[2], 1e-9);
+    if (p.min_rf) o.add_inequality_constraint(on_target_index, &idx[3], 1e-9);
     o.set_xtol_abs(1e-6);
     o.set_ftol_abs(1e-7);
     o.set_maxeval(opt.max_evaluations);
@@ -503,6 +523,7 @@ double objective_figure(FitObjective o, double r9_weight, const Assessment& a, d
         case FitObjective::closest_to_start: return -change;
         case FitObjective::ler: return a.ler_lm_per_W;
         case FitObjective::efficacy: return efficacy;
+        case FitObjective::rf: return a.fidelity ? a.fidelity->rf : -kPenalty;
         default: break;
     }
     if (!a.rendering) return -kPenalty;
@@ -529,7 +550,8 @@ FitObjective parse_fit_objective(const std::string& name) {
     if (name == "ra-r9") return FitObjective::ra_r9;
     if (name == "ler") return FitObjective::ler;
     if (name == "efficacy") return FitObjective::efficacy;
-    throw Error(fmt::format("unknown objective '{}': use ra, r9, ra-r9, ler, efficacy or change", name));
+    if (name == "rf") return FitObjective::rf;
+    throw Error(fmt::format("unknown objective '{}': use ra, r9, ra-r9, ler, efficacy, rf or change", name));
 }
 
 std::string fit_objective_name(FitObjective o) {
@@ -540,6 +562,7 @@ std::string fit_objective_name(FitObjective o) {
         case FitObjective::ra_r9: return "maximum weighted Ra/R9";
         case FitObjective::ler: return "maximum LER";
         case FitObjective::efficacy: return "maximum efficacy per W absorbed";
+        case FitObjective::rf: return "maximum Rf (CIE 224)";
     }
     return "";
 }
@@ -571,6 +594,10 @@ std::vector<ConstraintReport> check_constraints(const FitProblem& p, const std::
     if (p.min_ra) lower("Ra >=", ra, *p.min_ra, 0.05, fmt::format("Ra {:.2f}, limit {:g}", ra, *p.min_ra));
     if (p.min_r9) lower("R9 >=", r9, *p.min_r9, 0.05, fmt::format("R9 {:.2f}, limit {:g}", r9, *p.min_r9));
     if (p.min_ler) lower("LER >=", a.ler_lm_per_W, *p.min_ler, 0.05, fmt::format("LER {:.2f} lm/W, limit {:g}", a.ler_lm_per_W, *p.min_ler));
+    if (p.min_rf) {
+        const double rf = a.fidelity ? a.fidelity->rf : -kPenalty;
+        lower("Rf >=", rf, *p.min_rf, 0.05, fmt::format("Rf {:.2f}, limit {:g}", rf, *p.min_rf));
+    }
     for (std::size_t i = 0; i < w.size(); ++i) {
         const auto& label = p.blend.components[i].label;
         // A fraction held at its limit (min = max: a fixed component) is rounded to 6 decimals in the
@@ -589,7 +616,7 @@ FitResult solve(const FitProblem& p, const FitOptions& opt) {
     if (p.target.ellipse && !(p.target.ellipse_steps > 0)) throw Error("the target's ellipse needs a positive number of steps");
     if (!p.target.ellipse && !(p.tolerance_uv_prime > 0)) throw Error("the chromaticity tolerance must be positive");
     const Limits lim = limits_of(p);
-    const FastBlend fb(p.blend);
+    const FastBlend fb(p.blend, p.objective == FitObjective::rf || p.min_rf.has_value());
     FitResult r;
 
     std::vector<std::vector<double>> starts;

@@ -33,8 +33,9 @@ enum class FitObjective {
     ra_r9,             // maximise (1 - k) Ra + k R9, k = FitProblem::r9_weight
     ler,               // maximise the luminous efficacy of radiation (lm/W of light)
     efficacy,          // maximise lm of phosphor light per W of absorbed excitation
+    rf,                // maximise the CIE 224:2017 colour fidelity index Rf
 };
-// "change", "ra", "r9", "ra-r9", "ler", "efficacy"; throws Error otherwise.
+// "change", "ra", "r9", "ra-r9", "ler", "efficacy", "rf"; throws Error otherwise.
 FitObjective parse_fit_objective(const std::string& name);
 std::string fit_objective_name(FitObjective o);
 
@@ -53,6 +54,7 @@ struct FitProblem {
     // component's min_fraction / max_fraction, else 0 and 1. Empty = all from the components.
     std::vector<double> min_fraction, max_fraction;
     std::optional<double> min_ra, min_r9, min_ler;
+    std::optional<double> min_rf;  // CIE 224:2017 Rf lower bound (blend recipes)
 };
 
 enum class FitMethod { automatic, exact, nlopt };

@@ -92,7 +92,8 @@ QcSpec load_qc_spec(const std::string& path) {
         doc.fail(t, "target", e.what());
     }
     if (const auto* l = doc.table(r, "limits", "")) {
-        doc.only_keys(*l, {"ra_min", "r9_min", "cct_min_K", "cct_max_K", "duv_min", "duv_max", "flux_min_lm", "flux_max_lm", "efficacy_min_lm_per_W"},
+        doc.only_keys(*l, {"ra_min", "r9_min", "cct_min_K", "cct_max_K", "duv_min", "duv_max", "flux_min_lm", "flux_max_lm", "efficacy_min_lm_per_W",
+                           "min_rf", "min_rg", "max_rg"},
                       "limits");
         s.ra_min = doc.number(*l, "ra_min", "limits");
         s.r9_min = doc.number(*l, "r9_min", "limits");
@@ -112,6 +113,18 @@ QcSpec load_qc_spec(const std::string& path) {
         if (s.efficacy_min_lm_per_W && *s.efficacy_min_lm_per_W > kKm)
             doc.fail(l->get("efficacy_min_lm_per_W"), "limits.efficacy_min_lm_per_W", fmt::format("cannot exceed Km = {:g} lm/W", kKm));
         if (s.ra_min && *s.ra_min > 100) doc.fail(l->get("ra_min"), "limits.ra_min", "cannot exceed 100");
+        // CIE 224:2017 eq. 10 puts Rf in 0-100 (its largest value is 10 ln(e^10 + 1) = 100.0005);
+        // Rg is a ratio of areas, positive (TM-30-20).
+        s.rf_min = doc.number(*l, "min_rf", "limits");
+        s.rg_min = doc.number(*l, "min_rg", "limits");
+        s.rg_max = doc.number(*l, "max_rg", "limits");
+        if (s.rf_min && !(*s.rf_min >= 0 && *s.rf_min <= 100))
+            doc.fail(l->get("min_rf"), "limits.min_rf", fmt::format("must lie in 0-100 (CIE 224 Rf), not {:g}", *s.rf_min));
+        for (const char* k : {"min_rg", "max_rg"})
+            if (const auto v = doc.number(*l, k, "limits"); v && !(std::isfinite(*v) && *v > 0 && *v <= 1000))
+                doc.fail(l->get(k), std::string("limits.") + k, fmt::format("must be a number above 0 (TM-30 Rg, 100 for the reference), not {:g}", *v));
+        if (s.rg_min && s.rg_max && *s.rg_min >= *s.rg_max)
+            doc.fail(l->get("min_rg"), "limits", fmt::format("min_rg ({:g}) must be below max_rg ({:g})", *s.rg_min, *s.rg_max));
         if (s.cct_min_K && s.cct_max_K && *s.cct_min_K >= *s.cct_max_K) doc.fail(l->get("cct_min_K"), "limits", fmt::format("cct_min_K ({:g}) must be below cct_max_K ({:g})", *s.cct_min_K, *s.cct_max_K));
         if (s.duv_min && s.duv_max && *s.duv_min >= *s.duv_max) doc.fail(l->get("duv_min"), "limits", fmt::format("duv_min ({:g}) must be below duv_max ({:g})", *s.duv_min, *s.duv_max));
         if ((s.cct_min_K && *s.cct_min_K < 100) || (s.cct_max_K && *s.cct_max_K < 100))
@@ -146,6 +159,10 @@ LampResult judge_lamp(const QcSpec& spec, Assessment a) {
     const double ra = A.rendering ? A.rendering->ra : NAN, r9 = A.rendering ? A.rendering->ri[8] : NAN;
     if (spec.ra_min && !(ra >= *spec.ra_min)) r.failures.push_back(std::isfinite(ra) ? fmt::format("Ra {:.1f} < {:g}", ra, *spec.ra_min) : "Ra not defined (no CCT)");
     if (spec.r9_min && !(r9 >= *spec.r9_min)) r.failures.push_back(std::isfinite(r9) ? fmt::format("R9 {:.1f} < {:g}", r9, *spec.r9_min) : "R9 not defined (no CCT)");
+    const double rf = A.fidelity ? A.fidelity->rf : NAN, rg = A.fidelity ? A.fidelity->rg : NAN;
+    if (spec.rf_min && !(rf >= *spec.rf_min)) r.failures.push_back(std::isfinite(rf) ? fmt::format("Rf {:.1f} < {:g}", rf, *spec.rf_min) : "Rf not defined (no CCT)");
+    if (spec.rg_min && !(rg >= *spec.rg_min)) r.failures.push_back(std::isfinite(rg) ? fmt::format("Rg {:.1f} < {:g}", rg, *spec.rg_min) : "Rg not defined (no CCT)");
+    if (spec.rg_max && !(rg <= *spec.rg_max)) r.failures.push_back(std::isfinite(rg) ? fmt::format("Rg {:.1f} > {:g}", rg, *spec.rg_max) : "Rg not defined (no CCT)");
     if (spec.cct_min_K && !(has_cct && A.cct.cct_K >= *spec.cct_min_K))
         r.failures.push_back(has_cct ? fmt::format("CCT {:.0f} K < {:g} K", A.cct.cct_K, *spec.cct_min_K) : "no CCT");
     if (spec.cct_max_K && !(has_cct && A.cct.cct_K <= *spec.cct_max_K))

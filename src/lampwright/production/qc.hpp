@@ -28,6 +28,9 @@ struct QcSpec {
     // Absolute photometry limits (lamps measured in W/nm): luminous flux and luminous efficacy of
     // the source. A relative spectrum cannot meet them: it fails with "relative spectrum: no flux".
     std::optional<double> flux_min_lm, flux_max_lm, efficacy_min_lm_per_W;
+    // CIE 224:2017 Rf and ANSI/IES TM-30-20 Rg limits (keys min_rf, min_rg, max_rg, as issue 13
+    // names them). A lamp without a CCT has neither and fails them.
+    std::optional<double> rf_min, rg_min, rg_max;
 };
 
 // Spec files (TOML):
@@ -38,6 +41,7 @@ struct QcSpec {
 //          or x = 0.38  y = 0.377  duv_prime_max = 0.004   # explicit centre, u'v' circle
 //   [limits]  ra_min = 80  r9_min = 0  cct_min_K = 3800  cct_max_K = 4300  duv_min = -0.006  duv_max = 0.006
 //             flux_min_lm = 1200  flux_max_lm = 1400  efficacy_min_lm_per_W = 90   # absolute spectra only
+//             min_rf = 80  min_rg = 95  max_rg = 110                               # CIE 224 / TM-30-20
 QcSpec load_qc_spec(const std::string& path);
 
 struct LampResult {

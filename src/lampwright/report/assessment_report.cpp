@@ -1,8 +1,11 @@
 #include "lampwright/report/assessment_report.hpp"
 
+#include "lampwright/report/svg_plot.hpp"
+
 #include <fmt/format.h>
 
 #include <cmath>
+#include <numbers>
 
 namespace lampwright {
 
@@ -12,7 +15,144 @@ namespace {
 const char* reference_name(ReferenceIlluminant r) { return r == ReferenceIlluminant::planckian ? "planckian" : "daylight"; }
 const char* observer_name(Observer o) { return o == Observer::cie1931_2deg ? "2" : "10"; }
 
+const char* fidelity_reference_name(FidelityReference r) {
+    switch (r) {
+        case FidelityReference::planckian: return "planckian";
+        case FidelityReference::mix: return "mix";
+        case FidelityReference::daylight: return "daylight";
+    }
+    return "";
+}
+
 }  // namespace
+
+std::vector<std::string> fidelity_columns(bool ces) {
+    std::vector<std::string> c{"Rf", "Rg"};
+    for (const char* k : {"Rf_h", "Rcs_h", "Rhs_h"})
+        for (int j = 1; j <= kTm30HueBins; ++j) c.push_back(fmt::format("{}{}", k, j));
+    for (const char* k : {"x10", "y10", "fidelity_reference", "fidelity_interval_nm"}) c.push_back(k);
+    if (ces)
+        for (int i = 1; i <= kCesCount; ++i) c.push_back(fmt::format("Rf_ces{:02d}", i));
+    return c;
+}
+
+std::vector<std::string> fidelity_values(const Assessment& a, bool ces) {
+    std::vector<std::string> v;
+    if (!a.fidelity) {
+        v.assign(fidelity_columns(ces).size(), "");
+        return v;
+    }
+    const auto& f = *a.fidelity;
+    v.push_back(format_fixed(f.rf, 2));
+    v.push_back(format_fixed(f.rg, 2));
+    for (double x : f.rf_h) v.push_back(format_fixed(x, 2));
+    for (double x : f.rcs_h_percent) v.push_back(format_fixed(x, 2));
+    for (double x : f.rhs_h) v.push_back(format_fixed(x, 4));
+    v.push_back(format_fixed(f.xy10.x, 5));
+    v.push_back(format_fixed(f.xy10.y, 5));
+    v.push_back(fidelity_reference_name(f.reference));
+    v.push_back(std::to_string(f.interval_nm));
+    if (ces)
+        for (double x : f.rf_ces) v.push_back(format_fixed(x, 2));
+    return v;
+}
+
+void add_fidelity_json(nlohmann::ordered_json& j, const Assessment& a, bool ces) {
+    nlohmann::ordered_json warnings = j.contains("warnings") ? j["warnings"] : nlohmann::ordered_json::array();
+    j.erase("warnings");
+    const auto cols = fidelity_columns(ces);
+    const auto vals = fidelity_values(a, ces);
+    for (std::size_t i = 0; i < cols.size(); ++i) {
+        if (vals[i].empty()) j[cols[i]] = nullptr;
+        else if (cols[i] == "fidelity_reference") j[cols[i]] = vals[i];
+        else if (cols[i] == "fidelity_interval_nm") j[cols[i]] = std::stoi(vals[i]);
+        else j[cols[i]] = std::stod(vals[i]);
+    }
+    j["warnings"] = std::move(warnings);
+}
+
+std::vector<std::string> fidelity_summary_columns() { return {"Rf", "Rg"}; }
+
+std::vector<std::string> fidelity_summary_values(const Assessment& a) {
+    if (!a.fidelity) return {"", ""};
+    return {format_fixed(a.fidelity->rf, 2), format_fixed(a.fidelity->rg, 2)};
+}
+
+void add_fidelity_summary_json(nlohmann::ordered_json& j, const Assessment& a) {
+    const auto cols = fidelity_summary_columns();
+    const auto vals = fidelity_summary_values(a);
+    for (std::size_t i = 0; i < cols.size(); ++i) j[cols[i]] = vals[i].empty() ? nlohmann::ordered_json(nullptr) : nlohmann::ordered_json(std::stod(vals[i]));
+}
+
+std::string fidelity_text(const Assessment& a) {
+    if (!a.fidelity) return "";
+    const auto& f = *a.fidelity;
+    std::string ref = fmt::format("{} {:.0f} K", fidelity_reference_name(f.reference), f.reference_cct_K);
+    if (f.reference == FidelityReference::mix) ref += fmt::format(" ({:.0f} % daylight)", 100 * f.daylight_weight);
+    return fmt::format("  colour fidelity (CIE 224)  Rf {}   Rg {} (TM-30-20)   reference: {}; 10°, {} nm\n", format_fixed(f.rf, 1),
+                       format_fixed(f.rg, 1), ref, f.interval_nm);
+}
+
+std::string colour_vector_graphic_svg(const std::vector<Assessment>& assessments) {
+    // TM-30-20 colour vector graphic, normalised: each bin's reference average is put on the unit
+    // circle at its own hue, and the test average is moved from there by the bin's (da', db')
+    // divided by the reference average's radius.
+    constexpr int kSize = 460;
+    constexpr double kCentre = kSize / 2.0, kRadius = 150;
+    std::string body;
+    int y0 = 0;
+    const auto px = [&](double u) { return kCentre + kRadius * u; };
+    const auto py = [&](double v) { return kCentre - kRadius * v; };
+    for (const auto& a : assessments) {
+        if (!a.fidelity) continue;
+        const auto& f = *a.fidelity;
+        std::string g = fmt::format(R"s(<g transform="translate(0,{})">)s", y0) + "\n";
+        g += fmt::format(R"s(<rect x="0" y="0" width="{0}" height="{0}" fill="#fff" stroke="#999"/>)s", kSize) + "\n";
+        g += fmt::format(R"s(<text x="10" y="20" font-family="sans-serif" font-size="13">{}</text>)s", xml_escape(a.name)) + "\n";
+        // The bins' sector lines and numbers, faint.
+        for (int j = 0; j < kTm30HueBins; ++j) {
+            const double t0 = j * 2 * std::numbers::pi / kTm30HueBins, tm = (j + 0.5) * 2 * std::numbers::pi / kTm30HueBins;
+            g += fmt::format(R"s(<line x1="{:.1f}" y1="{:.1f}" x2="{:.1f}" y2="{:.1f}" stroke="#ddd"/>)s", px(0), py(0), px(1.35 * std::cos(t0)),
+                             py(1.35 * std::sin(t0))) + "\n";
+            g += fmt::format(R"s(<text x="{:.1f}" y="{:.1f}" font-family="sans-serif" font-size="10" fill="#777" text-anchor="middle">{}</text>)s",
+                             px(1.42 * std::cos(tm)), py(1.42 * std::sin(tm)) + 3, j + 1) + "\n";
+        }
+        g += fmt::format(R"s(<circle cx="{:.1f}" cy="{:.1f}" r="{:.1f}" fill="none" stroke="#888" stroke-dasharray="5 3"/>)s", px(0), py(0),
+                         kRadius) + "\n";
+        std::string poly;
+        for (int j = 0; j < kTm30HueBins; ++j) {
+            if (f.ces_in_bin[j] == 0) continue;
+            const double r = std::hypot(f.reference_a[j], f.reference_b[j]);
+            const double ux = f.reference_a[j] / r, uy = f.reference_b[j] / r;
+            const double tx = ux + (f.test_a[j] - f.reference_a[j]) / r, ty = uy + (f.test_b[j] - f.reference_b[j]) / r;
+            poly += fmt::format("{:.1f},{:.1f} ", px(tx), py(ty));
+            // One arrow per bin, from the reference to the test average.
+            const double ang = std::atan2(py(ty) - py(uy), px(tx) - px(ux)), len = std::hypot(px(tx) - px(ux), py(ty) - py(uy));
+            g += fmt::format(R"s(<line x1="{:.1f}" y1="{:.1f}" x2="{:.1f}" y2="{:.1f}" stroke="#1f5f8b" stroke-width="1.5"/>)s", px(ux), py(uy),
+                             px(tx), py(ty)) + "\n";
+            if (len > 4) {
+                const double h = 6;
+                g += fmt::format(R"s(<polygon points="{:.1f},{:.1f} {:.1f},{:.1f} {:.1f},{:.1f}" fill="#1f5f8b"/>)s", px(tx), py(ty),
+                                 px(tx) - h * std::cos(ang - 0.4), py(ty) - h * std::sin(ang - 0.4), px(tx) - h * std::cos(ang + 0.4),
+                                 py(ty) - h * std::sin(ang + 0.4)) + "\n";
+            }
+        }
+        g += fmt::format(R"s(<polygon points="{}" fill="#1f5f8b" fill-opacity="0.08" stroke="#222" stroke-width="1.5"/>)s", poly) + "\n";
+        // Figures in the corner.
+        const std::string lines[] = {fmt::format("Rf {}", format_fixed(f.rf, 0)), fmt::format("Rg {}", format_fixed(f.rg, 0)),
+                                     a.cct.valid ? fmt::format("CCT {} K", format_fixed(a.cct.cct_K, 0)) : std::string("CCT n/a"),
+                                     fmt::format("Duv {}", format_signed(a.cct.duv, 4))};
+        for (int k = 0; k < 4; ++k)
+            g += fmt::format(R"s(<text x="{}" y="{}" font-family="sans-serif" font-size="12" text-anchor="end">{}</text>)s", kSize - 10,
+                             kSize - 64 + 16 * k, lines[k]) + "\n";
+        g += fmt::format(R"s(<text x="10" y="{}" font-family="sans-serif" font-size="10" fill="#555">dashed: reference; solid: test (TM-30-20, CAM02-UCS)</text>)s",
+                         kSize - 10) + "\n";
+        body += g + "</g>\n";
+        y0 += kSize;
+    }
+    return fmt::format(R"s(<svg xmlns="http://www.w3.org/2000/svg" width="{0}" height="{1}" viewBox="0 0 {0} {1}">)s", kSize,
+                       std::max(y0, 1)) + "\n" + body + "</svg>\n";
+}
 
 std::string photometry_text(const Assessment& a) {
     if (!a.absolute || !a.luminous_flux_lm) return "  luminous flux              relative spectrum: no flux\n";
@@ -104,6 +244,7 @@ std::string assessment_text(const Assessment& a) {
             o += (i == 6) ? "\n                             " : (i == 13 ? "\n" : "  ");
         }
     }
+    o += fidelity_text(a);
     o += fmt::format("  LER                        {:.1f} lm/W\n", a.ler_lm_per_W);
     o += photometry_text(a);
     const auto& f = a.features;

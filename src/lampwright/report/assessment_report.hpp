@@ -20,6 +20,22 @@ inline constexpr std::ptrdiff_t kPhotometryColumns = 4;
 std::vector<std::string> assessment_values(const Assessment& a);  // CSV cells; empty where not defined
 nlohmann::ordered_json assessment_json(const Assessment& a);
 std::string assessment_text(const Assessment& a);
+// CIE 224 / TM-30-20 columns that assess appends after assessment_columns(): Rf, Rg, Rf_h1..16,
+// Rcs_h1..16 (per cent), Rhs_h1..16, x10, y10, fidelity_interval_nm, and with `ces` Rf_ces01..99.
+// Empty cells (JSON null) where there is no CCT.
+std::vector<std::string> fidelity_columns(bool ces);
+std::vector<std::string> fidelity_values(const Assessment& a, bool ces);
+// The same as JSON keys, inserted before the object's "warnings".
+void add_fidelity_json(nlohmann::ordered_json& j, const Assessment& a, bool ces);
+// Rf and Rg alone: the columns blend, layer, compare and unmix append at the end of their rows.
+std::vector<std::string> fidelity_summary_columns();
+std::vector<std::string> fidelity_summary_values(const Assessment& a);
+void add_fidelity_summary_json(nlohmann::ordered_json& j, const Assessment& a);  // "Rf", "Rg" at the end
+// One text line with Rf and Rg (and the reference), or "" without a CCT.
+std::string fidelity_text(const Assessment& a);
+// The TM-30-20 colour vector graphic of each assessment, one panel per spectrum, as one SVG.
+std::string colour_vector_graphic_svg(const std::vector<Assessment>& assessments);
+
 // One line: "luminous flux 1234.5 lm   efficacy 85.3 lm/W at 14.50 W", or "relative spectrum: no flux".
 std::string photometry_text(const Assessment& a);
 

@@ -14,25 +14,26 @@ namespace {
 std::string cell(double v, int decimals) { return format_fixed(v, decimals, "-"); }
 
 struct Figures {
-    double ra, r9, cct;
+    double ra, r9, cct, rf, rg;
 };
 
 Figures figures(const ComparisonEntry& e) {
     const auto& a = e.assessment;
-    return {a.rendering ? a.rendering->ra : NAN, a.rendering ? a.rendering->ri[8] : NAN, a.cct.valid ? a.cct.cct_K : NAN};
+    return {a.rendering ? a.rendering->ra : NAN, a.rendering ? a.rendering->ri[8] : NAN, a.cct.valid ? a.cct.cct_K : NAN,
+            a.fidelity ? a.fidelity->rf : NAN, a.fidelity ? a.fidelity->rg : NAN};
 }
 
 }  // namespace
 
 std::string comparison_text(const std::vector<ComparisonEntry>& entries) {
-    std::string o = fmt::format("{:<36} {:<8} {:>7} {:>7} {:>7} {:>8} {:>6} {:>6} {:>7} {:>6} {:>7} {:>8}\n", "name", "kind", "x", "y", "CCT K",
-                                "Duv", "Ra", "R9", "LER", "eff", "leak%", "lm/W*");
+    std::string o = fmt::format("{:<36} {:<8} {:>7} {:>7} {:>7} {:>8} {:>6} {:>6} {:>6} {:>6} {:>7} {:>6} {:>7} {:>8}\n", "name", "kind", "x", "y",
+                                "CCT K", "Duv", "Ra", "R9", "Rf", "Rg", "LER", "eff", "leak%", "lm/W*");
     for (const auto& e : entries) {
         const auto& a = e.assessment;
-        const auto [ra, r9, cct] = figures(e);
-        o += fmt::format("{:<36} {:<8} {:>7} {:>7} {:>7} {:>8} {:>6} {:>6} {:>7} {:>6} {:>7} {:>8}\n", e.name.substr(0, 36), e.kind,
+        const auto [ra, r9, cct, rf, rg] = figures(e);
+        o += fmt::format("{:<36} {:<8} {:>7} {:>7} {:>7} {:>8} {:>6} {:>6} {:>6} {:>6} {:>7} {:>6} {:>7} {:>8}\n", e.name.substr(0, 36), e.kind,
                          cell(a.xy.x, 4), cell(a.xy.y, 4), cell(cct, 0), format_signed(a.cct.duv, 4, "-"), cell(ra, 1), cell(r9, 1),
-                         cell(a.ler_lm_per_W, 1), cell(e.efficiency, 3), cell(100 * e.leak_fraction, 2), cell(e.efficacy, 1));
+                         cell(rf, 1), cell(rg, 1), cell(a.ler_lm_per_W, 1), cell(e.efficiency, 3), cell(100 * e.leak_fraction, 2), cell(e.efficacy, 1));
     }
     o += "eff: converted W per W pump (layer), W per W absorbed (blend); lm/W*: per W pump (layer), per W absorbed (blend)\n";
     // Each entry's warnings (CIE 13.3 validity, no CCT, a phosphor without quenching data), as the
@@ -44,14 +45,14 @@ std::string comparison_text(const std::vector<ComparisonEntry>& entries) {
 
 std::string comparison_csv(const std::vector<ComparisonEntry>& entries) {
     std::string o = csv_line({"name", "kind", "x", "y", "cct_K", "duv", "Ra", "R9", "ler_lm_per_W", "efficiency", "pump_leak_fraction",
-                              "efficacy_lm_per_W"}) + "\n";
+                              "efficacy_lm_per_W", "Rf", "Rg"}) + "\n";
     for (const auto& e : entries) {
         const auto& a = e.assessment;
-        const auto [ra, r9, cct] = figures(e);
+        const auto [ra, r9, cct, rf, rg] = figures(e);
         // Missing values are empty cells, as in every CSV (docs/output-schemas.md); "-" is for the table.
         auto c = [](double v, int decimals) { return format_fixed(v, decimals); };
         o += csv_line({e.name, e.kind, c(a.xy.x, 5), c(a.xy.y, 5), c(cct, 1), c(a.cct.duv, 5), c(ra, 2), c(r9, 2),
-                       c(a.ler_lm_per_W, 2), c(e.efficiency, 4), c(e.leak_fraction, 5), c(e.efficacy, 2)}) + "\n";
+                       c(a.ler_lm_per_W, 2), c(e.efficiency, 4), c(e.leak_fraction, 5), c(e.efficacy, 2), c(rf, 2), c(rg, 2)}) + "\n";
     }
     return o;
 }

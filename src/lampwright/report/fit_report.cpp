@@ -62,6 +62,9 @@ std::string fit_text(const FitProblem& p, const FitResult& r, double ms) {
     std::optional<double> ra, r9;
     if (a.rendering) ra = a.rendering->ra, r9 = a.rendering->ri[8];
     o << fmt::format("  Ra, R9      {}, {}\n", fmt_opt(ra, 1), fmt_opt(r9, 1));
+    std::optional<double> rf, rg;
+    if (a.fidelity) rf = a.fidelity->rf, rg = a.fidelity->rg;
+    o << fmt::format("  Rf, Rg      {}, {}   (CIE 224, TM-30-20)\n", fmt_opt(rf, 1), fmt_opt(rg, 1));
     o << fmt::format("  LER         {:.1f} lm/W;  efficacy {:.1f} lm per W absorbed\n", a.ler_lm_per_W, r.result.luminous_efficacy_absorbed);
     if (!r.result.components.empty()) o << blend_assumptions_text(r.result, r.blend);
     if (r.nearest_reachable)

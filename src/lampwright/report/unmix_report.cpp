@@ -21,6 +21,8 @@ namespace {
 double ra_of(const Assessment& a) { return a.rendering ? a.rendering->ra : std::nan(""); }
 double r9_of(const Assessment& a) { return a.rendering ? a.rendering->ri[8] : std::nan(""); }
 double cct_of(const Assessment& a) { return a.cct.valid ? a.cct.cct_K : std::nan(""); }
+double rf_of(const Assessment& a) { return a.fidelity ? a.fidelity->rf : std::nan(""); }
+double rg_of(const Assessment& a) { return a.fidelity ? a.fidelity->rg : std::nan(""); }
 
 bool is_mercury(const BlendUnmixing& u) { return u.excitation.kind == Excitation::Kind::mercury; }
 
@@ -39,6 +41,7 @@ std::vector<std::string> unmix_columns(std::size_t groups) {
     for (std::size_t i = 1; i <= groups; ++i)
         for (const char* k : {"id", "mass_fraction", "photon_share", "mass_fraction_sd", "radiant_share", "emitted_photon_share", "shift_nm", "width_change"})
             c.push_back(fmt::format("c{}_{}", i, k));
+    for (const char* k : {"fit_Rf", "fit_Rg", "Rf", "Rg"}) c.push_back(k);  // CIE 224 Rf, TM-30 Rg (appended last)
     return c;
 }
 
@@ -75,6 +78,7 @@ std::vector<std::string> unmix_values(const BlendUnmixing& u, std::size_t groups
         v.push_back(format_fixed(c.shift_nm, 2));
         v.push_back(format_fixed(c.width_change, 4));
     }
+    for (double x : {rf_of(f), rg_of(f), rf_of(m), rg_of(m)}) v.push_back(format_fixed(x, 1));
     return v;
 }
 
@@ -126,6 +130,10 @@ nlohmann::ordered_json unmix_result_json(const BlendUnmixing& u) {
                          {"width_change", c.width_change},
                          {"quantum_efficiency", c.quantum_efficiency},
                          {"share_weight", c.share_weight}});
+    j["fit_Rf"] = number_or_null(rf_of(f));
+    j["fit_Rg"] = number_or_null(rg_of(f));
+    j["Rf"] = number_or_null(rf_of(m));
+    j["Rg"] = number_or_null(rg_of(m));
     j["warnings"] = unmix_warnings(u);
     return j;
 }
@@ -179,6 +187,8 @@ std::string unmix_text(const BlendUnmixing& u) {
     o += fmt::format("  {:<16} {:>10} {:>14}\n", "CCT K", format_fixed(cct_of(m), 0, "-"), format_fixed(cct_of(f), 0, "-"));
     o += fmt::format("  {:<16} {:>10} {:>14}\n", "Ra", format_fixed(ra_of(m), 1, "-"), format_fixed(ra_of(f), 1, "-"));
     o += fmt::format("  {:<16} {:>10} {:>14}\n", "R9", format_fixed(r9_of(m), 1, "-"), format_fixed(r9_of(f), 1, "-"));
+    o += fmt::format("  {:<16} {:>10} {:>14}\n", "Rf (CIE 224)", format_fixed(rf_of(m), 1, "-"), format_fixed(rf_of(f), 1, "-"));
+    o += fmt::format("  {:<16} {:>10} {:>14}\n", "Rg (TM-30)", format_fixed(rg_of(m), 1, "-"), format_fixed(rg_of(f), 1, "-"));
     if (!u.uncertainty) o += "  no sd: no more points than parameters\n";
     return o;
 }
