@@ -81,8 +81,8 @@ double hue_difference(double h1, double h2) {
 TEST_CASE("CIECAM02 worked example, computed D (from memory)") {
     // XYZ = (19.01, 20.00, 21.78), white (95.05, 100.00, 108.88), L_A = 318.31 cd/m^2, Y_b = 20,
     // average surround, D from F and L_A: J = 41.7310911, C = 0.1047077, h = 219.0484326,
-    // Q = 195.3713259, M = 0.1088421, s = 2.3603053 (the CIECAM02 example as widely reproduced in
-    // colour-science documentation; from memory).
+    // Q = 195.3713259, M = 0.1088421, s = 2.3603053 (the CIECAM02 worked example for these inputs,
+    // after CIE 159:2004; the digits are from memory).
     Ciecam02ViewingConditions vc;
     vc.adapting_luminance_cd_m2 = 318.31;
     vc.background_y = 20;
