@@ -4,6 +4,7 @@
 
 #include <boost/math/quadrature/gauss.hpp>
 
+#include <array>
 #include <cmath>
 #include <numbers>
 
@@ -52,7 +53,7 @@ double diffuse_interface_reflectance(double n1, double n2) {
 }
 
 TwoFluxSlab::TwoFluxSlab(const TwoFluxLayer& layer) : l_(layer) {
-    if (l_.sublayers < 1) throw Error("a two-flux layer needs at least one sublayer");
+    if (l_.sublayers < 1 || l_.sublayers > kMaxSublayers) throw Error("a two-flux layer needs 1 to 128 sublayers");
     // K = 2 mu_a, S = mu_s (1 - g): hemispheric mean (Meador and Weaver 1980, Table 1).
     c_ = {2 * l_.absorption_per_cm, l_.scattering_per_cm * (1 - l_.asymmetry)};
     h_ = l_.thickness_cm / l_.sublayers;
@@ -67,15 +68,6 @@ TwoFluxSlab::TwoFluxSlab(const TwoFluxLayer& layer) : l_(layer) {
     }
 }
 
-namespace {
-
-void add_scaled(SlabResponse& to, const SlabResponse& from, double w) {
-    to.escaped += w * from.escaped;
-    to.package += w * from.package;
-    for (std::size_t m = 0; m < to.absorbed.size(); ++m) to.absorbed[m] += w * from.absorbed[m];
-}
-
-}  // namespace
 
 // The fluxes a plane source at position q (in half sublayers) sets up at every sublayer boundary
 // (q = 2p), given the optics of the parts above and below each plane. U and D are the total fluxes
@@ -83,13 +75,13 @@ void add_scaled(SlabResponse& to, const SlabResponse& from, double w) {
 // D = (d + R_a u) / (1 - R_a R_b) (as in phosphor/coating.cpp). A boundary above the source sees U
 // through the slab between them (R1, T1) and the stack above it (R_A): up = U T1 / (1 - R1 R_A),
 // down = R_A up; below the source likewise with D.
-SlabResponse TwoFluxSlab::respond(int q, double up, double down) const {
+void TwoFluxSlab::respond(int q, double up, double down, double weight, SlabResponse& r) const {
     const int n = l_.sublayers;
     const auto at = [](const std::vector<SlabOptics>& v, int i) -> const SlabOptics& { return v[static_cast<std::size_t>(i)]; };
     const SlabOptics &a = at(above_, q), &b = at(below_, q);
     const double denom = 1 - a.reflectance * b.reflectance;
     const double U = (up + b.reflectance * down) / denom, D = (down + a.reflectance * up) / denom;
-    std::vector<double> fu(static_cast<std::size_t>(n) + 1), fd(fu.size());
+    std::array<double, kMaxSublayers + 1> fu{}, fd{};
     for (int p = 0; p <= n; ++p) {
         const auto i = static_cast<std::size_t>(p);
         if (2 * p >= q) {
@@ -102,27 +94,32 @@ SlabResponse TwoFluxSlab::respond(int q, double up, double down) const {
             fu[i] = bp.reflectance * fd[i];
         }
     }
-    SlabResponse r;
-    r.absorbed.assign(static_cast<std::size_t>(n), 0.0);
+    r.absorbed.resize(static_cast<std::size_t>(n), 0.0);
     // Net flux into each sublayer; the source's own photons counted in the sublayer holding it (a
     // source on the bottom plane q = 0 sits in front of the reflector, outside every sublayer).
     // The sums telescope, so escaped + package + absorbed = up + down to rounding.
     const int holder = q == 0 ? -1 : q / 2;
     for (int m = 0; m < n; ++m) {
         const auto i = static_cast<std::size_t>(m);
-        r.absorbed[i] = fu[i] - fu[i + 1] + fd[i + 1] - fd[i] + (m == holder ? up + down : 0.0);
+        r.absorbed[i] += weight * (fu[i] - fu[i + 1] + fd[i + 1] - fd[i] + (m == holder ? up + down : 0.0));
     }
-    r.escaped = fu.back() - fd.back();
-    r.package = fd.front() - fu.front() + (q == 0 ? up + down : 0.0);
-    return r;
+    const auto top = static_cast<std::size_t>(n);
+    r.escaped += weight * (fu[top] - fd[top]);
+    r.package += weight * (fd[0] - fu[0] + (q == 0 ? up + down : 0.0));
 }
 
 SlabResponse TwoFluxSlab::sublayer_source(int m) const {
     if (m < 0 || m >= l_.sublayers) throw Error("sublayer index out of range");
-    return respond(2 * m + 1, 0.5, 0.5);
+    SlabResponse r;
+    respond(2 * m + 1, 0.5, 0.5, 1.0, r);
+    return r;
 }
 
-SlabResponse TwoFluxSlab::bottom_source(double up) const { return respond(0, up, 0.0); }
+SlabResponse TwoFluxSlab::bottom_source(double up) const {
+    SlabResponse r;
+    respond(0, up, 0.0, 1.0, r);
+    return r;
+}
 
 SlabResponse TwoFluxSlab::collimated_beam() const {
     const int n = l_.sublayers;
@@ -142,7 +139,10 @@ SlabResponse TwoFluxSlab::collimated_beam() const {
             const double removed = in * -std::expm1(-mu_t * h_);
             const double sc = removed * scattered_share;
             r.absorbed[static_cast<std::size_t>(m)] += removed - sc;
-            if (sc > 0) add_scaled(r, upward ? respond(2 * m + 1, forward, backward) : respond(2 * m + 1, backward, forward), sc);
+            if (sc > 0) {
+                if (upward) respond(2 * m + 1, forward, backward, sc, r);
+                else respond(2 * m + 1, backward, forward, sc, r);
+            }
         }
         return entering * std::exp(-mu_t * l_.thickness_cm);
     };
@@ -150,7 +150,7 @@ SlabResponse TwoFluxSlab::collimated_beam() const {
     r.escaped += (1 - l_.top_normal_reflectance) * at_top;
     const double at_bottom = pass(l_.top_normal_reflectance * at_top, false);
     r.package += (1 - l_.bottom_reflectance) * at_bottom;
-    if (at_bottom > 0) add_scaled(r, bottom_source(l_.bottom_reflectance * at_bottom), 1.0);
+    if (at_bottom > 0) respond(0, l_.bottom_reflectance * at_bottom, 0.0, 1.0, r);
     return r;
 }
 

@@ -55,6 +55,7 @@ struct SlabResponse {
 
 class TwoFluxSlab {
 public:
+    static constexpr int kMaxSublayers = 128;
     explicit TwoFluxSlab(const TwoFluxLayer& layer);
     // Diffuse light leaving the reflector plane upwards (`up` photons), e.g. a Lambertian source
     // on the bottom; with no reflector and no top surface, escaped and package are Kubelka's T and R.
@@ -79,7 +80,8 @@ private:
     // Indexed by position q in half sublayers (z = q h / 2): the slab of thickness q h / 2; the stack
     // from z to the top with the top surface; the stack from z to the bottom with the reflector.
     std::vector<SlabOptics> slab_, above_, below_;
-    SlabResponse respond(int q, double up, double down) const;
+    // Adds weight x the response to a plane source at q into r (r.absorbed sized on first use).
+    void respond(int q, double up, double down, double weight, SlabResponse& r) const;
 };
 
 }  // namespace lampwright

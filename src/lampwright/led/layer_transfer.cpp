@@ -100,18 +100,27 @@ TransferResult transfer_two_flux(const LayerMedium& med, int generations) {
         }
         return *nodes[k];
     };
-    Node mixed{std::vector<double>(ns), std::vector<double>(ns), std::vector<double>(ns * ns)};
-    const auto response = [&](std::size_t k) -> const Node& {
+    // The nodes (and weights) a wavelength's response is interpolated from.
+    struct Weights {
+        std::size_t k0, k1;
+        double w0, w1;
+    };
+    const auto weights = [&](std::size_t k) -> Weights {
         const std::size_t k0 = k - k % kNodeStep, k1 = std::min(k0 + kNodeStep, grid - 1);
-        if (k == k0 || k1 <= k || !(mu_a[k] > 0 && mu_a[k0] > 0 && mu_a[k1] > 0)) return node(k);
+        if (k == k0 || k1 <= k || !(mu_a[k] > 0 && mu_a[k0] > 0 && mu_a[k1] > 0)) return {k, k, 1.0, 0.0};
         const double w = static_cast<double>(k - k0) / static_cast<double>(k1 - k0);
-        const Node &a = node(k0), &b = node(k1);
-        for (std::size_t m = 0; m < ns; ++m) {
-            mixed.escape[m] = (1 - w) * a.escape[m] + w * b.escape[m];
-            mixed.package[m] = (1 - w) * a.package[m] + w * b.package[m];
-        }
-        for (std::size_t x = 0; x < ns * ns; ++x) mixed.absorbed[x] = (1 - w) * a.absorbed[x] + w * b.absorbed[x];
-        return mixed;
+        return {k0, k1, 1 - w, w};
+    };
+    // Re-absorption coefficients per node: coef[k][i][j] = sum over the wavelengths interpolated
+    // from node k of weight x emission_i x share_j (and the same over l for the energy), so that the
+    // sublayer-to-sublayer matrices are folded in once per node, not once per nm.
+    std::vector<std::vector<double>> coef(grid), coef_e(grid);
+    const auto add_coef = [&](std::size_t node_k, double w, std::size_t i, std::size_t j, double v, double inv_nm) {
+        auto& c = coef[node_k];
+        auto& ce = coef_e[node_k];
+        if (c.empty()) c.assign(nc * nc, 0.0), ce.assign(nc * nc, 0.0);
+        c[i * nc + j] += w * v;
+        ce[i * nc + j] += w * v * inv_nm;
     };
     for (std::size_t k = 0; k < grid; ++k) {
         // Pump and emission below 1e-14 of their photons per nm (the far tails of Gaussian bands)
@@ -136,22 +145,39 @@ TransferResult transfer_two_flux(const LayerMedium& med, int generations) {
                 }
         }
         if (!emits) continue;
-        const Node& s = response(k);
-        exits.push_back(Exit{k, s.escape, s.package});
+        const Weights wt = weights(k);
+        const Node &n0 = node(wt.k0), &n1 = node(wt.k1);
+        Exit e{k, std::vector<double>(ns), std::vector<double>(ns)};
+        for (std::size_t m = 0; m < ns; ++m) {
+            e.escape[m] = wt.w0 * n0.escape[m] + wt.w1 * n1.escape[m];
+            e.package[m] = wt.w0 * n0.package[m] + wt.w1 * n1.package[m];
+        }
+        exits.push_back(std::move(e));
         if (!(mu_a[k] > 0)) continue;
         for (std::size_t i = 0; i < nc; ++i) {
             const double em = med.components[i].emission[k];
             if (em <= 0) continue;
-            for (std::size_t m = 0; m < ns; ++m)
-                for (std::size_t m2 = 0; m2 < ns; ++m2) {
-                    const double a = em * s.absorbed[m * ns + m2];
-                    for (std::size_t j = 0; j < nc; ++j) {
-                        const double taken = a * share[j];
-                        M(idx(i, m), idx(j, m2)) += taken;
-                        Me(idx(i, m), idx(j, m2)) += taken * inv_nm;
-                    }
-                }
+            for (std::size_t j = 0; j < nc; ++j) {
+                if (share[j] <= 0) continue;
+                add_coef(wt.k0, wt.w0, i, j, em * share[j], inv_nm);
+                if (wt.w1 > 0) add_coef(wt.k1, wt.w1, i, j, em * share[j], inv_nm);
+            }
         }
+    }
+    for (std::size_t k = 0; k < grid; ++k) {
+        if (coef[k].empty()) continue;
+        const Node& n = node(k);
+        for (std::size_t i = 0; i < nc; ++i)
+            for (std::size_t j = 0; j < nc; ++j) {
+                const double c = coef[k][i * nc + j], ce = coef_e[k][i * nc + j];
+                if (c == 0 && ce == 0) continue;
+                for (std::size_t m = 0; m < ns; ++m)
+                    for (std::size_t m2 = 0; m2 < ns; ++m2) {
+                        const double a = n.absorbed[m * ns + m2];
+                        M(idx(i, m), idx(j, m2)) += c * a;
+                        Me(idx(i, m), idx(j, m2)) += ce * a;
+                    }
+            }
     }
 
     // Cascade over all generations: N = N_pump + M^T Q N.
