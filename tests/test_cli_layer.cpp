@@ -87,3 +87,35 @@ TEST_CASE("cli compare: a layer whose phosphor lacks quenching data at 100 degC 
     CHECK(quiet.out.find("no quenching data") == std::string::npos);
     CHECK(quiet.err.find("no quenching data") == std::string::npos);
 }
+
+TEST_CASE("cli layer: --method monte-carlo is reproducible for a seed, says so in text and JSON, and --photons needs it") {
+    // Seeded photon Monte Carlo (README "LED layer physics", item 4; common practice, no source).
+    const std::string d = LAMPWRIGHT_SOURCE_DIR "/examples/layers/module395_80um.toml";
+    const auto a = run_cli_args({"layer", d, "--method", "monte-carlo", "--photons", "5000", "--seed", "4", "-f", "json"});
+    const auto b = run_cli_args({"layer", d, "--method", "monte-carlo", "--photons", "5000", "--seed", "4", "-f", "json"});
+    REQUIRE(a.exit_code == 0);
+    CHECK(a.out == b.out);
+    const auto j = nlohmann::json::parse(a.out);
+    CHECK(j.at("method") == "monte-carlo");
+    CHECK(j.at("monte_carlo_photons") == 5000);
+    // Photon balance of the Monte Carlo: exact counts, printed to 6 decimals.
+    CHECK(j.at("photons_leaked").get<double>() + j.at("photons_escaping").get<double>() + j.at("photons_lost").get<double>() +
+              j.at("photons_package").get<double>() ==
+          doctest::Approx(1.0).epsilon(1e-5));
+    const auto t = run_cli_args({"layer", d, "--method", "monte-carlo", "--photons", "5000"});
+    CHECK(t.out.find("transport: photon Monte Carlo, 5000 photons, seed 1") != std::string::npos);
+    CHECK(run_cli_args({"layer", d, "--photons", "5000"}).exit_code != 0);
+    CHECK(run_cli_args({"layer", d, "--method", "exact"}).exit_code != 0);
+}
+
+TEST_CASE("cli layer: the removed path factors are refused naming the file, the line and the reason") {
+    const TempDir dir;
+    const std::string path = dir.write("old.toml", "name = 'x'\n[pump]\npeak_nm = 395\nfwhm_nm = 12\n[layer]\nthickness_um = 80\n"
+                                                   "pump_path_factor = 1.5\n[[component]]\nphosphor = 'BAM'\nloading = 0.12\n");
+    const auto r = run_cli_args({"layer", path});
+    CHECK(r.exit_code != 0);
+    CHECK(r.err.find(path) != std::string::npos);
+    CHECK(r.err.find(":7") != std::string::npos);
+    CHECK(r.err.find("pump_path_factor") != std::string::npos);
+    CHECK(r.err.find("scattering") != std::string::npos);
+}

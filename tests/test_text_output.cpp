@@ -357,7 +357,9 @@ TEST_CASE("text tables: each header ends where its column's values end (fit and 
         for (std::string w; row >> w;) cells.push_back(w);
         REQUIRE(cells.size() >= 9);
         const std::string duv = cells[cells.size() - 9];
-        CHECK_MESSAGE((duv.size() == 7 && (duv[0] == '+' || duv[0] == '-')), "Duv cell '" << duv << "'");
+        // A Duv that rounds to zero is written 0.0000, unsigned (format_signed, tested above); the
+        // refitted example lands there.
+        CHECK_MESSAGE(((duv.size() == 7 && (duv[0] == '+' || duv[0] == '-')) || duv == "0.0000"), "Duv cell '" << duv << "'");
     }
     const auto ch = right_edges(cl[0]);
     for (std::size_t e : right_edges(cl[1]))

@@ -1,5 +1,7 @@
 #include "lampwright/led/layer.hpp"
 
+#include "lampwright/led/layer_optics.hpp"
+
 #include "lampwright/phosphor/blend.hpp"
 #include "lampwright/colour/colorimetry.hpp"
 #include "lampwright/core/error.hpp"
@@ -28,7 +30,7 @@ Spectrum pump_photon_shape(const LayerDesign& d) { return d.pump_spectrum ? phot
 double layer_density(const LayerDesign& d) {
     double loading = 0, inv = 0;
     for (const auto& c : d.components) {
-        const double rho = c.phosphor.density_g_per_cm3 > 0 ? c.phosphor.density_g_per_cm3 : 4.0;
+        const double rho = c.phosphor.density_g_per_cm3 > 0 ? c.phosphor.density_g_per_cm3 : kAssumedDensity_g_per_cm3;
         inv += c.loading / rho;
         loading += c.loading;
     }
@@ -56,7 +58,9 @@ std::vector<double> absorption_profile(const Phosphor& p) {
     return a;
 }
 
-LayerResult evaluate_layer(const LayerDesign& d, std::optional<double> temperature_C, const AssessOptions& options, int generations) {
+namespace {
+
+void check_design(const LayerDesign& d) {
     if (d.components.empty()) throw Error(fmt::format("layer '{}' has no components", d.name));
     if (!(d.thickness_um >= 0)) throw Error("layer thickness must not be negative");
     if (!(d.pump_power_W > 0)) throw Error("pump power must be greater than zero");
@@ -66,146 +70,116 @@ LayerResult evaluate_layer(const LayerDesign& d, std::optional<double> temperatu
         total_loading += c.loading;
     }
     if (total_loading >= 1) throw Error(fmt::format("loadings add up to {:g}; they are mass fractions in the binder and must sum below 1", total_loading));
+}
 
-    const double t_C = temperature_C.value_or(d.temperature_C);
-    const std::size_t n = d.components.size();
+void add_warning(std::vector<std::string>* w, std::string text) {
+    if (w && std::find(w->begin(), w->end(), text) == w->end()) w->push_back(std::move(text));
+}
+
+}  // namespace
+
+LayerMedium layer_medium(const LayerDesign& d, double t_C, std::vector<std::string>* warnings) {
+    check_design(d);
     const double rho = layer_density(d);
-    const double d_cm = d.thickness_um * 1e-4;
-    const Spectrum pump_spectrum = pump_photon_shape(d);
-    const std::vector<double>& pump = pump_spectrum.values;
-
-    // alpha_i(l) in 1/cm.
-    std::vector<std::vector<double>> alpha(n);
-    std::vector<double> alpha_total(kGridSize, 0.0);
-    for (std::size_t i = 0; i < n; ++i) {
-        const auto a = absorption_profile(d.components[i].phosphor);
-        const double c = d.components[i].loading * rho;
-        alpha[i].resize(kGridSize);
-        for (std::size_t k = 0; k < kGridSize; ++k) {
-            alpha[i][k] = d.mass_absorption_cm2_per_g * a[k] * c;
-            alpha_total[k] += alpha[i][k];
-        }
+    LayerMedium m;
+    m.thickness_cm = d.thickness_um * 1e-4;
+    m.binder_index = d.binder_index;
+    m.outside_index = d.outside_index;
+    m.asymmetry = d.scattering_asymmetry;
+    m.reflector_reflectance = d.reflector_reflectance;
+    m.pump = pump_photon_shape(d).values;
+    m.scattering.assign(kGridSize, 0.0);
+    for (const auto& c : d.components) {
+        const Phosphor& p = c.phosphor;
+        LayerMedium::Absorber a;
+        // alpha_i(l) = kappa a_i(l) c_i in 1/cm, c_i = loading x layer density.
+        const auto prof = absorption_profile(p);
+        a.absorption.resize(kGridSize);
+        for (std::size_t k = 0; k < kGridSize; ++k) a.absorption[k] = d.mass_absorption_cm2_per_g * prof[k] * c.loading * rho;
+        // Emission (photons, sum 1) at temperature; QE scaled by the quenching curve.
+        const double shift = p.peak_shift_nm_per_K * (t_C - kRoomTemperatureC);
+        a.emission = emission_for_excitation(p, d.pump, shift).values;
+        const double qe25 = c.quantum_efficiency ? *c.quantum_efficiency : quantum_efficiency_for(p, d.pump);
+        a.quantum_efficiency = std::min(1.0, qe25 * thermal_factor(p, t_C) / thermal_factor(p, kRoomTemperatureC));
+        m.components.push_back(std::move(a));
+        // Scattering by the grains at their volume fraction f = loading x rho_layer / rho_grain.
+        const double density = p.density_g_per_cm3 > 0 ? p.density_g_per_cm3 : kAssumedDensity_g_per_cm3;
+        const double d50 = p.d50_um > 0 ? p.d50_um : kAssumedD50_um;
+        const double n = p.refractive_index > 0 ? p.refractive_index : kAssumedGrainIndex;
+        if (!(p.density_g_per_cm3 > 0)) add_warning(warnings, fmt::format("no density for {}: {:g} g/cm3 assumed", p.id, kAssumedDensity_g_per_cm3));
+        if (!(p.d50_um > 0)) add_warning(warnings, fmt::format("no grain size (d50) for {}: {:g} um assumed", p.id, kAssumedD50_um));
+        if (!(p.refractive_index > 0)) add_warning(warnings, fmt::format("no refractive index for {}: {:g} assumed", p.id, kAssumedGrainIndex));
+        const double f = c.loading * rho / density;
+        for (std::size_t k = 0; k < kGridSize; ++k) m.scattering[k] += grain_scattering_per_cm(f, d50, n, d.binder_index, grid_nm(k));
     }
+    return m;
+}
 
-    // Emission shapes (photons, sum 1) at temperature, with the Stokes check against the pump.
-    std::vector<std::vector<double>> emission(n);
-    std::vector<double> qe(n);
-    for (std::size_t i = 0; i < n; ++i) {
-        const auto& c = d.components[i];
-        const double shift = c.phosphor.peak_shift_nm_per_K * (t_C - kRoomTemperatureC);
-        emission[i] = emission_for_excitation(c.phosphor, d.pump, shift).values;
-        const double qe25 = c.quantum_efficiency ? *c.quantum_efficiency : quantum_efficiency_for(c.phosphor, d.pump);
-        qe[i] = qe25 * thermal_factor(c.phosphor, t_C) / thermal_factor(c.phosphor, kRoomTemperatureC);
-        if (qe[i] > 1) qe[i] = 1;
-    }
+LayerResult evaluate_layer(const LayerDesign& d, std::optional<double> temperature_C, const AssessOptions& options, int generations,
+                           const LayerSolver& solver) {
+    const double t_C = temperature_C.value_or(d.temperature_C);
+    std::vector<std::string> warnings;
+    const LayerMedium med = layer_medium(d, t_C, &warnings);
+    const std::size_t n = d.components.size();
+    const bool mc = solver.method == LayerSolver::Method::monte_carlo;
+    const TransferResult tr = mc ? transfer_monte_carlo(med, solver.photons, solver.seed) : transfer_two_flux(med, generations);
 
-    // Pump: transmitted and absorbed per phosphor (photons per pump photon), absorbed energy.
     LayerResult r;
     r.name = d.name;
     r.temperature_C = t_C;
-    std::vector<double> leak(kGridSize, 0.0);
-    Eigen::VectorXd pump_absorbed = Eigen::VectorXd::Zero(static_cast<Eigen::Index>(n));
-    std::vector<double> absorbed_energy(n, 0.0);  // in units of photons x (1/nm), i.e. h c = 1
-    for (std::size_t k = 0; k < kGridSize; ++k) {
-        const double transmitted = std::exp(-alpha_total[k] * d_cm * d.pump_path_factor);
-        leak[k] = pump[k] * transmitted;
-        r.pump_photons_leaked += leak[k];
-        if (alpha_total[k] <= 0) continue;
-        for (std::size_t i = 0; i < n; ++i) {
-            const double taken = pump[k] * (1 - transmitted) * alpha[i][k] / alpha_total[k];
-            pump_absorbed(static_cast<Eigen::Index>(i)) += taken;
-            absorbed_energy[i] += taken / grid_nm(k);
-        }
-    }
-
-    // Re-absorption matrix M(i, j): probability that a photon emitted by i is absorbed by j.
-    std::vector<double> escape(kGridSize);
-    for (std::size_t k = 0; k < kGridSize; ++k) escape[k] = std::exp(-alpha_total[k] * d_cm * d.emission_path_factor);
-    Eigen::MatrixXd M = Eigen::MatrixXd::Zero(static_cast<Eigen::Index>(n), static_cast<Eigen::Index>(n));
-    std::vector<std::vector<double>> energy_per_absorbed(n, std::vector<double>(n, 0.0));  // <1/l> of i-photons taken by j
-    for (std::size_t i = 0; i < n; ++i)
-        for (std::size_t k = 0; k < kGridSize; ++k) {
-            if (emission[i][k] == 0 || alpha_total[k] <= 0) continue;
-            const double absorbed = emission[i][k] * (1 - escape[k]);
-            for (std::size_t j = 0; j < n; ++j) {
-                const double share = absorbed * alpha[j][k] / alpha_total[k];
-                M(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(j)) += share;
-                energy_per_absorbed[i][j] += share / grid_nm(k);
-            }
-        }
-    // Cascade: N = N_pump + M^T Q N  ->  (I - M^T Q) N = N_pump.
-    Eigen::VectorXd q(static_cast<Eigen::Index>(n));
-    for (std::size_t i = 0; i < n; ++i) q(static_cast<Eigen::Index>(i)) = qe[i];
-    const Eigen::MatrixXd A = Eigen::MatrixXd::Identity(static_cast<Eigen::Index>(n), static_cast<Eigen::Index>(n)) - M.transpose() * q.asDiagonal();
-    Eigen::VectorXd absorbed;
-    if (generations <= 0) {
-        absorbed = A.partialPivLu().solve(pump_absorbed);
-    } else {
-        Eigen::VectorXd generation = pump_absorbed;
-        absorbed = generation;
-        for (int g = 1; g < generations; ++g) {
-            generation = M.transpose() * q.asDiagonal() * generation;
-            absorbed += generation;
-        }
-    }
-    const Eigen::VectorXd emitted = q.cwiseProduct(absorbed);
-
-    // Escaping light and the energy bookkeeping.
-    const double photons_per_W = 1.0 / mean_inverse_wavelength(pump_spectrum);  // pump photons (h c = 1 units) per W of pump
+    r.method = mc ? "monte-carlo" : "two-flux";
+    r.photons = mc ? solver.photons : 0;
+    r.seed = mc ? solver.seed : 0;
+    const Spectrum pump_spectrum = pump_photon_shape(d);
+    // Photons in units of h c = 1 (1/nm per photon): pump photons per W of pump.
+    const double scale = d.pump_power_W / mean_inverse_wavelength(pump_spectrum);
     r.converted_spectrum = emission_grid(d.name + " converted");
     r.leaked_pump_spectrum = emission_grid(d.name + " leaked pump");
-    for (std::size_t i = 0; i < n; ++i) {
-        for (std::size_t j = 0; j < n; ++j) absorbed_energy[j] += emitted(static_cast<Eigen::Index>(i)) * energy_per_absorbed[i][j];
-        LayerComponentResult cr;
-        cr.label = d.components[i].label;
-        cr.quantum_efficiency = qe[i];
-        cr.pump_photons_absorbed = pump_absorbed(static_cast<Eigen::Index>(i));
-        cr.photons_absorbed = absorbed(static_cast<Eigen::Index>(i));
-        cr.photons_emitted = emitted(static_cast<Eigen::Index>(i));
-        for (std::size_t k = 0; k < kGridSize; ++k) {
-            const double out = cr.photons_emitted * emission[i][k] * escape[k];
-            cr.photons_escaping += out;
-            const double w = out / grid_nm(k) * photons_per_W * d.pump_power_W;
-            cr.power_escaping_W += w;
-            r.converted_spectrum.values[k] += w;
-        }
-        r.photons_escaping += cr.photons_escaping;
-        r.photons_lost += (1 - qe[i]) * cr.photons_absorbed;
-        r.components.push_back(cr);
-    }
-    // Energy (h c = 1, per pump photon -> W): absorbed energy E_i; quantum loss (1 - QE_i) E_i;
-    // Stokes loss QE_i E_i - emitted energy_i.
-    for (std::size_t i = 0; i < n; ++i) {
-        double emitted_energy = 0;
-        for (std::size_t k = 0; k < kGridSize; ++k) emitted_energy += emitted(static_cast<Eigen::Index>(i)) * emission[i][k] / grid_nm(k);
-        const double scale = photons_per_W * d.pump_power_W;
-        r.quantum_loss_W += (1 - qe[i]) * absorbed_energy[i] * scale;
-        r.stokes_loss_W += (qe[i] * absorbed_energy[i] - emitted_energy) * scale;
-    }
     for (std::size_t k = 0; k < kGridSize; ++k) {
-        const double w = leak[k] / grid_nm(k) * photons_per_W * d.pump_power_W;
+        r.pump_photons_leaked += tr.leaked[k];
+        r.photons_escaping += tr.converted[k];
+        const double w = tr.leaked[k] / grid_nm(k) * scale;
         r.leaked_pump_spectrum.values[k] = w;
         r.leaked_pump_W += w;
         if (grid_nm(k) < kUvVioletLimitNm) r.leaked_uv_violet_W += w;
+        r.converted_spectrum.values[k] = tr.converted[k] / grid_nm(k) * scale;
     }
+    for (std::size_t i = 0; i < n; ++i) {
+        const auto& t = tr.components[i];
+        const double qe = med.components[i].quantum_efficiency;
+        LayerComponentResult cr;
+        cr.label = d.components[i].label;
+        cr.quantum_efficiency = qe;
+        cr.pump_photons_absorbed = t.pump_absorbed;
+        cr.photons_absorbed = t.absorbed;
+        cr.photons_emitted = t.emitted;
+        cr.photons_escaping = t.escaping;
+        cr.power_escaping_W = t.escaping_energy * scale;
+        r.photons_lost += t.absorbed - t.emitted;
+        // Energy: quantum loss (1 - QE) E_abs; Stokes loss QE E_abs - E_emitted (expected values in the Monte Carlo).
+        r.quantum_loss_W += (1 - qe) * t.absorbed_energy * scale;
+        r.stokes_loss_W += (qe * t.absorbed_energy - t.emitted_energy) * scale;
+        r.components.push_back(cr);
+    }
+    r.photons_package = tr.package_photons;
+    r.package_loss_W = tr.package_energy * scale;
     r.pump_power_W = d.pump_power_W;
     r.converted_W = integrate_1nm(r.converted_spectrum.values);
     r.spectrum = r.converted_spectrum;
     r.spectrum.name = d.name;
     for (std::size_t k = 0; k < kGridSize; ++k) r.spectrum.values[k] += r.leaked_pump_spectrum.values[k];
     const double out_W = r.converted_W + r.leaked_pump_W;
-    r.pump_leak_fraction = r.leaked_pump_W / out_W;
+    r.pump_leak_fraction = out_W > 0 ? r.leaked_pump_W / out_W : 0.0;
     r.converted_efficiency = r.converted_W / d.pump_power_W;
     r.total_efficiency = out_W / d.pump_power_W;
     r.efficacy_lm_per_W_pump = kKm * tristimulus(r.spectrum).Y / d.pump_power_W;
     r.assessment = assess(r.spectrum, options);
     // A phosphor without quenching data is held constant: say so, once per phosphor (issue 11:
-    // never a silent assumption). After assess(), so every output that prints the assessment's
-    // warnings (text notes, JSON `warnings`, stderr) carries it.
+    // never a silent assumption); likewise assumed grain data. After assess(), so every output
+    // that prints the assessment's warnings (text notes, JSON `warnings`, stderr) carries them.
     for (const auto& c : d.components)
-        if (auto w = missing_thermal_data_warning(c.phosphor, t_C))
-            if (std::find(r.assessment.warnings.begin(), r.assessment.warnings.end(), *w) == r.assessment.warnings.end())
-                r.assessment.warnings.push_back(std::move(*w));
+        if (auto w = missing_thermal_data_warning(c.phosphor, t_C)) add_warning(&r.assessment.warnings, std::move(*w));
+    for (auto& w : warnings) add_warning(&r.assessment.warnings, std::move(w));
     return r;
 }
 
@@ -223,8 +197,8 @@ bool leak_needs_caution(const LayerResult& r, double pump_peak_nm) {
     return pump_peak_nm < kUvVioletLimitNm && r.leaked_uv_violet_W > std::min(1e-3 * r.pump_power_W, 1e-3);
 }
 
-LayerEvaluation evaluate_layer_design(const LayerDesign& d, const AssessOptions& options) {
-    LayerEvaluation r{d, evaluate_layer(d, kRoomTemperatureC, options), evaluate_layer(d, d.temperature_C, options), 0};
+LayerEvaluation evaluate_layer_design(const LayerDesign& d, const AssessOptions& options, const LayerSolver& solver) {
+    LayerEvaluation r{d, evaluate_layer(d, kRoomTemperatureC, options, 0, solver), evaluate_layer(d, d.temperature_C, options, 0, solver), 0};
     r.shift_steps = chromaticity_shift_steps(r.room.assessment.xy, r.operating.assessment.xy);
     return r;
 }

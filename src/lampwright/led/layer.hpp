@@ -1,19 +1,21 @@
 #pragma once
 // A phosphor conversion layer on a UV/violet LED (README "LED layer physics"):
-//   - pump: Beer-Lambert through the layer, absorption coefficient alpha(l) = sum_i kappa a_i(l) c_i
-//     (kappa: mass absorption coefficient of a strong absorber, a_i: relative absorption per unit
-//     mass, c_i: phosphor mass concentration in the layer); absorbed pump photons are shared by
-//     alpha_i / alpha; the rest leaks out;
-//   - re-absorption: a photon emitted at l inside the layer is absorbed before it escapes with
-//     probability 1 - exp(-alpha(l) L), L = path factor x thickness, and goes to phosphor j with
-//     alpha_j / alpha; the cascade over all generations is one linear system (Eigen);
+//   - absorption: alpha_i(l) = kappa a_i(l) c_i per phosphor (kappa: mass absorption coefficient
+//     of a strong absorber, a_i: relative absorption per unit mass, c_i: its mass concentration);
+//   - scattering: every phosphor's grains (d50, index against the silicone's) by anomalous
+//     diffraction at their volume fraction, with one asymmetry g (led/layer_optics.hpp);
+//   - transport with conversion and re-absorption: a sublayered two-flux model (fast) or a photon
+//     Monte Carlo (reference) of the slab with Fresnel/TIR at the top and the package reflector
+//     below (led/layer_transfer.hpp);
 //   - temperature: QE scaled by each phosphor's thermal quenching, emission shifted by its
 //     peak shift per kelvin.
 // Spectra on the 300-900 nm grid in W/nm for the pump power given (1 W by default).
 #include "lampwright/colour/assessment.hpp"
 #include "lampwright/phosphor/excitation.hpp"
 #include "lampwright/phosphor/phosphor.hpp"
+#include "lampwright/led/layer_transfer.hpp"
 
+#include <cstdint>
 #include <optional>
 #include <string>
 #include <vector>
@@ -25,6 +27,18 @@ namespace lampwright {
 inline constexpr double kReferenceMassAbsorption_cm2_per_g = 1000.0;
 inline constexpr double kSiliconeDensity_g_per_cm3 = 1.1;
 inline constexpr double kRoomTemperatureC = 25.0;
+// Optical defaults of the layer (README "LED layer physics"; all from memory): a methyl silicone's
+// index 1.41 (phenyl silicones reach 1.53); light leaving into air; the asymmetry of 5-20 um
+// phosphor grains 0.85 (Mie theory gives about 0.8-0.9 for such grains); a silvered or white
+// package reflector 0.9.
+inline constexpr double kSiliconeIndex = 1.41;
+inline constexpr double kOutsideIndex = 1.0;
+inline constexpr double kGrainAsymmetry = 0.85;
+inline constexpr double kReflectorReflectance = 0.9;
+// Grain data assumed for a phosphor whose file gives none (the layer result says so).
+inline constexpr double kAssumedD50_um = 15.0;
+inline constexpr double kAssumedGrainIndex = 1.8;
+inline constexpr double kAssumedDensity_g_per_cm3 = 4.0;
 
 struct LayerComponent {
     std::string label;
@@ -44,10 +58,19 @@ struct LayerDesign {
     double thickness_um = 0;
     double binder_density_g_per_cm3 = kSiliconeDensity_g_per_cm3;
     double mass_absorption_cm2_per_g = kReferenceMassAbsorption_cm2_per_g;
-    double pump_path_factor = 1.0;
-    double emission_path_factor = 1.0;
+    double binder_index = kSiliconeIndex;
+    double outside_index = kOutsideIndex;
+    double scattering_asymmetry = kGrainAsymmetry;
+    double reflector_reflectance = kReflectorReflectance;
     double temperature_C = kRoomTemperatureC;
     std::vector<LayerComponent> components;
+};
+
+// How the transport is solved (not part of a design file: chosen on the command line).
+struct LayerSolver {
+    enum class Method { two_flux, monte_carlo } method = Method::two_flux;
+    std::int64_t photons = 200000;  // Monte Carlo photons (pump photons launched)
+    std::uint64_t seed = 1;
 };
 
 struct LayerComponentResult {
@@ -67,10 +90,14 @@ struct LayerResult {
     Spectrum converted_spectrum;   // converted light alone
     Spectrum leaked_pump_spectrum;
     std::vector<LayerComponentResult> components;
-    // Photon balance per pump photon: 1 = leaked + escaping + lost (non-radiative).
-    double pump_photons_leaked = 0, photons_escaping = 0, photons_lost = 0;
-    // Energy balance in W: pump = leaked + converted out + Stokes loss + quantum loss.
-    double pump_power_W = 0, leaked_pump_W = 0, converted_W = 0, stokes_loss_W = 0, quantum_loss_W = 0;
+    // Photon balance per pump photon: 1 = leaked + escaping + lost (non-radiative) + package
+    // (absorbed by the package reflector).
+    double pump_photons_leaked = 0, photons_escaping = 0, photons_lost = 0, photons_package = 0;
+    // Energy balance in W: pump = leaked + converted out + Stokes loss + quantum loss + package loss.
+    double pump_power_W = 0, leaked_pump_W = 0, converted_W = 0, stokes_loss_W = 0, quantum_loss_W = 0, package_loss_W = 0;
+    std::string method = "two-flux";  // "two-flux" or "monte-carlo"
+    std::int64_t photons = 0;         // Monte Carlo photons (0 for two-flux)
+    std::uint64_t seed = 0;           // Monte Carlo seed
     double leaked_uv_violet_W = 0;       // leaked power below 420 nm
     double pump_leak_fraction = 0;       // leaked pump power / total output power
     // Two efficiencies, kept apart because leaked pump light is output but not converted light: a
@@ -84,9 +111,13 @@ struct LayerResult {
 };
 
 // `generations` = 0 solves the re-absorption cascade exactly (one linear system); n > 0 instead sums
-// the first n generations of re-emitted photons one by one (a check on the exact solution).
+// the first n generations of re-emitted photons one by one (a check on the exact solution; two-flux only).
 LayerResult evaluate_layer(const LayerDesign& design, std::optional<double> temperature_C = std::nullopt,
-                           const AssessOptions& options = {}, int generations = 0);
+                           const AssessOptions& options = {}, int generations = 0, const LayerSolver& solver = {});
+
+// The slab as both transport models see it, at a temperature (absorption, scattering, emission,
+// QE per phosphor; boundaries), with the warnings about assumed grain data.
+LayerMedium layer_medium(const LayerDesign& design, double temperature_C, std::vector<std::string>* warnings = nullptr);
 
 // Relative absorption of a phosphor at every grid wavelength: its data, zero where they end on the
 // long side, and faded out across its own emission band by the share of its emitted photons that
@@ -114,6 +145,6 @@ struct LayerEvaluation {
     LayerResult operating;  // at the design's operating temperature
     double shift_steps = 0; // chromaticity shift room -> operating, MacAdam steps
 };
-LayerEvaluation evaluate_layer_design(const LayerDesign& d, const AssessOptions& options = {});
+LayerEvaluation evaluate_layer_design(const LayerDesign& d, const AssessOptions& options = {}, const LayerSolver& solver = {});
 
 }  // namespace lampwright

@@ -67,7 +67,13 @@ LayerDesign layer_design_from_toml(const TomlDoc& doc, const std::vector<std::st
 
     const auto* layer = doc.table(r, "layer", "");
     if (!layer) doc.fail(&r, "", "missing [layer] with thickness_um");
-    doc.only_keys(*layer, {"thickness_um", "binder_density_g_per_cm3", "mass_absorption_cm2_per_g", "pump_path_factor", "emission_path_factor"}, "layer");
+    // The path factors of the earlier Beer-Lambert model have no meaning once scattering is modelled.
+    for (const char* gone : {"pump_path_factor", "emission_path_factor"})
+        if (layer->get(gone))
+            doc.fail(layer->get(gone), key_path("layer", gone),
+                     "is no longer used: the layer model now computes the light paths from the grains' scattering (README \"LED layer physics\"); remove it");
+    doc.only_keys(*layer, {"thickness_um", "binder_density_g_per_cm3", "mass_absorption_cm2_per_g", "binder_index", "outside_index",
+                           "scattering_asymmetry", "reflector_reflectance"}, "layer");
     d.thickness_um = doc.require_number(*layer, "thickness_um", "layer");
     if (d.thickness_um < 0) doc.fail(layer->get("thickness_um"), "layer.thickness_um", "must not be negative");
     if (d.thickness_um > 10000) doc.fail(layer->get("thickness_um"), "layer.thickness_um", fmt::format("{:g} um is over 1 cm: micrometres expected", d.thickness_um));
@@ -79,8 +85,16 @@ LayerDesign layer_design_from_toml(const TomlDoc& doc, const std::vector<std::st
     };
     positive("binder_density_g_per_cm3", d.binder_density_g_per_cm3);
     positive("mass_absorption_cm2_per_g", d.mass_absorption_cm2_per_g);
-    positive("pump_path_factor", d.pump_path_factor);
-    positive("emission_path_factor", d.emission_path_factor);
+    auto in_range = [&](const char* key, double lo, double hi, double& out, const char* what) {
+        if (auto v = doc.number(*layer, key, "layer")) {
+            if (!(*v >= lo && *v <= hi)) doc.fail(layer->get(key), key_path("layer", key), fmt::format("must lie in [{:g}, {:g}] ({}), not {:g}", lo, hi, what, *v));
+            out = *v;
+        }
+    };
+    in_range("binder_index", 1.0, 2.5, d.binder_index, "a refractive index");
+    in_range("outside_index", 1.0, 2.5, d.outside_index, "a refractive index: 1 for air");
+    in_range("scattering_asymmetry", -0.99, 0.99, d.scattering_asymmetry, "the mean cosine of scattering");
+    in_range("reflector_reflectance", 0.0, 1.0, d.reflector_reflectance, "a fraction");
 
     if (const auto* op = doc.table(r, "operating", "")) {
         doc.only_keys(*op, {"temperature_C"}, "operating");
@@ -160,8 +174,9 @@ std::string layer_design_to_toml(const LayerDesign& d) {
     std::string o = fmt::format("name = {}\n\n[pump]\n", toml_quote(d.name));
     o += fmt::format("peak_nm = {:g}\nfwhm_nm = {:g}\npower_W = {:g}\n", d.pump.peak_nm, d.pump.fwhm_nm, d.pump_power_W);
     o += fmt::format("\n[layer]\nthickness_um = {:.3f}\nbinder_density_g_per_cm3 = {:g}\nmass_absorption_cm2_per_g = {:g}\n"
-                     "pump_path_factor = {:g}\nemission_path_factor = {:g}\n",
-                     d.thickness_um, d.binder_density_g_per_cm3, d.mass_absorption_cm2_per_g, d.pump_path_factor, d.emission_path_factor);
+                     "binder_index = {:g}\noutside_index = {:g}\nscattering_asymmetry = {:g}\nreflector_reflectance = {:g}\n",
+                     d.thickness_um, d.binder_density_g_per_cm3, d.mass_absorption_cm2_per_g, d.binder_index, d.outside_index,
+                     d.scattering_asymmetry, d.reflector_reflectance);
     o += fmt::format("\n[operating]\ntemperature_C = {:g}\n", d.temperature_C);
     for (const auto& c : d.components) {
         o += "\n[[component]]\n";

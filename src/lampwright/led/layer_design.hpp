@@ -6,7 +6,8 @@
 //   [layer]      thickness_um = 60
 //                binder_density_g_per_cm3 = 1.1                   # optional (silicone)
 //                mass_absorption_cm2_per_g = 1000                  # optional: kappa for relative absorption 1
-//                pump_path_factor = 1.0   emission_path_factor = 1.0   # optional geometry factors
+//                binder_index = 1.41   outside_index = 1.0              # optional: silicone, air
+//                scattering_asymmetry = 0.85   reflector_reflectance = 0.9 # optional: grains' g, package
 //   [operating]  temperature_C = 85                                # optional
 //   phosphor_folders = ["mine"]                                     # optional
 //   [[component]]

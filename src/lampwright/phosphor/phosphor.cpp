@@ -175,7 +175,7 @@ Phosphor parse_phosphor(const std::string& text, const std::string& origin) {
     }
 
     if (const auto* g = doc.table(r, "grain", "")) {
-        doc.only_keys(*g, {"d50_um", "reflectance_at_254nm", "source"}, "grain");
+        doc.only_keys(*g, {"d50_um", "reflectance_at_254nm", "refractive_index", "source"}, "grain");
         p.d50_um = doc.require_number(*g, "d50_um", "grain");
         if (!(p.d50_um >= 0.05 && p.d50_um <= 200))
             doc.fail(g->get("d50_um"), "grain.d50_um", fmt::format("must be a median particle size of 0.05-200 um, not {:g}", p.d50_um));
@@ -183,6 +183,12 @@ Phosphor parse_phosphor(const std::string& text, const std::string& origin) {
         if (!(p.reflectance_254nm >= 0 && p.reflectance_254nm < 1))
             doc.fail(g->get("reflectance_at_254nm"), "grain.reflectance_at_254nm",
                      fmt::format("must be a fraction in [0, 1), not {:g}", p.reflectance_254nm));
+        if (auto n = doc.number(*g, "refractive_index", "grain")) {
+            // Inorganic phosphor hosts lie between about 1.3 (fluorides) and 2.5 (oxides of heavy metals).
+            if (!(*n >= 1.0 && *n <= 3.5))
+                doc.fail(g->get("refractive_index"), "grain.refractive_index", fmt::format("must lie in [1, 3.5], not {:g}", *n));
+            p.refractive_index = *n;
+        }
         p.grain_source = doc.string(*g, "source", "grain").value_or("");
     }
 

@@ -48,6 +48,9 @@ struct Phosphor {
     // share of 254 nm light a grain reflects; 0 when the file gives none.
     double d50_um = 0;
     double reflectance_254nm = 0;
+    // Refractive index of the grain in the visible, for the scattering of an LED layer
+    // (led/layer_optics.hpp); 0 when the file gives none.
+    double refractive_index = 0;
     std::string grain_source;
 
     std::string emission_model;  // "bands", "lines" or "measured"

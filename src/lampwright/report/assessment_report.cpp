@@ -254,7 +254,7 @@ std::string assessment_text(const Assessment& a) {
     if (std::isfinite(f.dominant_nm))
         o += fmt::format("  dominant wavelength {:.1f} nm{}   excitation purity {:.3f} (against E)\n", std::abs(f.dominant_nm),
                          f.dominant_nm < 0 ? " (complementary)" : "", f.purity);
-    for (const auto& w : a.warnings) o += fmt::format("  note: {}\n", w);
+    for (const auto& w : a.warnings) o += wrap_text(w, 100, "  note: ", "        ");
     return o;
 }
 

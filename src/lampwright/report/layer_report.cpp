@@ -12,7 +12,7 @@ std::vector<std::string> layer_columns() {
     auto c = assessment_columns();
     for (const char* k : {"temperature_C", "pump_leak_fraction", "converted_efficiency", "total_efficiency", "efficacy_lm_per_W_pump", "pump_power_W",
                           "leaked_pump_W", "leaked_uv_violet_W", "converted_W", "stokes_loss_W", "quantum_loss_W",
-                          "photons_leaked", "photons_escaping", "photons_lost", "x_25C", "y_25C", "shift_macadam_steps"})
+                          "package_loss_W", "photons_leaked", "photons_escaping", "photons_lost", "photons_package", "x_25C", "y_25C", "shift_macadam_steps"})
         c.push_back(k);
     return c;
 }
@@ -22,7 +22,7 @@ std::vector<std::string> layer_values(const LayerEvaluation& rep) {
     auto v = assessment_values(r.assessment);
     for (double x : {r.temperature_C, r.pump_leak_fraction, r.converted_efficiency, r.total_efficiency, r.efficacy_lm_per_W_pump, r.pump_power_W,
                      r.leaked_pump_W, r.leaked_uv_violet_W, r.converted_W, r.stokes_loss_W, r.quantum_loss_W,
-                     r.pump_photons_leaked, r.photons_escaping, r.photons_lost, rep.room.assessment.xy.x, rep.room.assessment.xy.y,
+                     r.package_loss_W, r.pump_photons_leaked, r.photons_escaping, r.photons_lost, r.photons_package, rep.room.assessment.xy.x, rep.room.assessment.xy.y,
                      rep.shift_steps})
         v.push_back(format_fixed(x, 6));
     return v;
@@ -34,6 +34,8 @@ nlohmann::ordered_json layer_json(const LayerEvaluation& rep) {
     const auto vals = layer_values(rep);
     for (std::size_t i = assessment_columns().size(); i < cols.size(); ++i) j[cols[i]] = vals[i].empty() ? nlohmann::ordered_json(nullptr) : nlohmann::ordered_json(std::stod(vals[i]));
     j["thickness_um"] = rep.design.thickness_um;
+    j["method"] = rep.operating.method;
+    j["monte_carlo_photons"] = rep.operating.photons > 0 ? nlohmann::ordered_json(rep.operating.photons) : nlohmann::ordered_json(nullptr);
     auto& comps = j["components"] = nlohmann::ordered_json::array();
     for (std::size_t i = 0; i < rep.operating.components.size(); ++i) {
         const auto& c = rep.operating.components[i];
@@ -67,9 +69,12 @@ std::string layer_text(const LayerEvaluation& rep) {
     // Lines of at most 100 columns.
     o += fmt::format("  efficiency: converted {:.3f} W/W, total {:.3f} W/W (leaked pump included)\n", r.converted_efficiency, r.total_efficiency);
     o += fmt::format("  efficacy:   {:.1f} lm per W of pump\n", r.efficacy_lm_per_W_pump);
-    o += fmt::format("  energy: pump {:.4f} W = leaked {:.4f} + converted {:.4f} + losses: Stokes {:.4f}, quantum {:.4f}\n",
-                     r.pump_power_W, r.leaked_pump_W, r.converted_W, r.stokes_loss_W, r.quantum_loss_W);
-    o += fmt::format("  photons: 1 = leaked {:.4f} + escaping {:.4f} + lost {:.4f}\n", r.pump_photons_leaked, r.photons_escaping, r.photons_lost);
+    o += fmt::format("  energy: pump {:.4f} W = leaked {:.4f} + converted {:.4f}\n", r.pump_power_W, r.leaked_pump_W, r.converted_W);
+    o += fmt::format("          + losses: Stokes {:.4f}, quantum {:.4f}, package {:.4f}\n", r.stokes_loss_W, r.quantum_loss_W, r.package_loss_W);
+    o += fmt::format("  photons: 1 = leaked {:.4f} + escaping {:.4f} + lost {:.4f} + package {:.4f}\n", r.pump_photons_leaked,
+                     r.photons_escaping, r.photons_lost, r.photons_package);
+    o += r.photons > 0 ? fmt::format("  transport: photon Monte Carlo, {} photons, seed {}\n", r.photons, r.seed)
+                       : std::string("  transport: two-flux (sublayered Kubelka-Munk)\n");
     o += fmt::format("  25 degC: x {:.4f} y {:.4f}   {:g} degC: x {:.4f} y {:.4f}   shift {:.2f} MacAdam steps\n",
                      rep.room.assessment.xy.x, rep.room.assessment.xy.y, r.temperature_C, r.assessment.xy.x, r.assessment.xy.y, rep.shift_steps);
     const std::string a = assessment_text(r.assessment);
