@@ -480,5 +480,9 @@ TEST_CASE("fit command: a bad [tolerance] is refused with file, line and key") {
         CHECK(r.err.find(fmt::format("{}", base_lines + 4)) != std::string::npos);
         CHECK(r.err.find(c.key) != std::string::npos);
         CHECK(r.out.empty());
+        // Checked when the recipe is loaded, by any command.
+        const auto b = run_cli("blend " + quote(recipe));
+        CHECK(b.exit_code != 0);
+        CHECK(b.err.find(c.key) != std::string::npos);
     }
 }

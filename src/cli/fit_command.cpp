@@ -264,7 +264,7 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     // The tolerance sigmas: the command line, else the recipe's [tolerance], else the default.
     ToleranceProblem settings;
     if (tolerance_run) {
-        const RecipeTolerance rt = load_recipe_tolerance(recipe.path, n_components);
+        const RecipeTolerance& rt = recipe.tolerance;
         auto list = [&](const char* key, const char* option, const std::string& text, const NumberRange& range) {
             std::vector<double> v;
             if (vm.count(option)) {

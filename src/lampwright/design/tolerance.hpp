@@ -5,7 +5,7 @@
 // chromaticity in MacAdam steps around the target, its spread within and between batches, and the
 // share of lamps inside an n-step ellipse.
 //
-// Sources of variation (kToleranceSources below: default sigma, level and where it comes from):
+// Sources of variation (kToleranceSources, phosphor/recipe_tolerance.hpp: default sigma, level and where it comes from):
 //   per batch (shared by the batch's lamps):
 //     weighing   relative (default): m_i = w_i (1 + sw_i z), absolute: m_i = w_i + sw_i z (sw_i in
 //                mass-fraction units); negative masses set to 0; then normalised to sum 1;
@@ -44,6 +44,7 @@
 // the same seed gives the same draws with one standard library (libstdc++ here) but may not with
 // another.
 #include "lampwright/phosphor/blend.hpp"
+#include "lampwright/phosphor/recipe_tolerance.hpp"
 #include "lampwright/design/targets.hpp"
 
 #include <array>
@@ -54,48 +55,6 @@
 #include <vector>
 
 namespace lampwright {
-
-class TomlDoc;
-
-// One source of variation: its recipe key (table [tolerance]), whether it is drawn per batch or
-// per lamp, its default sigma, the range a recipe or the command line may set, and the source of
-// the default. The one place for these numbers.
-struct ToleranceSource {
-    const char* key;
-    const char* level;  // "batch" or "lamp"
-    double default_value;
-    double min, max;
-    const char* unit;
-    const char* source;
-};
-inline constexpr std::array<ToleranceSource, 8> kToleranceSources{{
-    {"weighing_sigma", "batch", 0.005, 0, 0.5, "relative to each component's mass",
-     "from memory: a powder batch is weighed once, to about 0.5 % of each component's mass"},
-    {"d50_sigma", "batch", 0.05, 0, 0.5, "relative to the lot's d50",
-     "from memory: lot-to-lot d50 of lamp phosphors within about +-10 % of the specification"},
-    {"absorption_sigma", "batch", 0.02, 0, 0.5, "relative to the per-mass absorption", "from memory"},
-    {"qe_sigma", "batch", 0.02, 0, 0.5, "relative to the QE (lot brightness)",
-     "from memory: lot brightness within about +-3-5 % of the reference powder"},
-    {"peak_sigma_nm", "batch", 0.5, 0, 20, "nm, band emitters only (line emitters never shift)", "from memory"},
-    {"coating_weight_sigma_mg_per_cm2", "lamp", 0.15, 0, 2, "mg/cm2",
-     "from memory: about 5 % of a 3 mg/cm2 tri-band coating from tube to tube"},
-    {"measurement_sigma_xy", "lamp", 0.0015, 0, 0.02, "in x and in y",
-     "from memory: repeatability of a lamp colour measurement about 0.001-0.002 in x, y"},
-    {"batch_size", "batch", 50, 1, 1000000, "lamps per batch (whole number)", "common practice, no source"},
-}};
-// The entry for a key; throws Error for an unknown key.
-const ToleranceSource& tolerance_source(const std::string& key);
-
-// The [tolerance] table of a recipe file: the keys of kToleranceSources (numbers; the per-batch
-// sigmas also an array of one per component). Values outside their ranges, unknown keys, and
-// per-component arrays of the wrong length are InputError naming the file, the line and the key.
-struct RecipeTolerance {
-    std::string path;                                    // "" when the recipe has no [tolerance]
-    std::vector<std::pair<std::string, std::vector<double>>> values;  // key, value(s), in file order
-    const std::vector<double>* find(const std::string& key) const;
-};
-RecipeTolerance recipe_tolerance(const TomlDoc& doc, std::size_t n_components);
-RecipeTolerance load_recipe_tolerance(const std::string& recipe_path, std::size_t n_components);
 
 struct ToleranceProblem {
     BlendInput blend;               // the nominal recipe (its mass fractions are the aim)
