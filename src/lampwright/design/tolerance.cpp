@@ -307,7 +307,8 @@ ToleranceResult run_tolerance(const ToleranceProblem& p, const ToleranceProgress
     r.nominal_xy = model.chromaticity(model.nominal_draw());
     r.nominal_steps = macadam_steps(p.ellipse, r.nominal_xy);
     std::vector<double> steps(p.draws);
-    std::vector<Chromaticity> xys(p.draws);
+    std::vector<Chromaticity> xys;  // every draw's, only when kept
+    if (keep_steps) xys.resize(p.draws);
     ToleranceDraw d;
     // Welford's running moments (common practice), over the draws with a finite chromaticity only:
     // a draw that gives no light (every QE factor drawn at 0) is a failed lamp, counted in
@@ -316,18 +317,41 @@ ToleranceResult run_tolerance(const ToleranceProblem& p, const ToleranceProgress
     std::size_t good = 0;
     // Per batch: its finite lamps' chromaticities and how many are inside.
     struct Batch {
-        double x = 0, y = 0;
+        Chromaticity centre;
         std::size_t good = 0, inside = 0, lamps = 0;
     };
     std::vector<Batch> batches;
+    // The lamps of the batch being drawn (finite ones), and the within-batch sums of squares of x,
+    // y and of the MacAdam distance from the batch mean (one-way analysis of variance, common
+    // practice, no source).
+    std::vector<Chromaticity> current;
+    double wxx = 0, wyy = 0, ws2 = 0;
+    auto close_batch = [&](Batch& bt) {
+        if (current.empty()) return;
+        double sx = 0, sy = 0;
+        for (const auto& c : current) sx += c.x, sy += c.y;
+        bt.centre = {sx / static_cast<double>(current.size()), sy / static_cast<double>(current.size())};
+        MacAdamEllipse e = p.ellipse;
+        e.centre = bt.centre;
+        for (const auto& c : current) {
+            const double dx = c.x - bt.centre.x, dy = c.y - bt.centre.y, st = macadam_steps(e, c);
+            wxx += dx * dx;
+            wyy += dy * dy;
+            ws2 += st * st;
+        }
+        current.clear();
+    };
     const std::size_t every = std::max<std::size_t>(1, p.draws / 100);
     for (std::size_t k = 0; k < p.draws; ++k) {
         sampler.next(d);
-        if (d.batch >= batches.size()) batches.resize(d.batch + 1);
+        if (d.batch >= batches.size()) {
+            if (!batches.empty()) close_batch(batches.back());
+            batches.resize(d.batch + 1);
+        }
         Batch& bt = batches[d.batch];
         ++bt.lamps;
         const Chromaticity xy = model.chromaticity(d);
-        xys[k] = xy;
+        if (keep_steps) xys[k] = xy;
         const double s = macadam_steps(p.ellipse, xy);
         steps[k] = s;
         if (!std::isfinite(s) || !std::isfinite(xy.x) || !std::isfinite(xy.y)) {
@@ -337,8 +361,7 @@ ToleranceResult run_tolerance(const ToleranceProblem& p, const ToleranceProgress
             if (s <= p.steps) ++r.inside, ++bt.inside;
             ++good;
             ++bt.good;
-            bt.x += xy.x;
-            bt.y += xy.y;
+            current.push_back(xy);
             const double nk = static_cast<double>(good);
             const double ds = s - mean_s;
             mean_s += ds / nk;
@@ -352,6 +375,7 @@ ToleranceResult run_tolerance(const ToleranceProblem& p, const ToleranceProgress
         }
         if (progress && ((k + 1) % every == 0 || k + 1 == p.draws)) progress(k + 1, p.draws);
     }
+    close_batch(batches.back());
     if (good == 0)
         throw Error(fmt::format("no draw of {} gave a finite chromaticity (every lamp without light): the sigmas are too large", p.draws));
     const double N = static_cast<double>(p.draws), G = static_cast<double>(good);
@@ -379,39 +403,27 @@ ToleranceResult run_tolerance(const ToleranceProblem& p, const ToleranceProgress
         const double B = static_cast<double>(batches.size());
         r.yield_standard_error = std::sqrt(B / (B - 1) * ss) / N;
     }
-    // Within and between batches (one-way analysis of variance, common practice, no source).
+    // Between batches (one-way analysis of variance, common practice, no source).
     {
-        std::vector<Chromaticity> centre(batches.size());
         double bx = 0, by = 0;
         std::size_t used = 0;
-        for (std::size_t b = 0; b < batches.size(); ++b) {
-            if (batches[b].good == 0) continue;
-            centre[b] = {batches[b].x / static_cast<double>(batches[b].good), batches[b].y / static_cast<double>(batches[b].good)};
-            bx += centre[b].x;
-            by += centre[b].y;
+        for (const auto& bt : batches) {
+            if (bt.good == 0) continue;
+            bx += bt.centre.x;
+            by += bt.centre.y;
             ++used;
         }
         const Chromaticity grand{bx / static_cast<double>(used), by / static_cast<double>(used)};
-        double wxx = 0, wyy = 0, ws2 = 0, bxx = 0, byy = 0, bs2 = 0;
-        for (std::size_t k = 0; k < p.draws; ++k) {
-            if (!std::isfinite(steps[k])) continue;
-            const std::size_t b = k / p.batch_size;
-            MacAdamEllipse e = p.ellipse;
-            e.centre = centre[b];
-            const double dx = xys[k].x - centre[b].x, dy = xys[k].y - centre[b].y, s = macadam_steps(e, xys[k]);
-            wxx += dx * dx;
-            wyy += dy * dy;
-            ws2 += s * s;
-        }
+        double bxx = 0, byy = 0, bs2 = 0;
         MacAdamEllipse eg = p.ellipse;
         eg.centre = grand;
-        for (std::size_t b = 0; b < batches.size(); ++b) {
-            if (batches[b].good == 0) continue;
-            const double dx = centre[b].x - grand.x, dy = centre[b].y - grand.y, s = macadam_steps(eg, centre[b]);
+        for (const auto& bt : batches) {
+            if (bt.good == 0) continue;
+            const double dx = bt.centre.x - grand.x, dy = bt.centre.y - grand.y, s = macadam_steps(eg, bt.centre);
             bxx += dx * dx;
             byy += dy * dy;
             bs2 += s * s;
-            r.worst_batch_mean_steps = std::max(r.worst_batch_mean_steps, macadam_steps(p.ellipse, centre[b]));
+            r.worst_batch_mean_steps = std::max(r.worst_batch_mean_steps, macadam_steps(p.ellipse, bt.centre));
         }
         const double dof_w = G - static_cast<double>(used);
         if (dof_w > 0) {

@@ -111,7 +111,7 @@ struct ToleranceResult {
     std::vector<Chromaticity> xy;     // per draw, when kept (measured: with the measurement error)
     // Batches (the lamps of a batch share the per-batch draws). Spread of x, y within a batch
     // (pooled sd about each batch's mean) and between batches (sd of the batch means), and the
-    // same as RMS MacAdam steps: lamp from its batch mean, batch mean from the mean of all lamps;
+    // same as RMS MacAdam steps: lamp from its batch mean, batch mean from the mean of the batch means;
     // the worst batch mean's distance from the target.
     std::size_t batch_size = 1, batches = 0;
     double sd_x_within = 0, sd_y_within = 0, sd_x_between = 0, sd_y_between = 0;

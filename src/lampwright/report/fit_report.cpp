@@ -214,7 +214,7 @@ std::string tolerance_text(const ToleranceProblem& t, const ToleranceResult& r, 
                      100 * r.yield_standard_error, r.inside, r.draws);
     o << fmt::format("  batches:    {} of {} lamps; sd of x within a batch {:.4f}, between batch means {:.4f}; of y {:.4f}, {:.4f}\n",
                      r.batches, r.batch_size, r.sd_x_within, r.sd_x_between, r.sd_y_within, r.sd_y_between);
-    o << fmt::format("              RMS MacAdam steps: lamp from its batch mean {:.2f}, batch mean from the mean of all lamps {:.2f}; "
+    o << fmt::format("              RMS MacAdam steps: lamp from its batch mean {:.2f}, batch mean from the mean of the batch means {:.2f}; "
                      "worst batch mean {:.2f} steps from the target\n",
                      r.within_steps_rms, r.between_steps_rms, r.worst_batch_mean_steps);
     for (const auto& n : r.notes) o << "  note:       " << n << '\n';
