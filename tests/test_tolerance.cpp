@@ -477,7 +477,7 @@ TEST_CASE("fit command: a bad [tolerance] is refused with file, line and key") {
         CHECK(r.exit_code != 0);
         CHECK(r.err.find("bad.toml") != std::string::npos);
         // The offending key is the table's second: after the recipe's lines, an empty one, "[tolerance]" and the first key.
-        CHECK(r.err.find(fmt::format("{}", base_lines + 4)) != std::string::npos);
+        CHECK(r.err.find(fmt::format("bad.toml:{}:", base_lines + 4)) != std::string::npos);
         CHECK(r.err.find(c.key) != std::string::npos);
         CHECK(r.out.empty());
         // Checked when the recipe is loaded, by any command.
