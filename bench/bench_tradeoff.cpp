@@ -32,16 +32,23 @@ void BM_Front30RaEfficacy(benchmark::State& state, const std::string& name) {
     state.counters["evaluations"] = evaluations;
 }
 
-// The whole run: the precomputed table (per component, 0.25 nm shifts) and the draws.
+// The whole run: the precomputed tables (per component, 0.25 nm shifts; the coating-weight table) and the draws.
 void BM_Tolerance(benchmark::State& state, const std::string& name, std::size_t draws) {
     lampwright::ToleranceProblem t;
     t.blend = recipe(name);
     // The ellipse round the recipe's own chromaticity (the nearest ANSI C78.376 one-step ellipse).
     const auto xy = lampwright::evaluate_blend(t.blend).assessment.xy;
     t.ellipse = lampwright::tolerance_ellipse(lampwright::target_xy(xy.x, xy.y));
-    t.weighing_sigma = {0.005};
-    t.peak_sigma_nm = {0.5};
-    t.qe_sigma = {0.01};
+    // Every source of variation at its default (kToleranceSources), in batches.
+    auto dflt = [](const char* key) { return lampwright::tolerance_source(key).default_value; };
+    t.weighing_sigma = {dflt("weighing_sigma")};
+    t.peak_sigma_nm = {dflt("peak_sigma_nm")};
+    t.qe_sigma = {dflt("qe_sigma")};
+    t.d50_sigma = {dflt("d50_sigma")};
+    t.absorption_sigma = {dflt("absorption_sigma")};
+    t.coating_weight_sigma_mg_per_cm2 = dflt("coating_weight_sigma_mg_per_cm2");
+    t.measurement_sigma_xy = dflt("measurement_sigma_xy");
+    t.batch_size = static_cast<std::size_t>(dflt("batch_size"));
     t.draws = draws;
     t.seed = 1;
     (void)lampwright::run_tolerance(t);

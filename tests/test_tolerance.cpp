@@ -8,6 +8,7 @@
 #include "lampwright/design/tolerance.hpp"
 #include "lampwright/report/fit_report.hpp"
 #include <fmt/format.h>
+#include <nlohmann/json.hpp>
 
 #include "test_support.hpp"
 
@@ -289,6 +290,199 @@ TEST_CASE("fit command: tolerance run, reproducible, and its usage errors") {
     CHECK(rc("--tolerance-run --weighing-sigma 0.01,0.01") == 2);
     CHECK(rc("--tolerance-run --peak-sigma abc") == 2);
     CHECK(rc("--tolerance-run --weighing-sigma 0.01 --steps 0") == 2);
-    CHECK(rc("--tolerance-run") == 2);  // no sigma: nothing to draw
+    // Every sigma has a default (kToleranceSources): the run needs no option; all set to zero, nothing to draw.
+    CHECK(rc("--tolerance-run --draws 1000") == 0);
+    CHECK(rc("--tolerance-run --weighing-sigma 0 --peak-sigma 0 --qe-sigma 0 --d50-sigma 0 --absorption-sigma 0 --coating-weight-sigma 0 "
+             "--measurement-sigma 0") == 2);
+    CHECK(rc("--tolerance-run --batch-size 0") == 2);
+    CHECK(rc("--tolerance-run --batch-size 2.5") == 2);
+    CHECK(rc("--tolerance-run --d50-sigma 0.01,0.01") == 2);
     CHECK(rc("--tolerance-run --draws 1000 --weighing-sigma 0.01,0.02,0.005 --steps 2") == 0);
+}
+
+namespace {
+
+// Only the named sources of variation, every other sigma zero.
+ToleranceProblem only(const std::string& recipe, std::size_t batch_size, std::size_t draws) {
+    ToleranceProblem t = production(recipe, draws);
+    t.weighing_sigma.clear();
+    t.peak_sigma_nm.clear();
+    t.qe_sigma.clear();
+    t.batch_size = batch_size;
+    return t;
+}
+
+std::string triband_with(const std::string& tolerance_table) {
+    return lwtest::slurp(example_recipe("triband_4000K.toml")) + "\n[tolerance]\n" + tolerance_table;
+}
+
+}  // namespace
+
+TEST_CASE("tolerance: the fast path agrees with evaluate_blend with d50, absorption and coating weight drawn") {
+    // As the first check, with the new per-batch terms and the per-lamp coating weight. The fast path
+    // keeps the coating optics of the nominal fractions and grain sizes (tolerance.hpp); the exact
+    // path recomputes them for the drawn d50, so the agreement is looser than for the shifts alone:
+    // well below a tenth of a MacAdam step. Common practice, no source.
+    ToleranceProblem t = production("triband_4000K.toml", 10);
+    t.d50_sigma = {0.08};
+    t.absorption_sigma = {0.04};
+    t.coating_weight_sigma_mg_per_cm2 = 0.4;
+    const ToleranceModel m(t);
+    REQUIRE(m.nominal_coating_weight() > 0);
+    ToleranceSampler s(m, 5);
+    ToleranceDraw d;
+    for (int k = 0; k < 5; ++k) {
+        s.next(d);
+        CAPTURE(d.coating_weight_mg_per_cm2);
+        const Chromaticity fast = m.chromaticity(d);
+        const Chromaticity exact = measured(evaluate_draw_exactly(t.blend, d).assessment.xy, d);
+        CHECK(std::abs(macadam_steps(t.ellipse, fast) - macadam_steps(t.ellipse, exact)) < 0.05);
+    }
+    // The coating weight alone moves the colour through the line fraction, as the coating model
+    // does: a lamp at nominal + 1 mg/cm2 by both paths.
+    ToleranceDraw heavy = m.nominal_draw();
+    heavy.coating_weight_mg_per_cm2 = m.nominal_coating_weight() + 1.0;
+    const Chromaticity f = m.chromaticity(heavy), e = evaluate_draw_exactly(t.blend, heavy).assessment.xy;
+    CHECK(f.x == doctest::Approx(e.x).epsilon(1e-4));
+    CHECK(f.y == doctest::Approx(e.y).epsilon(1e-4));
+    CHECK(std::abs(f.x - m.chromaticity(m.nominal_draw()).x) > 1e-5);
+}
+
+TEST_CASE("tolerance: with only per-batch terms all the spread is between batches") {
+    // Lamps of a batch share its powder mix and lots, so with no per-lamp term they are identical:
+    // the within-batch variance is 0 and the batch means carry the whole variance; over N lamps in
+    // B batches of n, var_total = n (B - 1) / (N - 1) var_between (one-way analysis of variance,
+    // a property of the design; common practice, no source).
+    ToleranceProblem t = only("triband_4000K.toml", 20, 2000);
+    t.weighing_sigma = {0.01};
+    t.d50_sigma = {0.05};
+    t.absorption_sigma = {0.02};
+    t.qe_sigma = {0.02};
+    t.peak_sigma_nm = {0.5};
+    const ToleranceResult r = run_tolerance(t, {}, true);
+    CHECK(r.batches == 100);
+    CHECK(r.sd_x_within < 1e-12);
+    CHECK(r.sd_y_within < 1e-12);
+    CHECK(r.within_steps_rms < 1e-9);
+    const double factor = 20.0 * 99.0 / 1999.0;
+    CHECK(r.sd_x * r.sd_x == doctest::Approx(factor * r.sd_x_between * r.sd_x_between).epsilon(1e-9));
+    CHECK(r.sd_y * r.sd_y == doctest::Approx(factor * r.sd_y_between * r.sd_y_between).epsilon(1e-9));
+    CHECK(r.sd_x > 1e-4);
+    for (std::size_t k = 1; k < 20; ++k) CHECK(r.xy[k].x == r.xy[0].x);
+    CHECK(r.xy[20].x != r.xy[0].x);
+}
+
+TEST_CASE("tolerance: with only per-lamp terms batch means vary by the total over the batch size") {
+    // Independent lamps: the mean of n has variance var / n (common practice, no source). 200
+    // batches: the variance estimate has a relative sd of sqrt(2 / 199) = 0.10; the check allows 3.
+    ToleranceProblem t = only("triband_4000K.toml", 25, 5000);
+    t.measurement_sigma_xy = 0.0015;  // the default, from memory
+    const ToleranceResult r = run_tolerance(t);
+    // Measurement alone: x and y scatter by the sigma itself (1 % sd of the estimate at N = 5000).
+    CHECK(r.sd_x == doctest::Approx(0.0015).epsilon(0.04));
+    CHECK(r.sd_y == doctest::Approx(0.0015).epsilon(0.04));
+    CHECK(r.sd_x_between * r.sd_x_between == doctest::Approx(r.sd_x * r.sd_x / 25).epsilon(0.3));
+    CHECK(r.sd_y_between * r.sd_y_between == doctest::Approx(r.sd_y * r.sd_y / 25).epsilon(0.3));
+    CHECK(r.sd_x_within == doctest::Approx(r.sd_x).epsilon(0.03));
+    // The coating weight is per lamp too.
+    ToleranceProblem c = only("triband_4000K.toml", 25, 5000);
+    c.coating_weight_sigma_mg_per_cm2 = 0.3;
+    const ToleranceResult rc = run_tolerance(c);
+    REQUIRE(rc.sd_x > 0);
+    CHECK(rc.sd_x_between * rc.sd_x_between == doctest::Approx(rc.sd_x * rc.sd_x / 25).epsilon(0.3));
+    MESSAGE("coating 0.3 mg/cm2: sd x " << rc.sd_x << ", sd y " << rc.sd_y);
+}
+
+TEST_CASE("tolerance: line emitters never shift, band emitters do") {
+    // 4f-4f lines of Eu3+ and Tb3+ barely move between lots (data/phosphors, from memory); a
+    // component with emission model "lines" is never shifted. BaMgAl10O17:Eu2+ is a band emitter.
+    ToleranceProblem t = only("triband_4000K.toml", 1, 50);
+    t.peak_sigma_nm = {2.0};
+    REQUIRE(t.blend.components[0].phosphor.emission_model == "lines");  // Y2O3:Eu3+
+    REQUIRE(t.blend.components[1].phosphor.emission_model == "lines");  // LaPO4:Ce3+,Tb3+
+    REQUIRE(t.blend.components[2].phosphor.emission_model == "bands");  // BaMgAl10O17:Eu2+
+    const ToleranceModel m(t);
+    ToleranceSampler s(m, 2);
+    ToleranceDraw d;
+    int moved = 0;
+    for (int k = 0; k < 50; ++k) {
+        s.next(d);
+        CHECK(d.shift_nm[0] == 0.0);
+        CHECK(d.shift_nm[1] == 0.0);
+        moved += d.shift_nm[2] != 0.0;
+    }
+    CHECK(moved == 50);
+    REQUIRE_FALSE(m.notes().empty());
+    CHECK(m.notes().front().find("Y2O3:Eu3+") != std::string::npos);
+}
+
+TEST_CASE("tolerance: the batch-aware standard error of the yield") {
+    // With whole batches in or out, the lamps of a batch count once: the standard error is that of
+    // B batch shares (cluster sampling; Cochran 1977, Sampling Techniques, ch. 6, from memory),
+    // larger than the binomial sqrt(p (1 - p) / N) by about sqrt(n) when all the spread is per batch.
+    ToleranceProblem t = only("triband_4000K.toml", 16, 16000);
+    t.weighing_sigma = {0.03};
+    t.steps = 2;
+    const ToleranceResult r = run_tolerance(t);
+    REQUIRE(r.yield > 0.1);
+    REQUIRE(r.yield < 0.9);
+    const double binomial = std::sqrt(r.yield * (1 - r.yield) / 16000.0);
+    CHECK(r.yield_standard_error / binomial == doctest::Approx(4.0).epsilon(0.01));
+}
+
+TEST_CASE("fit command: a recipe's [tolerance] is used and said so; options override it") {
+    // The CLI contract of the recipe table (common practice, no source).
+    const lwtest::TempDir dir;
+    const std::string recipe = dir.write("tri.toml", triband_with("d50_sigma = 0.08\nbatch_size = 10\nmeasurement_sigma_xy = 0.002\n"));
+    auto json = [&](const std::string& extra) {
+        const auto r = run_cli("fit " + quote(recipe) + " --cct 4000 --tolerance-run --draws 200 --format json " + extra);
+        REQUIRE(r.exit_code == 0);
+        return nlohmann::json::parse(r.out)["tolerance"];
+    };
+    const auto a = json("");
+    CHECK(a["d50_sigma"][0] == 0.08);
+    CHECK(a["batch_size"] == 10);
+    CHECK(a["batches"] == 20);
+    CHECK(a["measurement_sigma_xy"] == 0.002);
+    CHECK(a["sources"]["d50_sigma"].get<std::string>().find("recipe") != std::string::npos);
+    CHECK(a["sources"]["weighing_sigma"].get<std::string>().find("default") != std::string::npos);
+    CHECK(a["weighing_sigma"][0] == tolerance_source("weighing_sigma").default_value);
+    const auto b = json("--batch-size 5 --d50-sigma 0.01");
+    CHECK(b["batch_size"] == 5);
+    CHECK(b["d50_sigma"][0] == 0.01);
+    CHECK(b["sources"]["batch_size"] == "--batch-size");
+    // The text output names the origin of each sigma.
+    const auto t = run_cli("fit " + quote(recipe) + " --cct 4000 --tolerance-run --draws 200");
+    REQUIRE(t.exit_code == 0);
+    CHECK(t.out.find("lot d50              batch  sigma 8 %  [the recipe's [tolerance]") != std::string::npos);
+}
+
+TEST_CASE("fit command: a bad [tolerance] is refused with file, line and key") {
+    // Input errors name the file, the line and the key (project rule; common practice, no source).
+    const lwtest::TempDir dir;
+    const std::string base = lwtest::slurp(example_recipe("triband_4000K.toml"));
+    const int base_lines = static_cast<int>(std::count(base.begin(), base.end(), '\n'));
+    struct Case {
+        std::string table, key;
+    };
+    for (const Case& c : {Case{"weighing_sigma = 0.001\nd50_sigma = 0.9\n", "tolerance.d50_sigma"},
+                          Case{"weighing_sigma = 0.001\nbatch_size = 2.5\n", "tolerance.batch_size"},
+                          Case{"weighing_sigma = 0.001\nd50_sgima = 0.05\n", "d50_sgima"},
+                          Case{"weighing_sigma = 0.001\nqe_sigma = [0.01, 0.02]\n", "tolerance.qe_sigma"},
+                          Case{"weighing_sigma = 0.001\nmeasurement_sigma_xy = [0.001, 0.001, 0.001]\n", "tolerance.measurement_sigma_xy"},
+                          Case{"weighing_sigma = 0.001\ncoating_weight_sigma_mg_per_cm2 = -0.1\n", "tolerance.coating_weight_sigma_mg_per_cm2"}}) {
+        CAPTURE(c.table);
+        const std::string recipe = dir.write("bad.toml", triband_with(c.table));
+        const auto r = run_cli("fit " + quote(recipe) + " --cct 4000 --tolerance-run --draws 100");
+        CHECK(r.exit_code != 0);
+        CHECK(r.err.find("bad.toml") != std::string::npos);
+        // The offending key is the table's second: after the recipe's lines, an empty one, "[tolerance]" and the first key.
+        CHECK(r.err.find(fmt::format("bad.toml:{}:", base_lines + 4)) != std::string::npos);
+        CHECK(r.err.find(c.key) != std::string::npos);
+        CHECK(r.out.empty());
+        // Checked when the recipe is loaded, by any command.
+        const auto b = run_cli("blend " + quote(recipe));
+        CHECK(b.exit_code != 0);
+        CHECK(b.err.find(c.key) != std::string::npos);
+    }
 }

@@ -47,10 +47,20 @@ const NumberRange kPointsRange{.min = 2, .max = 1000, .unit = "points", .whole =
 const NumberRange kChooseRange{.min = 1, .max = 8, .unit = "components", .whole = true};
 const NumberRange kDrawsRange{.min = 1, .max = 100000000, .unit = "draws", .whole = true};
 const NumberRange kSeedRange{.min = 0, .max = 4294967295.0, .whole = true};
-const NumberRange kWeighingSigmaRange{.min = 0, .max = 0.5,
-                                      .note = "a fraction of each component's mass: 0.005 = 0.5 %; with --weighing-absolute in mass-fraction units"};
-const NumberRange kPeakSigmaRange{.min = 0, .max = 20, .unit = "nm"};
-const NumberRange kQeSigmaRange{.min = 0, .max = 0.5, .note = "a fraction of the QE: 0.01 = 1 %, not a percentage"};
+// The production-tolerance sigmas: ranges from their one place, kToleranceSources (design/tolerance.hpp).
+NumberRange source_range(const char* key, const std::string& unit = "", const std::string& note = "") {
+    const ToleranceSource& s = tolerance_source(key);
+    return NumberRange{.min = s.min, .max = s.max, .unit = unit, .whole = std::string(key) == "batch_size", .note = note};
+}
+const NumberRange kWeighingSigmaRange = source_range(
+    "weighing_sigma", "", "a fraction of each component's mass: 0.005 = 0.5 %; with --weighing-absolute in mass-fraction units");
+const NumberRange kPeakSigmaRange = source_range("peak_sigma_nm", "nm");
+const NumberRange kQeSigmaRange = source_range("qe_sigma", "", "a fraction of the QE: 0.01 = 1 %, not a percentage");
+const NumberRange kD50SigmaRange = source_range("d50_sigma", "", "a fraction of the lot's d50: 0.05 = 5 %");
+const NumberRange kAbsorptionSigmaRange = source_range("absorption_sigma", "", "a fraction of the per-mass absorption");
+const NumberRange kCoatingSigmaRange = source_range("coating_weight_sigma_mg_per_cm2", "mg/cm2");
+const NumberRange kMeasurementSigmaRange = source_range("measurement_sigma_xy", "(in x and in y)");
+const NumberRange kBatchSizeRange = source_range("batch_size", "lamps");
 // Chromaticity coordinates of a target (CIE 15:2004): x, y and u', v' all lie in (0, 1).
 const NumberRange kXRange{.min = 0, .max = 1, .unit = "(CIE 1931 x or y)", .min_exclusive = true};
 const NumberRange kUvRange{.min = 0, .max = 1, .unit = "(CIE 1976 u' or v')", .min_exclusive = true};
@@ -107,20 +117,25 @@ TRADE-OFF FRONT (instead of one fit):
 BEST K OF N: --choose K solves every K-component subset of the recipe (at most 8 components) and
   keeps the best feasible one by the objective; the subsets that cannot meet the target are listed.
 
-PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Monte Carlo) with
-  weighing errors (--weighing-sigma, relative to each component's mass unless --weighing-absolute)
-  and phosphor lot variation (--peak-sigma in nm, --qe-sigma relative), and reports the chromaticity
-  in MacAdam steps from the target and the share of lamps inside the --steps ellipse (default 4; the
-  target's own ellipse with --flamp, else the nearest ANSI C78.376 ellipse moved to the target).
-  Same --seed, same draws (with one standard library). A sigma is one number for all components or
-  one per component, comma-separated.
+PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Monte Carlo), made in
+  batches of --batch-size lamps (default 50). Per batch (shared by its lamps): the weighing of the
+  powder mix (--weighing-sigma, relative to each component's mass unless --weighing-absolute) and
+  each phosphor's lot: d50 (--d50-sigma), per-mass absorption (--absorption-sigma), brightness
+  (--qe-sigma) and, for band emitters only, the emission peak (--peak-sigma nm). Per lamp: coating
+  weight (--coating-weight-sigma mg/cm2) and measurement repeatability (--measurement-sigma, in x
+  and y). Each sigma has a default (from memory, printed with the result); a recipe's [tolerance]
+  table sets them, and these options override the recipe. Reports the chromaticity in MacAdam
+  steps from the target, its spread within and between batches, and the share of lamps inside the
+  --steps ellipse (default 4; the target's own ellipse with --flamp, else the nearest ANSI C78.376
+  ellipse moved to the target). Same --seed, same draws (with one standard library). A per-batch
+  sigma is one number for all components or one per component, comma-separated.
 
 )") + kSafetyNotice + "\nOptions");
     std::string format = "text", recipe_out, xy, uv, flamp, maximize = "change", method = "auto";
     std::vector<std::string> folders, recipes;
-    double cct = 0, duv = 0, tolerance = kDefaultFitToleranceUvPrime, steps = kAnsiC78376Steps, r9_weight = 0.5;
+    double cct = 0, duv = 0, tolerance = kDefaultFitToleranceUvPrime, steps = kAnsiC78376Steps, r9_weight = 0.5, coating_sigma = 0, measurement_sigma = 0, batch_size = 50;
     int ansi = 0, points = 30, choose = 0;
-    std::string front, front_csv_path, front_svg_path, weighing_sigma = "0", peak_sigma = "0", qe_sigma = "0";
+    std::string front, front_csv_path, front_svg_path, weighing_sigma, peak_sigma, qe_sigma, d50_sigma, absorption_sigma;
     long long draws = 100000, seed = 1;
     double min_ra = 0, min_r9 = 0, min_ler = 0, min_rf = 0;
     opts.add_options()("help,h", "show this help");
@@ -153,7 +168,13 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
                        ("weighing error sigma, relative to each component's mass; one, or one per component [" + kWeighingSigmaRange.describe() + "]").c_str())
         ("weighing-absolute", "--weighing-sigma is in mass-fraction units instead")
         ("peak-sigma", po::value(&peak_sigma), ("phosphor lot emission peak shift sigma; one, or one per component [" + kPeakSigmaRange.describe() + "]").c_str())
-        ("qe-sigma", po::value(&qe_sigma), ("phosphor lot QE sigma, relative; one, or one per component [" + kQeSigmaRange.describe() + "]").c_str());
+        ("qe-sigma", po::value(&qe_sigma), ("phosphor lot QE (brightness) sigma, relative; one, or one per component [" + kQeSigmaRange.describe() + "]").c_str())
+        ("d50-sigma", po::value(&d50_sigma), ("phosphor lot d50 sigma, relative; one, or one per component [" + kD50SigmaRange.describe() + "]").c_str())
+        ("absorption-sigma", po::value(&absorption_sigma),
+         ("phosphor lot per-mass absorption sigma, relative; one, or one per component [" + kAbsorptionSigmaRange.describe() + "]").c_str());
+    add_number_option(opts, "coating-weight-sigma", &coating_sigma, kCoatingSigmaRange, "lamp-to-lamp coating weight sigma, mg/cm2");
+    add_number_option(opts, "measurement-sigma", &measurement_sigma, kMeasurementSigmaRange, "measurement repeatability sigma in x and in y");
+    add_number_option(opts, "batch-size", &batch_size, kBatchSizeRange, "lamps per batch (share the powder mix and lots)");
     add_number_option(opts, "seed", &seed, kSeedRange, "random-number seed (default 1)");
     opts.add_options()("fit-thickness", "LED layer designs: fit the layer thickness as well as the loadings");
     po::variables_map vm;
@@ -170,7 +191,8 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
         if (vm.count(o) && !want_front) throw UsageError{fmt::format("fit: --{} goes with --front", o)};
     for (const char* o : {"maximize", "choose", "tolerance-run", "recipe-out", "sensitivity"})
         if (want_front && vm.count(o)) throw UsageError{fmt::format("fit: --front sets its own objective and gives many blends; --{} does not apply", o)};
-    for (const char* o : {"draws", "weighing-sigma", "weighing-absolute", "peak-sigma", "qe-sigma", "seed"})
+    for (const char* o : {"draws", "weighing-sigma", "weighing-absolute", "peak-sigma", "qe-sigma", "seed", "d50-sigma", "absorption-sigma",
+                          "coating-weight-sigma", "measurement-sigma", "batch-size"})
         if (vm.count(o) && !tolerance_run) throw UsageError{fmt::format("fit: --{} goes with --tolerance-run", o)};
     std::optional<FrontKind> front_kind;
     if (want_front) {
@@ -182,14 +204,6 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
         if (*front_kind == FrontKind::ra_r9 ? vm.count("min-r9") > 0 : vm.count("min-ra") > 0)
             throw UsageError{fmt::format("fit: --front {} sweeps the {} floor itself; drop --min-{}", front, front_floor_label(*front_kind),
                                          *front_kind == FrontKind::ra_r9 ? "r9" : "ra")};
-    }
-    const std::vector<double> sw = parse_list(weighing_sigma, "weighing-sigma", kWeighingSigmaRange),
-                              sp = parse_list(peak_sigma, "peak-sigma", kPeakSigmaRange), sq = parse_list(qe_sigma, "qe-sigma", kQeSigmaRange);
-    if (tolerance_run) {
-        bool any = false;
-        for (const auto* v : {&sw, &sp, &sq})
-            for (double x : *v) any = any || x > 0;
-        if (!any) throw UsageError{"fit: --tolerance-run needs a sigma above zero: --weighing-sigma, --peak-sigma or --qe-sigma"};
     }
     if (vm.count("tolerance") && vm.count("flamp")) throw UsageError{"fit: --flamp uses its MacAdam ellipse; --tolerance does not apply"};
 
@@ -247,9 +261,43 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     for (const auto& n : recipe.notes) print_note(n);
     p.blend = recipe.blend;
     const std::size_t n_components = p.blend.components.size();
-    for (const auto* v : {&sw, &sp, &sq})
-        if (v->size() != 1 && v->size() != n_components)
-            throw UsageError{fmt::format("fit: a sigma list needs one value, or one per component of the recipe ({}), not {}", n_components, v->size())};
+    // The tolerance sigmas: the command line, else the recipe's [tolerance], else the default.
+    ToleranceProblem settings;
+    if (tolerance_run) {
+        const RecipeTolerance& rt = recipe.tolerance;
+        auto list = [&](const char* key, const char* option, const std::string& text, const NumberRange& range) {
+            std::vector<double> v;
+            if (vm.count(option)) {
+                v = parse_list(text, option, range);
+                if (v.size() != 1 && v.size() != n_components)
+                    throw UsageError{fmt::format("fit: --{} needs one value, or one per component of the recipe ({}), not {}", option,
+                                                 n_components, v.size())};
+                settings.origins.emplace_back(key, fmt::format("--{}", option));
+            } else if (const auto* r = rt.find(key)) {
+                v = *r;
+                settings.origins.emplace_back(key, fmt::format("the recipe's [tolerance] ({})", recipe.path));
+            } else {
+                v = {tolerance_source(key).default_value};
+                settings.origins.emplace_back(key, fmt::format("default ({})", tolerance_source(key).source));
+            }
+            return v;
+        };
+        auto one = [&](const char* key, const char* option, double value) { return list(key, option, fmt::format("{}", value), NumberRange{-1e300, 1e300}).front(); };
+        settings.weighing_sigma = list("weighing_sigma", "weighing-sigma", weighing_sigma, kWeighingSigmaRange);
+        settings.peak_sigma_nm = list("peak_sigma_nm", "peak-sigma", peak_sigma, kPeakSigmaRange);
+        settings.qe_sigma = list("qe_sigma", "qe-sigma", qe_sigma, kQeSigmaRange);
+        settings.d50_sigma = list("d50_sigma", "d50-sigma", d50_sigma, kD50SigmaRange);
+        settings.absorption_sigma = list("absorption_sigma", "absorption-sigma", absorption_sigma, kAbsorptionSigmaRange);
+        settings.coating_weight_sigma_mg_per_cm2 = one("coating_weight_sigma_mg_per_cm2", "coating-weight-sigma", coating_sigma);
+        settings.measurement_sigma_xy = one("measurement_sigma_xy", "measurement-sigma", measurement_sigma);
+        settings.batch_size = static_cast<std::size_t>(one("batch_size", "batch-size", batch_size));
+        const auto* abs_key = rt.find("weighing_absolute");
+        settings.weighing_relative = !(vm.count("weighing-absolute") > 0 || (abs_key && abs_key->front() > 0));
+        bool any = settings.coating_weight_sigma_mg_per_cm2 > 0 || settings.measurement_sigma_xy > 0;
+        for (const auto* v : {&settings.weighing_sigma, &settings.peak_sigma_nm, &settings.qe_sigma, &settings.d50_sigma, &settings.absorption_sigma})
+            for (double x : *v) any = any || x > 0;
+        if (!any) throw UsageError{"fit: --tolerance-run needs a sigma above zero (every source of variation is set to zero)"};
+    }
     if (vm.count("choose") && static_cast<std::size_t>(choose) > n_components)
         throw UsageError{fmt::format("fit: --choose {}: the recipe has only {} components", choose, n_components)};
     if (vm.count("choose") && n_components > 8) throw UsageError{fmt::format("fit: --choose works on recipes of at most 8 components, not {}", n_components)};
@@ -313,16 +361,24 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
                 if (r.mass_fractions[i] > 0) out.push_back(v[i]);
             return out;
         };
-        tp->weighing_sigma = fitted(sw);
-        tp->weighing_relative = vm.count("weighing-absolute") == 0;
-        tp->peak_sigma_nm = fitted(sp);
-        tp->qe_sigma = fitted(sq);
+        tp->weighing_sigma = fitted(settings.weighing_sigma);
+        tp->weighing_relative = settings.weighing_relative;
+        tp->peak_sigma_nm = fitted(settings.peak_sigma_nm);
+        tp->qe_sigma = fitted(settings.qe_sigma);
+        tp->d50_sigma = fitted(settings.d50_sigma);
+        tp->absorption_sigma = fitted(settings.absorption_sigma);
+        tp->coating_weight_sigma_mg_per_cm2 = settings.coating_weight_sigma_mg_per_cm2;
+        tp->measurement_sigma_xy = settings.measurement_sigma_xy;
+        tp->batch_size = settings.batch_size;
+        tp->origins = settings.origins;
         tp->draws = static_cast<std::size_t>(draws);
         tp->seed = static_cast<std::uint64_t>(seed);
         const ToleranceProgress progress = terminal_progress("fit", "tolerance draws", 20000);
         const auto t1 = std::chrono::steady_clock::now();
         tr = naming_input(recipe.path, [&] { return run_tolerance(*tp, progress); }, "tolerance run: ");
         tms = std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - t1).count();
+        if (f != Format::text)  // the text report lists them itself
+            for (const auto& n : tr->notes) print_note("tolerance run: " + n);
         if (tr->failed > 0)
             print_warning(fmt::format("tolerance run: {} of {} draws gave no light (every QE drawn at zero or below) and no chromaticity: "
                                       "they count as outside the ellipse and are left out of the means, sds and percentiles",

@@ -56,7 +56,8 @@ Recipe recipe_from_toml(const TomlDoc& doc, const std::vector<std::string>& extr
                         const std::vector<std::string>& extra_root_keys) {
     const auto& r = doc.root();
     std::vector<std::string> known{"name", "excitation_nm", "pump", "mercury_lines", "mercury_line_ratios", "lamp_type", "absorbed_fraction",
-                                   "coating_weight_mg_per_cm2", "uv_185nm_fraction", "phosphor_folders", "component"};
+                                   "coating_weight_mg_per_cm2", "uv_185nm_fraction", "phosphor_folders", "component",
+                                   "tolerance"};  // [tolerance]: phosphor/recipe_tolerance.hpp
     known.insert(known.end(), extra_root_keys.begin(), extra_root_keys.end());
     doc.only_keys(r, known, "");
     Recipe rec;
@@ -179,6 +180,7 @@ Recipe recipe_from_toml(const TomlDoc& doc, const std::vector<std::string>& extr
         }
         rec.blend.components.push_back(std::move(bc));
     }
+    rec.tolerance = recipe_tolerance(doc, rec.blend.components.size());
     return rec;
 }
 

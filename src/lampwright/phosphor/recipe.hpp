@@ -9,12 +9,14 @@
 //   uv_185nm_fraction = 0.08         # optional (mercury): share of the UV photons at 184.9 nm
 //   phosphor_folders = ["mine"]      # optional: more phosphor files, relative to the recipe
 //   calibration = "line2.toml"       # optional: a model calibration (lampwright calibrate), relative to the recipe
+//   [tolerance]                      # optional: production-tolerance sigmas (phosphor/recipe_tolerance.hpp)
 //   [[component]]
 //   phosphor = "Y2O3:Eu3+"           # library id or unambiguous abbreviation, or:
 //   # spectrum = "green.csv"  absorption = 0.8  quantum_efficiency = 0.9  (measured emission)
 //   mass_fraction = 0.45
 #include "lampwright/phosphor/blend.hpp"
 #include "lampwright/io/toml_access.hpp"
+#include "lampwright/phosphor/recipe_tolerance.hpp"
 
 #include <string>
 #include <vector>
@@ -26,6 +28,7 @@ struct Recipe {
     BlendInput blend;
     std::vector<std::string> phosphor_folders;  // resolved paths
     std::vector<std::string> notes;  // what of the recipe's calibration was not applied, and why
+    RecipeTolerance tolerance;       // its [tolerance] table (checked; used by the tolerance run)
 };
 
 // Parses a recipe; errors name the file, the line and the key. `extra_folders` are more phosphor

@@ -10,6 +10,7 @@
 #include <algorithm>
 #include <cmath>
 #include <sstream>
+#include <tuple>
 
 namespace lampwright {
 
@@ -183,10 +184,25 @@ std::string subsets_text(const SubsetChoice& c, std::size_t n) {
 std::string tolerance_text(const ToleranceProblem& t, const ToleranceResult& r, double ms, const std::string& ellipse_source) {
     std::ostringstream o;
     o << fmt::format("\nProduction tolerance of '{}' (Monte Carlo: {} draws, seed {}, {:.0f} ms)\n", t.blend.name, r.draws, r.seed, ms);
-    o << fmt::format("  errors:     weighing sigma {} of each component's mass ({}), peak shift sigma {}, QE sigma {} (relative)\n",
-                     sigma_words(t.weighing_sigma, t.weighing_relative ? 100 : 1, t.weighing_relative ? " %" : ""),
-                     t.weighing_relative ? "relative" : "absolute, in mass fraction", sigma_words(t.peak_sigma_nm, 1, " nm"),
-                     sigma_words(t.qe_sigma, 100, " %"));
+    o << fmt::format("  variation:  lamps made in batches of {} (the per-batch terms are shared by a batch's lamps)\n", t.batch_size);
+    auto origin = [&](const char* key) {
+        for (const auto& [k, w] : t.origins)
+            if (k == key) return "  [" + w + "]";
+        return std::string();
+    };
+    const std::string w_unit = t.weighing_relative ? " % of each component's mass" : " (absolute, in mass fraction)";
+    const std::vector<std::tuple<const char*, const char*, std::string>> rows{
+        {"weighing_sigma", "weighing of the mix", sigma_words(t.weighing_sigma, t.weighing_relative ? 100 : 1, "") + w_unit},
+        {"d50_sigma", "lot d50", sigma_words(t.d50_sigma, 100, " %")},
+        {"absorption_sigma", "lot absorption", sigma_words(t.absorption_sigma, 100, " %")},
+        {"qe_sigma", "lot brightness (QE)", sigma_words(t.qe_sigma, 100, " %")},
+        {"peak_sigma_nm", "lot peak shift", sigma_words(t.peak_sigma_nm, 1, " nm") + " (band emitters; line emitters never shift)"},
+        {"coating_weight_sigma_mg_per_cm2", "coating weight", fmt::format("{:g} mg/cm2", t.coating_weight_sigma_mg_per_cm2)},
+        {"measurement_sigma_xy", "measurement", fmt::format("{:g} in x and y", t.measurement_sigma_xy)},
+        {"batch_size", "batch size", fmt::format("{} lamps", t.batch_size)}};
+    for (const auto& [key, name, value] : rows)
+        o << fmt::format("    {:<20} {:<6} {}{}{}\n", name, tolerance_source(key).level, std::string(key) == "batch_size" ? "" : "sigma ", value,
+                         origin(key));
     o << fmt::format("  ellipse:    {}\n              centre (target) x = {:.4f}, y = {:.4f}; one-step semi-axes {:.5f}, {:.5f} at {:.1f} deg\n",
                      ellipse_source, r.target.x, r.target.y, t.ellipse.a, t.ellipse.b, t.ellipse.theta_deg);
     o << fmt::format("  nominal:    x = {:.4f}, y = {:.4f}, {:.2f} steps from the target\n", r.nominal_xy.x, r.nominal_xy.y, r.nominal_steps);
@@ -196,6 +212,12 @@ std::string tolerance_text(const ToleranceProblem& t, const ToleranceResult& r, 
                      r.mean_steps, r.sd_steps, r.p50, r.p90, r.p95, r.p99, r.max_steps);
     o << fmt::format("  inside the {:g}-step ellipse: {:.2f} % of lamps (standard error {:.2f} %, {} of {})\n", r.steps_limit, 100 * r.yield,
                      100 * r.yield_standard_error, r.inside, r.draws);
+    o << fmt::format("  batches:    {} of {} lamps; sd of x within a batch {:.4f}, between batch means {:.4f}; of y {:.4f}, {:.4f}\n",
+                     r.batches, r.batch_size, r.sd_x_within, r.sd_x_between, r.sd_y_within, r.sd_y_between);
+    o << fmt::format("              RMS MacAdam steps: lamp from its batch mean {:.2f}, batch mean from the mean of the batch means {:.2f}; "
+                     "worst batch mean {:.2f} steps from the target\n",
+                     r.within_steps_rms, r.between_steps_rms, r.worst_batch_mean_steps);
+    for (const auto& n : r.notes) o << "  note:       " << n << '\n';
     if (r.failed > 0)
         o << fmt::format("  failed:     {} draws gave no light (every QE drawn at zero): counted outside, left out of the figures above\n", r.failed);
     return o.str();
@@ -293,7 +315,9 @@ std::pair<std::vector<std::string>, std::vector<std::string>> fit_csv(const FitP
     if (tr || tolerance_run) {
         for (const char* k : {"tol_draws", "tol_seed", "tol_steps_limit", "tol_inside_share", "tol_inside_standard_error",
                               "tol_mean_steps", "tol_sd_steps", "tol_p50_steps", "tol_p90_steps", "tol_p95_steps", "tol_p99_steps",
-                              "tol_max_steps", "tol_nominal_steps", "tol_failed"})
+                              "tol_max_steps", "tol_nominal_steps", "tol_failed", "tol_batch_size", "tol_batches", "tol_sd_x_within",
+                              "tol_sd_y_within", "tol_sd_x_between", "tol_sd_y_between", "tol_within_batch_steps_rms",
+                              "tol_between_batch_steps_rms", "tol_worst_batch_mean_steps"})
             cols.push_back(k);
         if (tr) {
             vals.push_back(fmt::format("{}", tr->draws));
@@ -302,6 +326,11 @@ std::pair<std::vector<std::string>, std::vector<std::string>> fit_csv(const FitP
                              tr->p99, tr->max_steps, tr->nominal_steps})
                 vals.push_back(fmt::format("{:.6g}", v));
             vals.push_back(fmt::format("{}", tr->failed));
+            vals.push_back(fmt::format("{}", tr->batch_size));
+            vals.push_back(fmt::format("{}", tr->batches));
+            for (double v : {tr->sd_x_within, tr->sd_y_within, tr->sd_x_between, tr->sd_y_between, tr->within_steps_rms, tr->between_steps_rms,
+                             tr->worst_batch_mean_steps})
+                vals.push_back(fmt::format("{:.6g}", v));
         } else {
             vals.resize(cols.size());  // no tolerance run (the fit was infeasible): empty cells
         }
@@ -320,6 +349,8 @@ nlohmann::ordered_json subsets_json(const SubsetChoice& c) {
 }
 
 nlohmann::ordered_json tolerance_json(const ToleranceProblem& tp, const ToleranceResult& tr, double ms, const std::string& ellipse_source) {
+    nlohmann::ordered_json sources = nlohmann::ordered_json::object();
+    for (const auto& [k, w] : tp.origins) sources[k] = w;
     return {{"draws", tr.draws}, {"seed", tr.seed}, {"weighing_relative", tp.weighing_relative},
               {"weighing_sigma", tp.weighing_sigma}, {"peak_sigma_nm", tp.peak_sigma_nm}, {"qe_sigma", tp.qe_sigma},
               {"steps_limit", tr.steps_limit}, {"ellipse", ellipse_source}, {"inside_share", tr.yield},
@@ -327,7 +358,12 @@ nlohmann::ordered_json tolerance_json(const ToleranceProblem& tp, const Toleranc
               {"nominal_steps", tr.nominal_steps}, {"mean_steps", tr.mean_steps}, {"sd_steps", tr.sd_steps},
               {"p50_steps", tr.p50}, {"p90_steps", tr.p90}, {"p95_steps", tr.p95}, {"p99_steps", tr.p99},
               {"max_steps", tr.max_steps}, {"mean_x", tr.mean_x}, {"mean_y", tr.mean_y}, {"sd_x", tr.sd_x},
-              {"sd_y", tr.sd_y}, {"time_ms", ms}};
+              {"sd_y", tr.sd_y}, {"d50_sigma", tp.d50_sigma}, {"absorption_sigma", tp.absorption_sigma},
+              {"coating_weight_sigma_mg_per_cm2", tp.coating_weight_sigma_mg_per_cm2}, {"measurement_sigma_xy", tp.measurement_sigma_xy},
+              {"batch_size", tr.batch_size}, {"batches", tr.batches}, {"sd_x_within", tr.sd_x_within}, {"sd_y_within", tr.sd_y_within},
+              {"sd_x_between", tr.sd_x_between}, {"sd_y_between", tr.sd_y_between}, {"within_batch_steps_rms", tr.within_steps_rms},
+              {"between_batch_steps_rms", tr.between_steps_rms}, {"worst_batch_mean_steps", tr.worst_batch_mean_steps},
+              {"sources", sources}, {"notes", tr.notes}, {"time_ms", ms}};
 }
 
 std::string sensitivity_text(const std::vector<SensitivityRow>& rows) {
