@@ -16,6 +16,7 @@
 #include "lampwright/design/targets.hpp"
 
 #include <doctest/doctest.h>
+#include <fmt/format.h>
 #include <nlohmann/json.hpp>
 #include <pugixml.hpp>
 
@@ -151,6 +152,47 @@ TEST_CASE("qc report: JSON holds the count, pass rate, lamps and statistics") {
     CHECK(j.at("statistics").at("capability").size() == run.stats.capabilities.size());
     CHECK(j.at("bad_files").empty());
     CHECK(j.at("spec").at("region") == "ellipse");
+    // Rf and Rg in every lamp object and in the lot summaries, the mean of the lamps' values
+    // (arithmetic mean, definition); the spec's TM-30 limits, null when the spec has none
+    // (docs/output-schemas.md).
+    double rf_sum = 0;
+    for (const auto& l : j.at("lamps")) rf_sum += l.at("Rf").get<double>();
+    bool rf_summary = false, rg_summary = false;
+    for (const auto& q : j.at("statistics").at("summaries")) {
+        if (q.at("quantity") == "Rf") {
+            rf_summary = true;
+            CHECK(std::abs(q.at("mean").get<double>() - rf_sum / 40.0) < 0.005);  // the lamps' JSON Rf has 2 decimals
+        }
+        if (q.at("quantity") == "Rg") rg_summary = q.at("sd").is_number();
+    }
+    CHECK(rf_summary);
+    CHECK(rg_summary);
+    const auto& limits = j.at("spec").at("limits");
+    CHECK(limits.at("min_rf").is_null());
+    CHECK(limits.at("max_rg").is_null());
+    REQUIRE(limits.at("hue_bins").size() == 16);
+    CHECK(limits.at("hue_bins")[15].at("bin") == 16);
+    CHECK(limits.at("hue_bins")[15].at("max_rcs").is_null());
+}
+
+TEST_CASE("qc report: text shows each lamp's Rf and Rg and the TM-30 limits; JSON gives the per-bin limits") {
+    QcRun run = demo_run();
+    run.spec.rf_min = 70;
+    run.spec.rcs_h_min_percent[0] = -12.5;
+    run.spec.rcs_h_max_percent[0] = 7;
+    const std::string t = qc_text(run);
+    // The lamp table's header names Rf and Rg after R9; the limits line lists the new limits.
+    CHECK(t.find("R9     Rf     Rg  steps") != std::string::npos);
+    CHECK(t.find("Rf ≥ 70") != std::string::npos);
+    CHECK(t.find("Rcs,h1 -12.5 to 7 %") != std::string::npos);
+    const auto& l0 = run.lamps.front();
+    CHECK(t.find(fmt::format("{:.1f}", l0.assessment.fidelity->rg)) != std::string::npos);
+    const auto j = nlohmann::json::parse(qc_json(run).dump());
+    const auto& b1 = j.at("spec").at("limits").at("hue_bins")[0];
+    CHECK(b1.at("min_rcs") == -12.5);  // the values set above
+    CHECK(b1.at("max_rcs") == 7);
+    CHECK(b1.at("min_rf").is_null());
+    CHECK(j.at("spec").at("limits").at("min_rf") == 70);
 }
 
 TEST_CASE("qc report: tolerance region of an n-step ellipse lies n steps from the centre") {
@@ -249,6 +291,10 @@ TEST_CASE("qc report: synthetic lot with awkward names, a far lamp and a bad fil
     CHECK(cols.front() == "name");
     for (const char* c : {"file", "steps", "inside_region", "pass", "failures", "outlier"})
         CHECK(std::find(cols.begin(), cols.end(), c) != cols.end());
+    // Rf and Rg are the last two columns (docs/output-schemas.md), empty for a lamp without a CCT.
+    REQUIRE(cols.size() >= 2);
+    CHECK(cols[cols.size() - 2] == "Rf");
+    CHECK(cols.back() == "Rg");
     const auto j = nlohmann::json::parse(qc_json(run).dump());
     CHECK(j.at("count") == 3);
     CHECK(j.at("pass_rate").get<double>() == doctest::Approx(2.0 / 3.0));

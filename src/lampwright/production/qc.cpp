@@ -92,9 +92,11 @@ QcSpec load_qc_spec(const std::string& path) {
         doc.fail(t, "target", e.what());
     }
     if (const auto* l = doc.table(r, "limits", "")) {
-        doc.only_keys(*l, {"ra_min", "r9_min", "cct_min_K", "cct_max_K", "duv_min", "duv_max", "flux_min_lm", "flux_max_lm", "efficacy_min_lm_per_W",
-                           "min_rf", "min_rg", "max_rg"},
-                      "limits");
+        std::vector<std::string> known{"ra_min", "r9_min", "cct_min_K", "cct_max_K", "duv_min", "duv_max", "flux_min_lm", "flux_max_lm", "efficacy_min_lm_per_W",
+                                       "min_rf", "min_rg", "max_rg"};
+        for (int j = 1; j <= kTm30HueBins; ++j)
+            for (const char* k : {"min_rf_h", "min_rcs_h", "max_rcs_h"}) known.push_back(fmt::format("{}{}", k, j));
+        doc.only_keys(*l, known, "limits");
         s.ra_min = doc.number(*l, "ra_min", "limits");
         s.r9_min = doc.number(*l, "r9_min", "limits");
         s.cct_min_K = doc.number(*l, "cct_min_K", "limits");
@@ -125,6 +127,23 @@ QcSpec load_qc_spec(const std::string& path) {
                 doc.fail(l->get(k), std::string("limits.") + k, fmt::format("must be a number above 0 (TM-30 Rg, 100 for the reference), not {:g}", *v));
         if (s.rg_min && s.rg_max && *s.rg_min >= *s.rg_max)
             doc.fail(l->get("min_rg"), "limits", fmt::format("min_rg ({:g}) must be below max_rg ({:g})", *s.rg_min, *s.rg_max));
+        // TM-30-20 hue bins: Rf,hj lies in 0-100 like Rf (CIE 224:2017 eq. 10 on the bin's mean
+        // difference); Rcs,hj is a chroma change in per cent of the reference's, -100 % meaning no
+        // chroma left; +-100 % bounds what a white light gives (common practice, no source).
+        for (std::size_t j = 0; j < static_cast<std::size_t>(kTm30HueBins); ++j) {
+            const std::string rf_key = fmt::format("min_rf_h{}", j + 1), lo_key = fmt::format("min_rcs_h{}", j + 1), hi_key = fmt::format("max_rcs_h{}", j + 1);
+            s.rf_h_min[j] = doc.number(*l, rf_key, "limits");
+            s.rcs_h_min_percent[j] = doc.number(*l, lo_key, "limits");
+            s.rcs_h_max_percent[j] = doc.number(*l, hi_key, "limits");
+            if (const auto& v = s.rf_h_min[j]; v && !(*v >= 0 && *v <= 100))
+                doc.fail(l->get(rf_key), "limits." + rf_key, fmt::format("must lie in 0-100 (TM-30-20 Rf,h{}), not {:g}", j + 1, *v));
+            for (const auto* k : {&lo_key, &hi_key})
+                if (const auto v = doc.number(*l, *k, "limits"); v && !(*v >= -100 && *v <= 100))
+                    doc.fail(l->get(*k), "limits." + *k, fmt::format("must lie in -100 to 100 (TM-30-20 Rcs,h{}, per cent), not {:g}", j + 1, *v));
+            if (s.rcs_h_min_percent[j] && s.rcs_h_max_percent[j] && *s.rcs_h_min_percent[j] > *s.rcs_h_max_percent[j])
+                doc.fail(l->get(lo_key), "limits",
+                         fmt::format("{} ({:g}) must not be above {} ({:g})", lo_key, *s.rcs_h_min_percent[j], hi_key, *s.rcs_h_max_percent[j]));
+        }
         if (s.cct_min_K && s.cct_max_K && *s.cct_min_K >= *s.cct_max_K) doc.fail(l->get("cct_min_K"), "limits", fmt::format("cct_min_K ({:g}) must be below cct_max_K ({:g})", *s.cct_min_K, *s.cct_max_K));
         if (s.duv_min && s.duv_max && *s.duv_min >= *s.duv_max) doc.fail(l->get("duv_min"), "limits", fmt::format("duv_min ({:g}) must be below duv_max ({:g})", *s.duv_min, *s.duv_max));
         if ((s.cct_min_K && *s.cct_min_K < 100) || (s.cct_max_K && *s.cct_max_K < 100))
@@ -163,6 +182,17 @@ LampResult judge_lamp(const QcSpec& spec, Assessment a) {
     if (spec.rf_min && !(rf >= *spec.rf_min)) r.failures.push_back(std::isfinite(rf) ? fmt::format("Rf {:.1f} < {:g}", rf, *spec.rf_min) : "Rf not defined (no CCT)");
     if (spec.rg_min && !(rg >= *spec.rg_min)) r.failures.push_back(std::isfinite(rg) ? fmt::format("Rg {:.1f} < {:g}", rg, *spec.rg_min) : "Rg not defined (no CCT)");
     if (spec.rg_max && !(rg <= *spec.rg_max)) r.failures.push_back(std::isfinite(rg) ? fmt::format("Rg {:.1f} > {:g}", rg, *spec.rg_max) : "Rg not defined (no CCT)");
+    for (std::size_t j = 0; j < static_cast<std::size_t>(kTm30HueBins); ++j) {
+        // NaN (no CCT, or no sample in the bin) fails, as for Rf.
+        const double rfh = A.fidelity ? A.fidelity->rf_h[j] : NAN, rcs = A.fidelity ? A.fidelity->rcs_h_percent[j] : NAN;
+        const auto undefined = [&](const char* what) { return fmt::format("{},h{} not defined{}", what, j + 1, A.fidelity ? "" : " (no CCT)"); };
+        if (const auto& v = spec.rf_h_min[j]; v && !(rfh >= *v))
+            r.failures.push_back(std::isfinite(rfh) ? fmt::format("Rf,h{} {:.1f} < {:g}", j + 1, rfh, *v) : undefined("Rf"));
+        if (const auto& v = spec.rcs_h_min_percent[j]; v && !(rcs >= *v))
+            r.failures.push_back(std::isfinite(rcs) ? fmt::format("Rcs,h{} {:.1f} % < {:g} %", j + 1, rcs, *v) : undefined("Rcs"));
+        if (const auto& v = spec.rcs_h_max_percent[j]; v && !(rcs <= *v))
+            r.failures.push_back(std::isfinite(rcs) ? fmt::format("Rcs,h{} {:.1f} % > {:g} %", j + 1, rcs, *v) : undefined("Rcs"));
+    }
     if (spec.cct_min_K && !(has_cct && A.cct.cct_K >= *spec.cct_min_K))
         r.failures.push_back(has_cct ? fmt::format("CCT {:.0f} K < {:g} K", A.cct.cct_K, *spec.cct_min_K) : "no CCT");
     if (spec.cct_max_K && !(has_cct && A.cct.cct_K <= *spec.cct_max_K))
@@ -415,6 +445,7 @@ double outlier_scale_floor(const std::string& quantity) {
     if (quantity == "cct_K") return 10;
     if (quantity == "Ra") return 0.5;
     if (quantity == "R9") return 1;
+    if (quantity == "Rf" || quantity == "Rg") return 0.5;  // like Ra (common practice, no source)
     if (quantity == "steps") return 0.2;
     return 0;
 }
@@ -446,6 +477,9 @@ LotStatistics lot_statistics(const QcSpec& spec, std::vector<LampResult>& lamps)
         {"steps", [](const LampResult& l) { return l.steps; }, {}, {}},
         {"flux_lm", [](const LampResult& l) { return l.assessment.luminous_flux_lm.value_or(NAN); }, spec.flux_min_lm, spec.flux_max_lm},
         {"efficacy_lm_per_W", [](const LampResult& l) { return l.assessment.efficacy_lm_per_W.value_or(NAN); }, spec.efficacy_min_lm_per_W, {}},
+        // CIE 224:2017 Rf and TM-30-20 Rg: appended, so the earlier quantities keep their places.
+        {"Rf", [](const LampResult& l) { return l.assessment.fidelity ? l.assessment.fidelity->rf : NAN; }, spec.rf_min, {}},
+        {"Rg", [](const LampResult& l) { return l.assessment.fidelity ? l.assessment.fidelity->rg : NAN; }, spec.rg_min, spec.rg_max},
     };
     // Pass 1: robust outliers, so that pass 2 can give the statistics with and without them.
     std::vector<std::string> notes(lamps.size());
