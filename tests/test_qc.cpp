@@ -529,3 +529,48 @@ TEST_CASE("qc threads: the worker count is at least 1, at most the cores and the
     REQUIRE(many.lamps.size() == 6);
     for (std::size_t k = 0; k < 6; ++k) CHECK(many.lamps[k].steps == one.lamps[k].steps);
 }
+
+TEST_CASE("qc centroid spectrum: the mean of the lamps' unit-sum spectra, the same for any thread count") {
+    // Lamps of one spectral shape at different scales have that shape as their centroid, so its
+    // figures are the lamp's: a Planckian 3000 K source has CCT 3000 K (definition) and Rf = Rg =
+    // 100 (CIE 224:2017, 4.3: its own reference; to 1e-3 as in the colour-fidelity tests).
+    const TempDir dir("lampwright_qc_centroid");
+    for (int k = 0; k < 5; ++k) write_spectrum(dir.path / fmt::format("lamp{}.csv", k), scaled(planckian(3000), 0.5 + k));
+    QcSpec spec = spec_near_fl11();
+    const QcRun one = run_qc(spec, {dir.path.string()}, 1);
+    REQUIRE(one.centroid);
+    CHECK(std::abs(one.centroid->cct.cct_K - 3000) < 0.5);
+    REQUIRE(one.centroid->fidelity);
+    CHECK(std::abs(one.centroid->fidelity->rf - 100) <= 1e-3);
+    CHECK(std::abs(one.centroid->fidelity->rg - 100) <= 1e-3);
+    // Two shapes: the centroid is their mean after each is scaled to unit sum over 380-780 nm
+    // (the definition in qc.hpp): its chromaticity is that of the mean computed here.
+    write_spectrum(dir.path / "lamp_cool.csv", scaled(planckian(6500), 40.0));
+    const QcRun two = run_qc(spec, {dir.path.string()}, 1);
+    const QcRun many = run_qc(spec, {dir.path.string()}, 4294967295u);
+    REQUIRE(two.centroid);
+    REQUIRE(many.centroid);
+    const auto unit = [](const Spectrum& s, int nm) {
+        double sum = 0;
+        for (int w = 380; w <= 780; ++w) sum += s.values[static_cast<std::size_t>(w - s.first_nm)];
+        return s.values[static_cast<std::size_t>(nm - s.first_nm)] / sum;
+    };
+    const Spectrum warm = planckian(3000), cool = planckian(6500);
+    // The integer sums are order-free: any thread count gives the same assessed centroid.
+    CHECK(many.centroid->xy.x == two.centroid->xy.x);
+    CHECK(many.centroid->xy.y == two.centroid->xy.y);
+    // Five warm lamps and one cool: x of the centroid lies between those of the two shapes.
+    const double xw = assess(warm).xy.x, xc = assess(cool).xy.x;
+    CHECK(two.centroid->xy.x < xw);
+    CHECK(two.centroid->xy.x > xc);
+    // The centroid's own chromaticity follows from the expected mean spectrum.
+    std::vector<double> mean_values;
+    for (int nm = warm.first_nm; nm <= warm.last_nm(); ++nm) mean_values.push_back((5 * unit(warm, nm) + unit(cool, nm)) / 6);
+    const Assessment expected = assess(Spectrum("mean", warm.first_nm, mean_values));
+    // (to the digits the spectrum files were written with)
+    CHECK(two.centroid->xy.x == doctest::Approx(expected.xy.x).epsilon(1e-6));
+    CHECK(two.centroid->xy.y == doctest::Approx(expected.xy.y).epsilon(1e-6));
+    // No lamps, no centroid.
+    const TempDir empty("lampwright_qc_centroid_empty");
+    CHECK_FALSE(run_qc(spec, {empty.path.string()}, 1).centroid);
+}

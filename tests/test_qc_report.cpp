@@ -131,6 +131,44 @@ TEST_CASE("qc report: the demo lot's HTML parses as XML and holds every element"
     CHECK(count_xpath(root, "//*[@id='lamp-table']/tbody/tr") == run.lamps.size());
     CHECK(count_xpath(root, "//*[@id='lamp-table']/tbody/tr[" + has_class("fail") + "]") == failed);
     CHECK(count_xpath(root, "//*[@id='lot-statistics']/tbody/tr") == run.stats.summaries.size());
+    // CIE 224 / TM-30-20: the colour vector graphic of the lot's centroid spectrum, with the
+    // figures of that spectrum in its corner, and Rf and Rg histograms holding every lamp.
+    REQUIRE(run.centroid);
+    REQUIRE(run.centroid->fidelity);
+    for (const char* id : {"cvg-centroid", "hist-rf", "hist-rg"}) {
+        CAPTURE(id);
+        REQUIRE(count_xpath(root, std::string("//*[@id='") + id + "']") == 1);
+        CHECK(std::string(root.select_node((std::string("//*[@id='") + id + "']").c_str()).node().name()) == "svg");
+    }
+    const std::string cvg = "//*[@id='cvg-centroid']";
+    // One arrow (a line and, when long enough, a head) per bin with samples (all 16 here), the dashed reference circle.
+    CHECK(count_xpath(root, cvg + "//*[local-name()='line' and @stroke='#1f5f8b']") == 16);
+    CHECK(count_xpath(root, cvg + "//*[local-name()='circle' and @stroke-dasharray]") == 1);
+    const std::string corner = fmt::format("Rf {:.0f}", run.centroid->fidelity->rf), corner_g = fmt::format("Rg {:.0f}", run.centroid->fidelity->rg);
+    bool rf_shown = false, rg_shown = false;
+    for (const auto& t : root.select_nodes((cvg + "//*[local-name()='text']").c_str())) {
+        rf_shown |= std::string(t.node().text().get()) == corner;
+        rg_shown |= std::string(t.node().text().get()) == corner_g;
+    }
+    CHECK(rf_shown);
+    CHECK(rg_shown);
+    // The centroid is a mean of near-identical tubes: its Rf lies within the lamps' range.
+    double rf_lo = 1e9, rf_hi = -1e9;
+    for (const auto& l : run.lamps) rf_lo = std::min(rf_lo, l.assessment.fidelity->rf), rf_hi = std::max(rf_hi, l.assessment.fidelity->rf);
+    CHECK(run.centroid->fidelity->rf >= rf_lo - 0.1);
+    CHECK(run.centroid->fidelity->rf <= rf_hi + 0.1);
+    for (const char* id : {"hist-rf", "hist-rg"}) {
+        CAPTURE(id);
+        const std::string h = std::string("//*[@id='") + id + "']";
+        CHECK(count_xpath(root, h + "//*[" + has_class("bar") + "]") >= 1);
+        CHECK(count_xpath(root, h + "//*[" + has_class("spec-limit") + "]") == 0);  // the demo spec has no Rf/Rg limits
+        int lamps = 0;  // every lamp in a bar: the bars' titles end "N lamps"
+        for (const auto& b : root.select_nodes((h + "//*[" + has_class("bar") + "]/*[local-name()='title']").c_str())) {
+            const std::string t = b.node().text().get();
+            lamps += std::stoi(t.substr(t.rfind(": ") + 2));
+        }
+        CHECK(lamps == 40);
+    }
     check_self_contained(html);
     // The usual cautions (README, Cautions).
     for (const char* word : {"mercury", "dust", "UV", "mains", "local codes"}) CHECK(html.find(word) != std::string::npos);
@@ -193,6 +231,14 @@ TEST_CASE("qc report: text shows each lamp's Rf and Rg and the TM-30 limits; JSO
     CHECK(b1.at("max_rcs") == 7);
     CHECK(b1.at("min_rf").is_null());
     CHECK(j.at("spec").at("limits").at("min_rf") == 70);
+    // The HTML histograms mark the spec's Rf minimum and both Rg limits.
+    run.spec.rg_min = 90;
+    run.spec.rg_max = 110;
+    pugi::xml_document doc;
+    const std::string html = qc_html_report(run);
+    REQUIRE(doc.load_string(html.c_str(), pugi::parse_default | pugi::parse_doctype));
+    CHECK(count_xpath(doc.document_element(), "//*[@id='hist-rf']//*[" + has_class("spec-limit") + "]") == 1);
+    CHECK(count_xpath(doc.document_element(), "//*[@id='hist-rg']//*[" + has_class("spec-limit") + "]") == 2);
 }
 
 TEST_CASE("qc report: tolerance region of an n-step ellipse lies n steps from the centre") {

@@ -10,8 +10,10 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <array>
 #include <atomic>
 #include <cmath>
+#include <cstdint>
 #include <exception>
 #include <filesystem>
 #include <map>
@@ -338,6 +340,39 @@ unsigned qc_worker_count(unsigned requested, std::size_t files) {
     return static_cast<unsigned>(std::min<std::size_t>(wanted, std::max<std::size_t>(1, files)));
 }
 
+namespace {
+
+// The centroid spectrum's running sum in fixed point (units of 2^-40 of a lamp's 380-780 nm sum):
+// integer sums do not depend on the order the workers add lamps in, so the centroid is the same
+// for any thread count. A value is at most a few times its lamp's sum (negative noise aside), so
+// 2^40 per lamp leaves room for millions of lamps in an int64.
+constexpr double kCentroidScale = 1099511627776.0;  // 2^40
+struct CentroidSum {
+    std::array<std::int64_t, kColourSize> sum{};
+    int first = kColourFirstNm, last = kColourLastNm;  // the wavelengths every lamp so far covers
+    std::size_t lamps = 0;
+    void add(const Spectrum& s) {
+        double total = 0;
+        for (int nm = std::max(380, s.first_nm); nm <= std::min(780, s.last_nm()); ++nm) total += s.values[static_cast<std::size_t>(nm - s.first_nm)];
+        if (!(total > 0) || !std::isfinite(total)) return;
+        first = std::max(first, s.first_nm);
+        last = std::min(last, s.last_nm());
+        for (int nm = std::max(kColourFirstNm, s.first_nm); nm <= std::min(kColourLastNm, s.last_nm()); ++nm) {
+            const double v = std::clamp(s.values[static_cast<std::size_t>(nm - s.first_nm)] / total, -4.0, 4.0);
+            sum[static_cast<std::size_t>(nm - kColourFirstNm)] += std::llround(v * kCentroidScale);
+        }
+        ++lamps;
+    }
+    void add(const CentroidSum& o) {
+        for (std::size_t i = 0; i < sum.size(); ++i) sum[i] += o.sum[i];
+        first = std::max(first, o.first);
+        last = std::min(last, o.last);
+        lamps += o.lamps;
+    }
+};
+
+}  // namespace
+
 QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigned threads, const ProgressCallback& progress,
              const SpectrumReadOptions& read, bool keep_spectra) {
     QcRun run;
@@ -351,14 +386,20 @@ QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigne
     (void)assess(planckian(3000), options);  // build the shared tables before the workers start
     std::exception_ptr unexpected;  // anything that is not std::exception: rethrown after the join
     std::mutex unexpected_mutex;
+    CentroidSum centroid;
+    std::mutex centroid_mutex;
     auto worker = [&] {
+        CentroidSum local;
         for (std::size_t i = next++; i < files.size(); i = next++) {
             try {
                 const std::string bytes = read_text_file(files[i]);
                 const SpectrumFile f = parse_spectrum_bytes(bytes, files[i], read);
                 const std::string hash = content_hash(bytes);
+                CentroidSum file_sum;
                 for (const auto& s : f.spectra) {
-                    LampResult lr = judge_lamp(spec, assess(resample_to_1nm(s), options));
+                    const Spectrum one_nm = resample_to_1nm(s);
+                    file_sum.add(one_nm);
+                    LampResult lr = judge_lamp(spec, assess(one_nm, options));
                     // The file's warnings (a gap in the data, negative noise) hold for each of its lamps.
                     lr.assessment.warnings.insert(lr.assessment.warnings.begin(), f.warnings.begin(), f.warnings.end());
                     lr.file = sanitize_utf8(files[i]);  // shown and stored; the path itself may be in any encoding
@@ -366,6 +407,7 @@ QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigne
                     if (keep_spectra) lr.spectrum = s;
                     per_file[i].push_back(std::move(lr));
                 }
+                local.add(file_sum);  // only a file judged whole counts
             } catch (const InputError& e) {
                 bad[i] = BadFile{files[i], e.line() ? fmt::format("line {}: {}", e.line(), e.problem()) : e.problem()};
                 per_file[i].clear();
@@ -393,6 +435,8 @@ QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigne
                 }
             }
         }
+        std::lock_guard<std::mutex> lock(centroid_mutex);
+        centroid.add(local);
     };
     threads = qc_worker_count(threads, files.size());
     {
@@ -420,6 +464,12 @@ QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigne
         for (auto& l : per_file[i]) run.lamps.push_back(std::move(l));
     }
     run.stats = lot_statistics(spec, run.lamps);
+    if (centroid.lamps > 0 && centroid.first <= centroid.last) {
+        std::vector<double> v;
+        for (int nm = centroid.first; nm <= centroid.last; ++nm)
+            v.push_back(static_cast<double>(centroid.sum[static_cast<std::size_t>(nm - kColourFirstNm)]) / kCentroidScale / static_cast<double>(centroid.lamps));
+        run.centroid = assess(Spectrum("lot centroid", centroid.first, std::move(v)), options);
+    }
     return run;
 }
 

@@ -110,6 +110,10 @@ struct QcRun {
     std::vector<LampResult> lamps;
     std::vector<BadFile> bad_files;
     LotStatistics stats;
+    // The lot's centroid spectrum, assessed (for the report's colour vector graphic): the mean of
+    // the lamps' 1 nm spectra, each scaled to unit sum over 380-780 nm, on the wavelengths every
+    // lamp covers. None without lamps, or when the lamps share no wavelengths.
+    std::optional<Assessment> centroid;
 };
 
 using ProgressCallback = std::function<void(std::size_t done, std::size_t total)>;

@@ -249,7 +249,8 @@ std::string uv_diagram_svg(const QcRun& run) {
     return svg_uv_diagram("CIE 1976 u'v' chromaticity (2° observer), zoomed on the target", {}, u_min, u_max, v_min, v_max, kWidth, kHeight, ov);
 }
 
-std::string histogram_svg(const std::string& id, const std::string& quantity, const std::vector<double>& values_in, std::optional<double> minimum) {
+std::string histogram_svg(const std::string& id, const std::string& quantity, const std::vector<double>& values_in, std::optional<double> minimum,
+                          std::optional<double> maximum = std::nullopt) {
     constexpr int kWidth = 440, kHeight = 300;
     std::vector<double> values;
     for (double v : values_in)
@@ -263,8 +264,10 @@ std::string histogram_svg(const std::string& id, const std::string& quantity, co
     }
     double lo = *std::min_element(values.begin(), values.end()), hi = *std::max_element(values.begin(), values.end());
     if (minimum) lo = std::min(lo, *minimum), hi = std::max(hi, *minimum);
+    if (maximum) lo = std::min(lo, *maximum), hi = std::max(hi, *maximum);
     const double w = nice_bin(hi - lo, 10, 0.1);
-    const double anchor = minimum ? *minimum : std::floor(lo / w) * w;  // bin edges fall on the minimum
+    // Bin edges fall on the minimum (else the maximum).
+    const double anchor = minimum ? *minimum : maximum ? *maximum : std::floor(lo / w) * w;
     const long k0 = static_cast<long>(std::floor((lo - anchor) / w + 1e-9)), k1 = static_cast<long>(std::floor((hi - anchor) / w + 1e-9));
     std::vector<int> counts(static_cast<std::size_t>(k1 - k0 + 1), 0);
     for (double v : values) {
@@ -280,9 +283,9 @@ std::string histogram_svg(const std::string& id, const std::string& quantity, co
         SvgPolygon bar;
         bar.x = {a, b, b, a};
         bar.y = {0, 0, static_cast<double>(counts[i]), static_cast<double>(counts[i])};
-        const bool below = minimum && b <= *minimum + 1e-9;
-        bar.css_class = below ? "bar below-limit" : "bar";
-        bar.fill = below ? "#e07b7b" : "#6a9fd4";
+        const bool below = minimum && b <= *minimum + 1e-9, above = maximum && a >= *maximum - 1e-9;
+        bar.css_class = below ? "bar below-limit" : above ? "bar above-limit" : "bar";
+        bar.fill = below || above ? "#e07b7b" : "#6a9fd4";
         bar.stroke = "#fff";
         bar.title = fmt::format("{} {:g} to {:g}: {} lamp{}", quantity, a, b, counts[i], counts[i] == 1 ? "" : "s");
         ov.polygons.push_back(bar);
@@ -312,6 +315,19 @@ std::string histogram_svg(const std::string& id, const std::string& quantity, co
         lim.title = fmt::format("spec minimum {} {:g}", quantity, *minimum);
         ov.polygons.push_back(lim);
         ov.texts.push_back({*minimum, y_max, fmt::format("min {:g}", *minimum), "end", kFailColour, -3, 12});
+    }
+    if (maximum) {
+        SvgPolygon lim;
+        lim.closed = false;
+        lim.x = {*maximum, *maximum};
+        lim.y = {0, y_max};
+        lim.css_class = "spec-limit";
+        lim.stroke = kFailColour;
+        lim.stroke_width = 2;
+        lim.dash = "6 3";
+        lim.title = fmt::format("spec maximum {} {:g}", quantity, *maximum);
+        ov.polygons.push_back(lim);
+        ov.texts.push_back({*maximum, y_max, fmt::format("max {:g}", *maximum), "start", kFailColour, 3, 12});
     }
     return svg_chart({fmt::format("{} of the lot ({} lamps, bins of {:g})", quantity, values.size(), w), quantity, "lamps", x_min, x_max, 0, y_max, kWidth, kHeight},
                      {}, ov);
@@ -615,6 +631,19 @@ std::string qc_html_report(const QcRun& run, const std::string& extra_html) {
     o += "<p class=\"note\">Points: each lamp at its CIE 1976 u', v' (green: passed every limit; red: failed at least one; "
          "an open ring: beyond the plotted window, shown at its edge). The black diamond is the lot centroid (mean x, y); the "
          "cross is the target centre. Ticks on the Planckian locus mark CCT. Histogram bars below a spec minimum are red.</p>\n";
+
+    o += "<h2>Colour fidelity and gamut (CIE 224, TM-30-20)</h2>\n<div class=\"charts\">\n";
+    if (run.centroid && run.centroid->fidelity)
+        o += "<div class=\"diagram\">" + colour_vector_graphic_svg(*run.centroid, "cvg-centroid") + "</div>\n";
+    else
+        o += "<p id=\"cvg-centroid\">No colour vector graphic: the lot's centroid spectrum has no CCT (or there are no lamps).</p>\n";
+    std::vector<double> rf, rg;
+    for (const auto& l : run.lamps) rf.push_back(rf_of(l)), rg.push_back(rg_of(l));
+    o += "<div class=\"histograms\">" + histogram_svg("hist-rf", "Rf", rf, s.rf_min) + histogram_svg("hist-rg", "Rg", rg, s.rg_min, s.rg_max) + "</div>\n";
+    o += "</div>\n";
+    o += "<p class=\"note\">The colour vector graphic is that of the lot's centroid spectrum (the mean of the lamps' spectra, each scaled to "
+         "unit sum over 380-780 nm): per hue bin the reference's average a′, b′ on the dashed circle and an arrow to the test's "
+         "(TM-30-20, CAM02-UCS). Histogram bars outside a spec limit are red.</p>\n";
 
     o += "<h2>Lamps</h2>\n<table id=\"lamp-table\">\n<thead><tr><th>#</th><th class=\"text\">lamp</th><th class=\"text\">file</th><th>x</th><th>y</th>"
          "<th>u'</th><th>v'</th><th>CCT (K)</th><th>Duv</th><th>Ra</th><th>R9</th><th>Rf</th><th>Rg</th><th>LER (lm/W)</th><th>steps</th><th class=\"text\">result</th>"
