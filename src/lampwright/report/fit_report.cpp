@@ -298,10 +298,7 @@ std::pair<std::vector<std::string>, std::vector<std::string>> fit_csv(const FitP
     if (tr || tolerance_run) {
         for (const char* k : {"tol_draws", "tol_seed", "tol_steps_limit", "tol_inside_share", "tol_inside_standard_error",
                               "tol_mean_steps", "tol_sd_steps", "tol_p50_steps", "tol_p90_steps", "tol_p95_steps", "tol_p99_steps",
-                              "tol_max_steps", "tol_nominal_steps", "tol_failed",
-                              // issue 13, appended: the Rf / Rg spread over the first fidelity draws
-                              "tol_fidelity_draws", "tol_mean_Rf", "tol_sd_Rf", "tol_p05_Rf", "tol_p95_Rf", "tol_mean_Rg", "tol_sd_Rg",
-                              "tol_p05_Rg", "tol_p95_Rg"})
+                              "tol_max_steps", "tol_nominal_steps", "tol_failed"})
             cols.push_back(k);
         if (tr) {
             vals.push_back(fmt::format("{}", tr->draws));
@@ -310,9 +307,6 @@ std::pair<std::vector<std::string>, std::vector<std::string>> fit_csv(const FitP
                              tr->p99, tr->max_steps, tr->nominal_steps})
                 vals.push_back(fmt::format("{:.6g}", v));
             vals.push_back(fmt::format("{}", tr->failed));
-            vals.push_back(fmt::format("{}", tr->fidelity_draws));
-            for (double v : {tr->rf.mean, tr->rf.sd, tr->rf.p05, tr->rf.p95, tr->rg.mean, tr->rg.sd, tr->rg.p05, tr->rg.p95})
-                vals.push_back(std::isfinite(v) ? fmt::format("{:.6g}", v) : "");
         } else {
             vals.resize(cols.size());  // no tolerance run (the fit was infeasible): empty cells
         }
