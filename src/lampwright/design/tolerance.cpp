@@ -3,7 +3,6 @@
 #include "lampwright/core/statistics.hpp"
 
 #include "lampwright/colour/colorimetry.hpp"
-#include "lampwright/colour/temperature.hpp"
 #include "lampwright/core/error.hpp"
 
 #include <fmt/format.h>
@@ -81,89 +80,32 @@ ToleranceModel::ToleranceModel(const ToleranceProblem& p) : relative_(p.weighing
     if (!(std::inner_product(nominal_.begin(), nominal_.end(), absorption_.begin(), 0.0) > 0))
         throw Error(fmt::format("no component of blend '{}' absorbs the {}", p.blend.name, p.blend.excitation.describe()));
 
-    // One component alone, at a shift, at its data-file QE (or 0 for the leak alone): its
-    // tristimuli and its CIE 224 sample sums.
-    auto single = [&](std::size_t i, double shift, double qe, CesTristimuli& ces) {
+    // One component alone, at a shift, at its data-file QE (or 0 for the leak alone).
+    auto single = [&](std::size_t i, double shift, double qe) {
         BlendInput one = p.blend;
         BlendComponent c = p.blend.components[i];
         c.phosphor = shifted_phosphor(c.phosphor, shift);
         c.quantum_efficiency = qe;
         c.mass_fraction = 1.0;
         one.components = {c};
-        const Spectrum light = blend_basis(one).light.front();
-        ces = cie224_tristimuli(cie224_range_values(light).data());
-        return xyz_array(lampwright::tristimulus(light));
+        return xyz_array(lampwright::tristimulus(blend_basis(one).light.front()));
     };
-    leak_ = single(0, 0.0, 0.0, ces_leak_);
+    leak_ = single(0, 0.0, 0.0);
     for (std::size_t i = 0; i < n; ++i) {
         const double qe0 = basis.quantum_efficiency[i];
         const auto half = static_cast<int>(std::ceil((kGridSigmas * sp_[i] + kGridExtraNm) / grid_step_));
         grid_lo_.push_back(-half * grid_step_);
         std::vector<std::array<double, 3>> t;
-        std::vector<CesTristimuli> ct;
         for (int k = -half; k <= half; ++k) {
             try {
-                CesTristimuli ces{};
-                auto u = single(i, k * grid_step_, qe0, ces);
+                auto u = single(i, k * grid_step_, qe0);
                 for (int j = 0; j < 3; ++j) u[static_cast<std::size_t>(j)] -= leak_[static_cast<std::size_t>(j)];
-                for (std::size_t j = 0; j < ces.size(); ++j) ces[j] -= ces_leak_[j];
                 t.push_back(u);
-                ct.push_back(ces);
             } catch (const Error& e) {
                 throw Error(fmt::format("component '{}' shifted by {:+.2f} nm: {}", p.blend.components[i].label, k * grid_step_, e.what()));
             }
         }
         table_.push_back(std::move(t));
-        ces_table_.push_back(std::move(ct));
-    }
-}
-
-namespace {
-
-// sum += weight * (the table of one component read at shift t in grid units): Catmull-Rom cubic
-// through tab[k-1 .. k+2], linear on the end interval beyond the grid (more than 6 sigma).
-template <class Row>
-void add_interpolated(Row& sum, const std::vector<Row>& tab, double t, double weight) {
-    const long last = static_cast<long>(tab.size()) - 1;
-    long k = static_cast<long>(std::floor(t));
-    if (k >= 1 && k + 2 <= last) {
-        const double f = t - static_cast<double>(k), f2 = f * f, f3 = f2 * f;
-        const double c0 = -0.5 * f3 + f2 - 0.5 * f, c1 = 1.5 * f3 - 2.5 * f2 + 1, c2 = -1.5 * f3 + 2 * f2 + 0.5 * f, c3 = 0.5 * f3 - 0.5 * f2;
-        const auto ku = static_cast<std::size_t>(k);
-        for (std::size_t j = 0; j < sum.size(); ++j)
-            sum[j] += weight * (c0 * tab[ku - 1][j] + c1 * tab[ku][j] + c2 * tab[ku + 1][j] + c3 * tab[ku + 2][j]);
-    } else {
-        k = std::clamp(k, 0L, last - 1);
-        const double f = t - static_cast<double>(k);
-        const auto ku = static_cast<std::size_t>(k);
-        for (std::size_t j = 0; j < sum.size(); ++j) sum[j] += weight * ((1 - f) * tab[ku][j] + f * tab[ku + 1][j]);
-    }
-}
-
-}  // namespace
-
-CesTristimuli ToleranceModel::ces_tristimuli(const ToleranceDraw& d) const {
-    const std::size_t n = nominal_.size();
-    double total = 0;
-    for (std::size_t i = 0; i < n; ++i) total += d.mass_fractions[i] * absorption_[i];
-    CesTristimuli sum = ces_leak_;
-    for (std::size_t i = 0; i < n; ++i) {
-        const double weight = d.mass_fractions[i] * absorption_[i] / total * d.qe_factor[i];
-        if (weight != 0) add_interpolated(sum, ces_table_[i], (d.shift_nm[i] - grid_lo_[i]) / grid_step_, weight);
-    }
-    return sum;
-}
-
-std::optional<ColourFidelity> ToleranceModel::fidelity(const ToleranceDraw& d) const {
-    // The CCT (Ohno, CIE 1931 2-degree observer) from the fast tristimuli, as CIE 224:2017, 4.3 asks.
-    const XYZ c = tristimulus(d);
-    if (!(c.Y > 0)) return std::nullopt;
-    const CctResult t = correlated_colour_temperature(uv_1960(c));
-    if (!t.valid) return std::nullopt;
-    try {
-        return colour_fidelity_from_tristimuli(ces_tristimuli(d), t.cct_K);
-    } catch (const Error&) {
-        return std::nullopt;
     }
 }
 
@@ -174,7 +116,26 @@ XYZ ToleranceModel::tristimulus(const ToleranceDraw& d) const {
     std::array<double, 3> sum = leak_;
     for (std::size_t i = 0; i < n; ++i) {
         const double weight = d.mass_fractions[i] * absorption_[i] / total * d.qe_factor[i];
-        if (weight != 0) add_interpolated(sum, table_[i], (d.shift_nm[i] - grid_lo_[i]) / grid_step_, weight);
+        if (weight == 0) continue;
+        const auto& tab = table_[i];
+        const double t = (d.shift_nm[i] - grid_lo_[i]) / grid_step_;
+        const long last = static_cast<long>(tab.size()) - 1;
+        long k = static_cast<long>(std::floor(t));
+        if (k >= 1 && k + 2 <= last) {
+            // Catmull-Rom cubic through tab[k-1 .. k+2].
+            const double f = t - static_cast<double>(k), f2 = f * f, f3 = f2 * f;
+            const double c0 = -0.5 * f3 + f2 - 0.5 * f, c1 = 1.5 * f3 - 2.5 * f2 + 1, c2 = -1.5 * f3 + 2 * f2 + 0.5 * f,
+                         c3 = 0.5 * f3 - 0.5 * f2;
+            const auto ku = static_cast<std::size_t>(k);
+            for (std::size_t j = 0; j < 3; ++j)
+                sum[j] += weight * (c0 * tab[ku - 1][j] + c1 * tab[ku][j] + c2 * tab[ku + 1][j] + c3 * tab[ku + 2][j]);
+        } else {
+            // Beyond the grid (more than 6 sigma): linear on the end interval.
+            k = std::clamp(k, 0L, last - 1);
+            const double f = t - static_cast<double>(k);
+            const auto ku = static_cast<std::size_t>(k);
+            for (std::size_t j = 0; j < 3; ++j) sum[j] += weight * ((1 - f) * tab[ku][j] + f * tab[ku + 1][j]);
+        }
     }
     return {sum[0], sum[1], sum[2]};
 }
@@ -289,39 +250,6 @@ ToleranceResult run_tolerance(const ToleranceProblem& p, const ToleranceProgress
     r.p95 = quantile_sorted(sorted, 0.95);
     r.p99 = quantile_sorted(sorted, 0.99);
     r.max_steps = sorted.back();
-
-    // Rf and Rg of the first draws again (same seed: the same draws), so the chromaticity loop
-    // above stays as fast as it was.
-    {
-        ToleranceDraw nominal{model.nominal_fractions(), std::vector<double>(model.size(), 0.0), std::vector<double>(model.size(), 1.0)};
-        const auto f = model.fidelity(nominal);
-        r.nominal_rf = f ? f->rf : std::numeric_limits<double>::quiet_NaN();
-        r.nominal_rg = f ? f->rg : std::numeric_limits<double>::quiet_NaN();
-    }
-    ToleranceSampler again(model, p.seed);
-    std::vector<double> rf, rg;
-    const std::size_t nf = std::min(p.draws, p.fidelity_draws);
-    for (std::size_t k = 0; k < nf; ++k) {
-        again.next(d);
-        if (const auto f = model.fidelity(d)) {
-            rf.push_back(f->rf);
-            rg.push_back(f->rg);
-        }
-    }
-    r.fidelity_draws = rf.size();
-    const auto spread = [](std::vector<double>& v) {
-        ToleranceResult::Spread s;
-        const double nan = std::numeric_limits<double>::quiet_NaN();
-        if (v.empty()) return ToleranceResult::Spread{nan, nan, nan, nan};
-        s.mean = mean(v);
-        s.sd = v.size() > 1 ? sample_sd(v) : 0.0;
-        std::sort(v.begin(), v.end());
-        s.p05 = quantile_sorted(v, 0.05);
-        s.p95 = quantile_sorted(v, 0.95);
-        return s;
-    };
-    r.rf = spread(rf);
-    r.rg = spread(rg);
     return r;
 }
 

@@ -23,14 +23,12 @@
 // normals per component per draw in the order weighing, peak, QE. The mt19937_64 sequence is fixed
 // by the C++ standard; the normal_distribution algorithm is not, so the same seed gives the same
 // draws with one standard library (libstdc++ here) but may not with another.
-#include "lampwright/colour/colour_fidelity.hpp"
 #include "lampwright/phosphor/blend.hpp"
 #include "lampwright/design/targets.hpp"
 
 #include <array>
 #include <cstdint>
 #include <functional>
-#include <optional>
 #include <random>
 #include <string>
 #include <vector>
@@ -48,11 +46,6 @@ struct ToleranceProblem {
     std::vector<double> qe_sigma;   // relative
     std::size_t draws = 100000;
     std::uint64_t seed = 1;
-    // CIE 224 Rf and TM-30-20 Rg are computed for the first min(draws, fidelity_draws) draws only:
-    // each costs one CIECAM02 of the 99 samples (about 30 us) against well under 1 us for the
-    // chromaticity, so 2000 keep the run's time about the same while the spread is known to a
-    // few per cent (the sd of a sd from n normal values is about sd / sqrt(2 (n - 1)), 1.6 % here).
-    std::size_t fidelity_draws = 2000;
 };
 
 struct ToleranceDraw {
@@ -82,15 +75,6 @@ struct ToleranceResult {
     double yield = 0;                 // inside / draws
     double yield_standard_error = 0;  // sqrt(p (1 - p) / N)
     std::vector<double> steps;        // per draw, when kept (NaN for a failed draw)
-    // Rf and Rg of the first fidelity_draws draws that have a CCT (CIE 224 / TM-30-20, from the
-    // 99 samples' tristimulus sums, linear in the light as the chromaticity is): mean, sample sd,
-    // 5th and 95th percentiles (type 7). NaN when no such draw.
-    struct Spread {
-        double mean = 0, sd = 0, p05 = 0, p95 = 0;
-    };
-    std::size_t fidelity_draws = 0;   // draws with Rf and Rg in the spreads
-    Spread rf, rg;
-    double nominal_rf = 0, nominal_rg = 0;  // of the recipe without errors (NaN without a CCT)
 };
 
 // The one-step ellipse for a target: its own (ANSI C78.376 targets), else the one-step ellipse of
@@ -113,9 +97,6 @@ public:
     std::uint64_t seed() const { return seed_; }
     XYZ tristimulus(const ToleranceDraw& d) const;  // fast path
     Chromaticity chromaticity(const ToleranceDraw& d) const;
-    // The same fast path for the CIE 224 sample sums, and the figures from them; nullopt without a CCT.
-    CesTristimuli ces_tristimuli(const ToleranceDraw& d) const;
-    std::optional<ColourFidelity> fidelity(const ToleranceDraw& d) const;
     const std::vector<double>& nominal_fractions() const { return nominal_; }
 
 private:
@@ -127,8 +108,6 @@ private:
     std::vector<double> grid_lo_;               // first shift of each component's table
     std::vector<std::vector<std::array<double, 3>>> table_;  // U_i at the grid shifts
     std::array<double, 3> leak_{};
-    std::vector<std::vector<CesTristimuli>> ces_table_;  // the CIE 224 sums of U_i at the grid shifts
-    CesTristimuli ces_leak_{};
 };
 
 // The draw generator: deterministic for a seed (see the note on std::normal_distribution above).

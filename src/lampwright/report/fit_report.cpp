@@ -198,11 +198,6 @@ std::string tolerance_text(const ToleranceProblem& t, const ToleranceResult& r, 
                      100 * r.yield_standard_error, r.inside, r.draws);
     if (r.failed > 0)
         o << fmt::format("  failed:     {} draws gave no light (every QE drawn at zero): counted outside, left out of the figures above\n", r.failed);
-    if (r.fidelity_draws > 0)
-        o << fmt::format("  Rf, Rg:     Rf mean {:.1f} (sd {:.2f}; 5 % {:.1f}, 95 % {:.1f}), Rg mean {:.1f} (sd {:.2f}; 5 % {:.1f}, 95 % {:.1f}); nominal Rf {}, Rg {}\n"
-                         "              (CIE 224, TM-30-20; over the first {} draws)\n",
-                         r.rf.mean, r.rf.sd, r.rf.p05, r.rf.p95, r.rg.mean, r.rg.sd, r.rg.p05, r.rg.p95, format_fixed(r.nominal_rf, 1, "-"),
-                         format_fixed(r.nominal_rg, 1, "-"), r.fidelity_draws);
     return o.str();
 }
 
@@ -332,10 +327,7 @@ nlohmann::ordered_json tolerance_json(const ToleranceProblem& tp, const Toleranc
               {"nominal_steps", tr.nominal_steps}, {"mean_steps", tr.mean_steps}, {"sd_steps", tr.sd_steps},
               {"p50_steps", tr.p50}, {"p90_steps", tr.p90}, {"p95_steps", tr.p95}, {"p99_steps", tr.p99},
               {"max_steps", tr.max_steps}, {"mean_x", tr.mean_x}, {"mean_y", tr.mean_y}, {"sd_x", tr.sd_x},
-              {"sd_y", tr.sd_y}, {"time_ms", ms}, {"fidelity_draws", tr.fidelity_draws},
-              {"nominal_Rf", number_or_null(tr.nominal_rf)}, {"nominal_Rg", number_or_null(tr.nominal_rg)},
-              {"Rf", {{"mean", number_or_null(tr.rf.mean)}, {"sd", number_or_null(tr.rf.sd)}, {"p05", number_or_null(tr.rf.p05)}, {"p95", number_or_null(tr.rf.p95)}}},
-              {"Rg", {{"mean", number_or_null(tr.rg.mean)}, {"sd", number_or_null(tr.rg.sd)}, {"p05", number_or_null(tr.rg.p05)}, {"p95", number_or_null(tr.rg.p95)}}}};
+              {"sd_y", tr.sd_y}, {"time_ms", ms}};
 }
 
 std::string sensitivity_text(const std::vector<SensitivityRow>& rows) {
