@@ -160,3 +160,25 @@ TEST_CASE("cli tm30: fit --maximize rf and --min-rf on a blend; --min-rf is refu
     CHECK(layer.exit_code == 2);  // usage error
     CHECK(layer.err.find("--min-rf") != std::string::npos);
 }
+
+TEST_CASE("cli tm30: fit --min-rg, --max-rg and --rcs-h1 are constraints in the list; bad ranges are usage errors") {
+    // Exit 2 for a usage error and 0 for a met fit (common practice, no source); the names are
+    // the ones docs/output-schemas.md lists for `constraints`.
+    const std::string recipe = kSource + "/examples/recipes/multiband_5000K.toml";
+    const auto m = run_cli("fit " + quote(recipe) + " --cct 5000 --maximize efficacy --min-rg 60 --max-rg 140 --rcs-h1 -60,60 --format json");
+    REQUIRE(m.exit_code == 0);
+    const auto j = nlohmann::ordered_json::parse(m.out);
+    int met = 0;
+    for (const auto& c : j["constraints"])
+        for (const char* n : {"Rg >=", "Rg <=", "Rcs,h1 >=", "Rcs,h1 <="}) met += c["name"] == n && c["satisfied"] == true;
+    CHECK(met == 4);
+    for (const std::string bad : {"--min-rg 0", "--max-rg 201", "--min-rg 110 --max-rg 100", "--rcs-h1 10,-10", "--rcs-h1 -101,5",
+                                  "--rcs-h1 5", "--rcs-h1 a,b"}) {
+        const auto b = run_cli("fit " + quote(recipe) + " --cct 5000 " + bad);
+        CHECK_MESSAGE(b.exit_code == 2, bad);
+        CHECK_MESSAGE(b.err.find(bad.substr(0, bad.find(' '))) != std::string::npos, bad);
+    }
+    const auto layer = run_cli("fit " + quote(kSource + "/examples/layers/module395_80um.toml") + " --cct 5000 --rcs-h1 -5,5");
+    CHECK(layer.exit_code == 2);
+    CHECK(layer.err.find("--rcs-h1") != std::string::npos);
+}

@@ -62,6 +62,14 @@ void check_answer(const FitProblem& p, const FitResult& r) {
         REQUIRE(again.assessment.fidelity);
         CHECK(again.assessment.fidelity->rf >= *p.min_rf);
     }
+    if (p.min_rg || p.max_rg || p.min_rcs_h1_percent || p.max_rcs_h1_percent) {
+        REQUIRE(again.assessment.fidelity);
+        const auto& f = *again.assessment.fidelity;
+        if (p.min_rg) CHECK(f.rg >= *p.min_rg);
+        if (p.max_rg) CHECK(f.rg <= *p.max_rg);
+        if (p.min_rcs_h1_percent) CHECK(f.rcs_h_percent[0] >= *p.min_rcs_h1_percent);
+        if (p.max_rcs_h1_percent) CHECK(f.rcs_h_percent[0] <= *p.max_rcs_h1_percent);
+    }
     for (const auto& c : r.constraints) CHECK_MESSAGE(c.satisfied, c.text);
 }
 
@@ -239,6 +247,92 @@ TEST_CASE("optimiser: the rf objective and the min_rf constraint (CIE 224 Rf)") 
     for (const auto& c : f.constraints) reported |= c.name == "Rf >=";
     CHECK(reported);
     CHECK(parse_fit_objective("rf") == FitObjective::rf);
+}
+
+TEST_CASE("optimiser: TM-30 Rg and Rcs,h1 constraints hold on the answer and bind where they cut the unconstrained optimum") {
+    // Two unconstrained optima (maximum efficacy, maximum R9) on the same target give two Rg and
+    // Rcs,h1 values; the on-target blends within the fraction limits are a convex set and Rg,
+    // Rcs,h1 are continuous on it, so any value between the two is reachable (intermediate
+    // values). A bound at the midpoint that the optimum breaks moves the answer onto the bound
+    // (the objective cannot improve inside it), and the constrained objective is no better
+    // (optimisation, common practice, no source). Every value is re-checked with evaluate_blend
+    // (check_answer), whose assess() computes TM-30 from the spectrum itself.
+    const auto fid = [](const FitResult& r) { return *r.result.assessment.fidelity; };
+    const auto find = [](const FitResult& r, const std::string& name) -> const ConstraintReport* {
+        for (const auto& c : r.constraints)
+            if (c.name == name) return &c;
+        return nullptr;
+    };
+    const FitProblem eff = fit_problem("multiband_5000K.toml", target_cct(5000, 0.0), FitObjective::efficacy);
+    const FitProblem red = fit_problem("multiband_5000K.toml", target_cct(5000, 0.0), FitObjective::r9);
+    const FitResult ue = solve(eff), ur = solve(red);
+    check_answer(eff, ue);
+    check_answer(red, ur);
+    REQUIRE(ue.result.assessment.fidelity);
+    REQUIRE(ur.result.assessment.fidelity);
+    const double rg_e = fid(ue).rg, rg_r = fid(ur).rg, rcs_e = fid(ue).rcs_h_percent[0], rcs_r = fid(ur).rcs_h_percent[0];
+    MESSAGE("multi-band 5000 K: maximum efficacy Rg " << rg_e << ", Rcs,h1 " << rcs_e << " %; maximum R9 Rg " << rg_r << ", Rcs,h1 " << rcs_r << " %");
+    // The two optima differ enough in Rg for a bound between them to mean something.
+    REQUIRE(std::abs(rg_r - rg_e) > 1.0);
+    const double rg_mid = std::round(5.0 * (rg_e + rg_r)) / 10.0;  // to 0.1
+    const bool r9_higher = rg_r > rg_e;
+
+    SUBCASE("an Rg bound between the two optima binds on either") {
+        FitProblem p = r9_higher ? red : eff;  // the optimum with the higher Rg, capped below it
+        p.max_rg = rg_mid;
+        const FitResult r = solve(p);
+        check_answer(p, r);
+        const auto* c = find(r, "Rg <=");
+        REQUIRE(c);
+        CHECK(c->satisfied);
+        CHECK(c->active);
+        CHECK(fid(r).rg <= *p.max_rg);
+        CHECK(fid(r).rg > *p.max_rg - 0.25);  // on the bound (margin 0.01 plus the search's tolerance)
+        CHECK(r.objective_value <= (r9_higher ? ur : ue).objective_value + 1e-6);
+
+        FitProblem q = r9_higher ? eff : red;  // the optimum with the lower Rg, floored above it
+        q.min_rg = rg_mid;
+        const FitResult s = solve(q);
+        check_answer(q, s);
+        const auto* d = find(s, "Rg >=");
+        REQUIRE(d);
+        CHECK(d->active);
+        CHECK(fid(s).rg >= *q.min_rg);
+        CHECK(fid(s).rg < *q.min_rg + 0.25);
+        CHECK(s.objective_value <= (r9_higher ? ue : ur).objective_value + 1e-6);
+    }
+    SUBCASE("an Rcs,h1 range that excludes the efficacy optimum") {
+        REQUIRE(std::abs(rcs_r - rcs_e) > 1.0);
+        FitProblem p = eff;
+        const double edge = std::round(5.0 * (rcs_e + rcs_r)) / 10.0;
+        // The near end at the midpoint, the far end 5 points beyond the R9 optimum.
+        p.min_rcs_h1_percent = rcs_r > rcs_e ? edge : rcs_r - 5.0;
+        p.max_rcs_h1_percent = rcs_r > rcs_e ? rcs_r + 5.0 : edge;
+        const FitResult r = solve(p);
+        check_answer(p, r);
+        const std::string near = rcs_r > rcs_e ? "Rcs,h1 >=" : "Rcs,h1 <=", far = rcs_r > rcs_e ? "Rcs,h1 <=" : "Rcs,h1 >=";
+        REQUIRE(find(r, near));
+        REQUIRE(find(r, far));
+        CHECK(find(r, near)->active);
+        CHECK_FALSE(find(r, far)->active);
+        CHECK(std::abs(fid(r).rcs_h_percent[0] - edge) < 0.25);
+        CHECK(r.objective_value <= ue.objective_value + 1e-6);
+    }
+    SUBCASE("a loose bound does not move the answer") {
+        FitProblem p = eff;
+        p.max_rg = rg_e + 10.0;
+        const FitResult r = solve(p);
+        check_answer(p, r);
+        REQUIRE(find(r, "Rg <="));
+        CHECK_FALSE(find(r, "Rg <=")->active);
+        CHECK(r.objective_value == doctest::Approx(ue.objective_value).epsilon(1e-3));
+    }
+    SUBCASE("an empty range is refused") {
+        FitProblem p = eff;
+        p.min_rg = 110;
+        p.max_rg = 100;
+        CHECK_THROWS_AS(solve(p), Error);
+    }
 }
 
 TEST_CASE("optimiser: infeasible targets are reported plainly, with the nearest reachable chromaticity") {

@@ -50,6 +50,16 @@ TEST_CASE("qc spec: the three target kinds and the limits load") {
     CHECK(*t.rf_min == 80);  // the file's value
     CHECK(*t.rg_min == 95);  // the file's value
     CHECK(*t.rg_max == 110);  // the file's value
+    const auto h = load_qc_spec(dir.write("h.toml", "name='bins'\n[target]\nflamp='F4100'\n[limits]\nmin_rf_h1=70\nmin_rcs_h1=-5\nmax_rcs_h1=15\n"
+                                                      "min_rf_h16=60.5\nmax_rcs_h16=-100\nmin_rcs_h16=-100\n"));
+    // The file's values, in bin order (index j - 1); the bins not named stay unset.
+    CHECK(*h.rf_h_min[0] == 70);
+    CHECK(*h.rcs_h_min_percent[0] == -5);
+    CHECK(*h.rcs_h_max_percent[0] == 15);
+    CHECK(*h.rf_h_min[15] == 60.5);
+    CHECK(*h.rcs_h_min_percent[15] == -100);  // min = max is a point range, allowed
+    CHECK(*h.rcs_h_max_percent[15] == -100);
+    for (std::size_t j = 1; j < 15; ++j) CHECK_FALSE((h.rf_h_min[j] || h.rcs_h_min_percent[j] || h.rcs_h_max_percent[j]));
     const auto q = load_qc_spec(dir.write("b.toml", "name='SSL 3500'\n[target]\nansi_class=3500\n"));
     CHECK(q.region == QcSpec::Region::ansi_quadrangle);
     CHECK(q.centre.x == doctest::Approx(0.4078));  // ANSI C78.377-2017 Table 1
@@ -71,6 +81,13 @@ TEST_CASE("qc spec: the three target kinds and the limits load") {
         {"name='x'\n[target]\nflamp='F4100'\n[limits]\nmin_rf=-3\n", "must lie in 0-100"},
         {"name='x'\n[target]\nflamp='F4100'\n[limits]\nmax_rg=0\n", "limits.max_rg"},
         {"name='x'\n[target]\nflamp='F4100'\n[limits]\nmin_rg=110\nmax_rg=90\n", "min_rg (110) must be below max_rg (90)"},
+        // TM-30-20 hue bins: Rf,hj in 0-100 as Rf; Rcs,hj in per cent, at most +-100 (common practice, no source).
+        {"name='x'\n[target]\nflamp='F4100'\n[limits]\nmin_rf_h3=101\n", "limits.min_rf_h3"},
+        {"name='x'\n[target]\nflamp='F4100'\n[limits]\nmin_rcs_h2=-120\n", "limits.min_rcs_h2"},
+        {"name='x'\n[target]\nflamp='F4100'\n[limits]\nmax_rcs_h16=100.5\n", "limits.max_rcs_h16"},
+        {"name='x'\n[target]\nflamp='F4100'\n[limits]\nmin_rcs_h5=10\nmax_rcs_h5=5\n", "min_rcs_h5 (10) must not be above max_rcs_h5 (5)"},
+        {"name='x'\n[target]\nflamp='F4100'\n[limits]\nmin_rf_h17=80\n", "unknown key"},
+        {"name='x'\n[target]\nflamp='F4100'\n[limits]\nmin_rf_h0=80\n", "unknown key"},
     };
     for (const auto& b : bad) {
         const std::string path = dir.write("bad.toml", b[0]);
@@ -138,6 +155,92 @@ TEST_CASE("qc: Rf and Rg limits (CIE 224, TM-30-20) judge a lamp and name the fa
         CHECK(f.find("Rf") == std::string::npos);  // 70.1 >= 70
         CHECK(f.find("Rg") == std::string::npos);  // 85 <= 86.4 <= 88
     }
+}
+
+TEST_CASE("qc: per-bin Rf,hj and Rcs,hj limits (TM-30-20) judge a lamp; Rf and Rg are in the lot statistics") {
+    QcSpec spec;
+    spec.centre = assess(planckian(3000)).xy;
+    spec.step_ellipse = macadam_ellipse(spec.centre, 0.003, 0.001, 0.0);
+    spec.max_steps = 400;
+    // A Planckian source below 4000 K is its own CIE 224 reference (CIE 224:2017, 4.3), so every
+    // sample matches: Rf,hj = 100 and Rcs,hj = 0 in every bin, Rf = Rg = 100 (exact, by construction).
+    for (std::size_t j = 0; j < 16; ++j) {
+        spec.rf_h_min[j] = 99.9;
+        spec.rcs_h_min_percent[j] = -0.05;
+        spec.rcs_h_max_percent[j] = 0.05;
+    }
+    const LampResult ok = judge_lamp(spec, assess(planckian(3000)));
+    CHECK_MESSAGE(ok.pass(), (ok.failures.empty() ? "" : ok.failures.front()));
+    spec.rcs_h_min_percent[0] = 1;     // bin 1: a chroma gain of at least 1 % is asked of a lamp with none
+    spec.rcs_h_max_percent[15] = -1;   // bin 16: a loss of at least 1 %
+    const LampResult no = judge_lamp(spec, assess(planckian(3000)));
+    REQUIRE(no.failures.size() == 2);
+    // ("0.0" or "-0.0": the reference comes from the mired table, so the shift is 0 to rounding)
+    CHECK(no.failures[0].rfind("Rcs,h1 ", 0) == 0);
+    CHECK(no.failures[0].find("0.0 % < 1 %") != std::string::npos);
+    CHECK(no.failures[1].rfind("Rcs,h16 ", 0) == 0);
+    CHECK(no.failures[1].find("0.0 % > -1 %") != std::string::npos);
+    // CIE FL2 falls short of Rf,hj 99.9 in some bin (its Rf is 70.1, CIE 224 calculator, from memory:
+    // an average of 99 samples 30 points below 100 cannot leave every bin near 100).
+    spec.rcs_h_min_percent[0] = -100;
+    spec.rcs_h_max_percent[15] = 100;
+    const LampResult fl2 = judge_lamp(spec, assess(cie_fl_illuminant(2)));
+    bool bin_named = false;
+    for (const auto& f : fl2.failures) bin_named |= f.rfind("Rf,h", 0) == 0 && f.find(" < 99.9") != std::string::npos;
+    CHECK(bin_named);
+    // A spectrum without a CCT has no TM-30 figures: every per-bin limit fails as not defined.
+    QcSpec one;
+    one.centre = spec.centre;
+    one.step_ellipse = spec.step_ellipse;
+    one.max_steps = 1e9;
+    one.rf_h_min[4] = 10;
+    Spectrum green("green", 380, std::vector<double>(401, 0.0));
+    for (int nm = 520; nm <= 540; ++nm) green.values[static_cast<std::size_t>(nm - 380)] = 1.0;
+    const LampResult g = judge_lamp(one, assess(green));
+    REQUIRE(g.failures.size() == 1);
+    CHECK(g.failures[0] == "Rf,h5 not defined (no CCT)");
+
+    // Lot statistics of Planckian lamps at 2700-3900 K: Rf = Rg = 100 each (exact, by
+    // construction), so mean 100 and sd 0 (to 1e-3); with min_rf and a Rg range there is a
+    // capability row for each, with the spec's limits.
+    QcSpec lot;
+    lot.centre = spec.centre;
+    lot.step_ellipse = spec.step_ellipse;
+    lot.max_steps = 1e9;
+    lot.rf_min = 90;
+    lot.rg_min = 95;
+    lot.rg_max = 105;
+    std::vector<LampResult> lamps;
+    for (double t : {2700.0, 3000.0, 3300.0, 3600.0, 3900.0}) lamps.push_back(judge_lamp(lot, assess(planckian(t))));
+    const LotStatistics st = lot_statistics(lot, lamps);
+    for (const std::string q : {"Rf", "Rg"}) {
+        CAPTURE(q);
+        const LotStatistics::Summary* s = nullptr;
+        for (const auto& x : st.summaries)
+            if (x.quantity == q) s = &x;
+        REQUIRE(s);
+        // Within 1e-3 of 100, as each lamp is (CIE 224:2017 eq. 10 with dE' = 0 gives 100.0005).
+        CHECK(std::abs(s->mean - 100) <= 1e-3);
+        CHECK(s->sd <= 1e-3);
+        const Capability* c = nullptr;
+        for (const auto& x : st.capabilities)
+            if (x.quantity == q) c = &x;
+        REQUIRE(c);
+        CHECK(c->all.n == 5);
+        CHECK(c->lower == (q == "Rf" ? 90.0 : 95.0));  // the spec's limits
+        CHECK(c->upper == (q == "Rf" ? std::optional<double>{} : std::optional<double>{105.0}));
+    }
+    // With a spread: FL2 and FL11 as a two-lamp lot, Ppk by the one-sided textbook formula
+    // (mean - LSL) / (3 sd) (Montgomery), mean and sd of the two Rf values.
+    std::vector<LampResult> two{judge_lamp(lot, assess(cie_fl_illuminant(2))), judge_lamp(lot, assess(cie_fl_illuminant(11)))};
+    const LotStatistics st2 = lot_statistics(lot, two);
+    const double r1 = two[0].assessment.fidelity->rf, r2 = two[1].assessment.fidelity->rf;
+    const double m = (r1 + r2) / 2, sd = std::abs(r1 - r2) / std::sqrt(2.0);
+    for (const auto& c : st2.capabilities)
+        if (c.quantity == "Rf") {
+            CHECK(c.all.mean == doctest::Approx(m).epsilon(1e-12));
+            CHECK(c.all.ppk == doctest::Approx((m - 90) / (3 * sd)).epsilon(1e-9));
+        }
 }
 
 TEST_CASE("qc: Ppk follows the textbook formula") {
@@ -425,4 +528,49 @@ TEST_CASE("qc threads: the worker count is at least 1, at most the cores and the
     const QcRun many = run_qc(spec, {dir.path.string()}, 4294967295u);
     REQUIRE(many.lamps.size() == 6);
     for (std::size_t k = 0; k < 6; ++k) CHECK(many.lamps[k].steps == one.lamps[k].steps);
+}
+
+TEST_CASE("qc centroid spectrum: the mean of the lamps' unit-sum spectra, the same for any thread count") {
+    // Lamps of one spectral shape at different scales have that shape as their centroid, so its
+    // figures are the lamp's: a Planckian 3000 K source has CCT 3000 K (definition) and Rf = Rg =
+    // 100 (CIE 224:2017, 4.3: its own reference; to 1e-3 as in the colour-fidelity tests).
+    const TempDir dir("lampwright_qc_centroid");
+    for (int k = 0; k < 5; ++k) write_spectrum(dir.path / fmt::format("lamp{}.csv", k), scaled(planckian(3000), 0.5 + k));
+    QcSpec spec = spec_near_fl11();
+    const QcRun one = run_qc(spec, {dir.path.string()}, 1);
+    REQUIRE(one.centroid);
+    CHECK(std::abs(one.centroid->cct.cct_K - 3000) < 0.5);
+    REQUIRE(one.centroid->fidelity);
+    CHECK(std::abs(one.centroid->fidelity->rf - 100) <= 1e-3);
+    CHECK(std::abs(one.centroid->fidelity->rg - 100) <= 1e-3);
+    // Two shapes: the centroid is their mean after each is scaled to unit sum over 380-780 nm
+    // (the definition in qc.hpp): its chromaticity is that of the mean computed here.
+    write_spectrum(dir.path / "lamp_cool.csv", scaled(planckian(6500), 40.0));
+    const QcRun two = run_qc(spec, {dir.path.string()}, 1);
+    const QcRun many = run_qc(spec, {dir.path.string()}, 4294967295u);
+    REQUIRE(two.centroid);
+    REQUIRE(many.centroid);
+    const auto unit = [](const Spectrum& s, int nm) {
+        double sum = 0;
+        for (int w = 380; w <= 780; ++w) sum += s.values[static_cast<std::size_t>(w - s.first_nm)];
+        return s.values[static_cast<std::size_t>(nm - s.first_nm)] / sum;
+    };
+    const Spectrum warm = planckian(3000), cool = planckian(6500);
+    // The integer sums are order-free: any thread count gives the same assessed centroid.
+    CHECK(many.centroid->xy.x == two.centroid->xy.x);
+    CHECK(many.centroid->xy.y == two.centroid->xy.y);
+    // Five warm lamps and one cool: x of the centroid lies between those of the two shapes.
+    const double xw = assess(warm).xy.x, xc = assess(cool).xy.x;
+    CHECK(two.centroid->xy.x < xw);
+    CHECK(two.centroid->xy.x > xc);
+    // The centroid's own chromaticity follows from the expected mean spectrum.
+    std::vector<double> mean_values;
+    for (int nm = warm.first_nm; nm <= warm.last_nm(); ++nm) mean_values.push_back((5 * unit(warm, nm) + unit(cool, nm)) / 6);
+    const Assessment expected = assess(Spectrum("mean", warm.first_nm, mean_values));
+    // (to the digits the spectrum files were written with)
+    CHECK(two.centroid->xy.x == doctest::Approx(expected.xy.x).epsilon(1e-6));
+    CHECK(two.centroid->xy.y == doctest::Approx(expected.xy.y).epsilon(1e-6));
+    // No lamps, no centroid.
+    const TempDir empty("lampwright_qc_centroid_empty");
+    CHECK_FALSE(run_qc(spec, {empty.path.string()}, 1).centroid);
 }

@@ -16,6 +16,7 @@
 #include "lampwright/design/targets.hpp"
 
 #include <doctest/doctest.h>
+#include <fmt/format.h>
 #include <nlohmann/json.hpp>
 #include <pugixml.hpp>
 
@@ -130,6 +131,44 @@ TEST_CASE("qc report: the demo lot's HTML parses as XML and holds every element"
     CHECK(count_xpath(root, "//*[@id='lamp-table']/tbody/tr") == run.lamps.size());
     CHECK(count_xpath(root, "//*[@id='lamp-table']/tbody/tr[" + has_class("fail") + "]") == failed);
     CHECK(count_xpath(root, "//*[@id='lot-statistics']/tbody/tr") == run.stats.summaries.size());
+    // CIE 224 / TM-30-20: the colour vector graphic of the lot's centroid spectrum, with the
+    // figures of that spectrum in its corner, and Rf and Rg histograms holding every lamp.
+    REQUIRE(run.centroid);
+    REQUIRE(run.centroid->fidelity);
+    for (const char* id : {"cvg-centroid", "hist-rf", "hist-rg"}) {
+        CAPTURE(id);
+        REQUIRE(count_xpath(root, std::string("//*[@id='") + id + "']") == 1);
+        CHECK(std::string(root.select_node((std::string("//*[@id='") + id + "']").c_str()).node().name()) == "svg");
+    }
+    const std::string cvg = "//*[@id='cvg-centroid']";
+    // One arrow (a line and, when long enough, a head) per bin with samples (all 16 here), the dashed reference circle.
+    CHECK(count_xpath(root, cvg + "//*[local-name()='line' and @stroke='#1f5f8b']") == 16);
+    CHECK(count_xpath(root, cvg + "//*[local-name()='circle' and @stroke-dasharray]") == 1);
+    const std::string corner = fmt::format("Rf {:.0f}", run.centroid->fidelity->rf), corner_g = fmt::format("Rg {:.0f}", run.centroid->fidelity->rg);
+    bool rf_shown = false, rg_shown = false;
+    for (const auto& t : root.select_nodes((cvg + "//*[local-name()='text']").c_str())) {
+        rf_shown |= std::string(t.node().text().get()) == corner;
+        rg_shown |= std::string(t.node().text().get()) == corner_g;
+    }
+    CHECK(rf_shown);
+    CHECK(rg_shown);
+    // The centroid is a mean of near-identical tubes: its Rf lies within the lamps' range.
+    double rf_lo = 1e9, rf_hi = -1e9;
+    for (const auto& l : run.lamps) rf_lo = std::min(rf_lo, l.assessment.fidelity->rf), rf_hi = std::max(rf_hi, l.assessment.fidelity->rf);
+    CHECK(run.centroid->fidelity->rf >= rf_lo - 0.1);
+    CHECK(run.centroid->fidelity->rf <= rf_hi + 0.1);
+    for (const char* id : {"hist-rf", "hist-rg"}) {
+        CAPTURE(id);
+        const std::string h = std::string("//*[@id='") + id + "']";
+        CHECK(count_xpath(root, h + "//*[" + has_class("bar") + "]") >= 1);
+        CHECK(count_xpath(root, h + "//*[" + has_class("spec-limit") + "]") == 0);  // the demo spec has no Rf/Rg limits
+        int lamps = 0;  // every lamp in a bar: the bars' titles end "N lamps"
+        for (const auto& b : root.select_nodes((h + "//*[" + has_class("bar") + "]/*[local-name()='title']").c_str())) {
+            const std::string t = b.node().text().get();
+            lamps += std::stoi(t.substr(t.rfind(": ") + 2));
+        }
+        CHECK(lamps == 40);
+    }
     check_self_contained(html);
     // The usual cautions (README, Cautions).
     for (const char* word : {"mercury", "dust", "UV", "mains", "local codes"}) CHECK(html.find(word) != std::string::npos);
@@ -151,6 +190,55 @@ TEST_CASE("qc report: JSON holds the count, pass rate, lamps and statistics") {
     CHECK(j.at("statistics").at("capability").size() == run.stats.capabilities.size());
     CHECK(j.at("bad_files").empty());
     CHECK(j.at("spec").at("region") == "ellipse");
+    // Rf and Rg in every lamp object and in the lot summaries, the mean of the lamps' values
+    // (arithmetic mean, definition); the spec's TM-30 limits, null when the spec has none
+    // (docs/output-schemas.md).
+    double rf_sum = 0;
+    for (const auto& l : j.at("lamps")) rf_sum += l.at("Rf").get<double>();
+    bool rf_summary = false, rg_summary = false;
+    for (const auto& q : j.at("statistics").at("summaries")) {
+        if (q.at("quantity") == "Rf") {
+            rf_summary = true;
+            CHECK(std::abs(q.at("mean").get<double>() - rf_sum / 40.0) < 0.005);  // the lamps' JSON Rf has 2 decimals
+        }
+        if (q.at("quantity") == "Rg") rg_summary = q.at("sd").is_number();
+    }
+    CHECK(rf_summary);
+    CHECK(rg_summary);
+    const auto& limits = j.at("spec").at("limits");
+    CHECK(limits.at("min_rf").is_null());
+    CHECK(limits.at("max_rg").is_null());
+    REQUIRE(limits.at("hue_bins").size() == 16);
+    CHECK(limits.at("hue_bins")[15].at("bin") == 16);
+    CHECK(limits.at("hue_bins")[15].at("max_rcs").is_null());
+}
+
+TEST_CASE("qc report: text shows each lamp's Rf and Rg and the TM-30 limits; JSON gives the per-bin limits") {
+    QcRun run = demo_run();
+    run.spec.rf_min = 70;
+    run.spec.rcs_h_min_percent[0] = -12.5;
+    run.spec.rcs_h_max_percent[0] = 7;
+    const std::string t = qc_text(run);
+    // The lamp table's header names Rf and Rg after R9; the limits line lists the new limits.
+    CHECK(t.find("R9     Rf     Rg  steps") != std::string::npos);
+    CHECK(t.find("Rf ≥ 70") != std::string::npos);
+    CHECK(t.find("Rcs,h1 -12.5 to 7 %") != std::string::npos);
+    const auto& l0 = run.lamps.front();
+    CHECK(t.find(fmt::format("{:.1f}", l0.assessment.fidelity->rg)) != std::string::npos);
+    const auto j = nlohmann::json::parse(qc_json(run).dump());
+    const auto& b1 = j.at("spec").at("limits").at("hue_bins")[0];
+    CHECK(b1.at("min_rcs") == -12.5);  // the values set above
+    CHECK(b1.at("max_rcs") == 7);
+    CHECK(b1.at("min_rf").is_null());
+    CHECK(j.at("spec").at("limits").at("min_rf") == 70);
+    // The HTML histograms mark the spec's Rf minimum and both Rg limits.
+    run.spec.rg_min = 90;
+    run.spec.rg_max = 110;
+    pugi::xml_document doc;
+    const std::string html = qc_html_report(run);
+    REQUIRE(doc.load_string(html.c_str(), pugi::parse_default | pugi::parse_doctype));
+    CHECK(count_xpath(doc.document_element(), "//*[@id='hist-rf']//*[" + has_class("spec-limit") + "]") == 1);
+    CHECK(count_xpath(doc.document_element(), "//*[@id='hist-rg']//*[" + has_class("spec-limit") + "]") == 2);
 }
 
 TEST_CASE("qc report: tolerance region of an n-step ellipse lies n steps from the centre") {
@@ -249,6 +337,10 @@ TEST_CASE("qc report: synthetic lot with awkward names, a far lamp and a bad fil
     CHECK(cols.front() == "name");
     for (const char* c : {"file", "steps", "inside_region", "pass", "failures", "outlier"})
         CHECK(std::find(cols.begin(), cols.end(), c) != cols.end());
+    // Rf and Rg are the last two columns (docs/output-schemas.md), empty for a lamp without a CCT.
+    REQUIRE(cols.size() >= 2);
+    CHECK(cols[cols.size() - 2] == "Rf");
+    CHECK(cols.back() == "Rg");
     const auto j = nlohmann::json::parse(qc_json(run).dump());
     CHECK(j.at("count") == 3);
     CHECK(j.at("pass_rate").get<double>() == doctest::Approx(2.0 / 3.0));

@@ -40,6 +40,12 @@ const NumberRange kToleranceRange{.min = 0, .max = 0.05, .unit = "delta u'v'", .
 const NumberRange kMinRaRange{.min = -100, .max = 100, .unit = "Ra"};
 // CIE 224:2017 eq. 10: Rf lies in 0-100.
 const NumberRange kMinRfRange{.min = 0, .max = 100, .unit = "Rf"};
+// TM-30-20 Rg of white-light sources lies roughly in 60-140 (its CVG axes); 0-200 leaves room for
+// any blend (common practice, no source). Rcs,h1 is a chroma change in per cent of the
+// reference's chroma: -100 % is no chroma left; +-100 % bounds what any white light gives
+// (common practice, no source).
+const NumberRange kRgRange{.min = 0, .max = 200, .unit = "Rg", .min_exclusive = true};
+const NumberRange kRcsRange{.min = -100, .max = 100, .unit = "%", .note = "Rcs,h1 in per cent"};
 const NumberRange kMinR9Range{.min = -300, .max = 100, .unit = "R9"};
 const NumberRange kMinLerRange{.min = 0, .max = 683, .unit = "lm/W", .note = "683 lm/W is the most any light can reach"};
 const NumberRange kAnsiRange{.min = 2200, .max = 6500, .unit = "K", .whole = true};
@@ -65,10 +71,11 @@ const NumberRange kBatchSizeRange = source_range("batch_size", "lamps");
 const NumberRange kXRange{.min = 0, .max = 1, .unit = "(CIE 1931 x or y)", .min_exclusive = true};
 const NumberRange kUvRange{.min = 0, .max = 1, .unit = "(CIE 1976 u' or v')", .min_exclusive = true};
 
-std::pair<double, double> parse_pair(const std::string& s, const std::string& option, const NumberRange& range) {
+std::pair<double, double> parse_pair(const std::string& s, const std::string& option, const NumberRange& range,
+                                     const char* example = "0.3805,0.3768") {
     const auto comma = s.find(',');
     if (comma == std::string::npos || s.find(',', comma + 1) != std::string::npos)
-        throw UsageError{fmt::format("fit: --{} needs two numbers separated by a comma (e.g. 0.3805,0.3768), not '{}'", option, s)};
+        throw UsageError{fmt::format("fit: --{} needs two numbers separated by a comma (e.g. {}), not '{}'", option, example, s)};
     try {
         return {parse_number(s.substr(0, comma), option, range), parse_number(s.substr(comma + 1), option, range)};
     } catch (const UsageError& e) {
@@ -137,7 +144,8 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     int ansi = 0, points = 30, choose = 0;
     std::string front, front_csv_path, front_svg_path, weighing_sigma, peak_sigma, qe_sigma, d50_sigma, absorption_sigma;
     long long draws = 100000, seed = 1;
-    double min_ra = 0, min_r9 = 0, min_ler = 0, min_rf = 0;
+    double min_ra = 0, min_r9 = 0, min_ler = 0, min_rf = 0, min_rg = 0, max_rg = 0;
+    std::string rcs_h1;
     opts.add_options()("help,h", "show this help");
     add_number_option(opts, "cct", &cct, kCctRange, "target CCT");
     add_number_option(opts, "duv", &duv, kDuvRange, "target Duv (with --cct; default 0)");
@@ -152,6 +160,10 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     add_number_option(opts, "min-r9", &min_r9, kMinR9Range, "require R9 >= this");
     add_number_option(opts, "min-ler", &min_ler, kMinLerRange, "require LER >= this");
     add_number_option(opts, "min-rf", &min_rf, kMinRfRange, "require CIE 224 Rf >= this (blend recipes)");
+    add_number_option(opts, "min-rg", &min_rg, kRgRange, "require TM-30-20 Rg >= this (blend recipes)");
+    add_number_option(opts, "max-rg", &max_rg, kRgRange, "require TM-30-20 Rg <= this (blend recipes)");
+    opts.add_options()("rcs-h1", po::value(&rcs_h1)->value_name("LO,HI"),
+                       ("require LO <= TM-30-20 Rcs,h1 <= HI, per cent (blend recipes) [each " + kRcsRange.describe() + "]").c_str());
     opts.add_options()("method", po::value(&method), "auto | exact | nlopt (default auto)")
         ("sensitivity", "text format: also print what one percentage point more of each component does to u', v', CCT, Duv, Ra")
         ("recipe-out", po::value(&recipe_out), "write the fitted recipe (TOML, loadable by 'blend')")
@@ -237,13 +249,23 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     if (vm.count("min-r9")) p.min_r9 = min_r9;
     if (vm.count("min-ler")) p.min_ler = min_ler;
     if (vm.count("min-rf")) p.min_rf = min_rf;
+    if (vm.count("min-rg")) p.min_rg = min_rg;
+    if (vm.count("max-rg")) p.max_rg = max_rg;
+    if (p.min_rg && p.max_rg && *p.min_rg > *p.max_rg)
+        throw UsageError{fmt::format("fit: --min-rg {:g} is above --max-rg {:g}", *p.min_rg, *p.max_rg)};
+    if (vm.count("rcs-h1")) {
+        const auto [lo, hi] = parse_pair(rcs_h1, "rcs-h1", kRcsRange, "-5,15");
+        if (lo > hi) throw UsageError{fmt::format("fit: --rcs-h1 {}: the low end {:g} is above the high end {:g}", rcs_h1, lo, hi)};
+        p.min_rcs_h1_percent = lo;
+        p.max_rcs_h1_percent = hi;
+    }
 
     std::vector<FileRole> inputs{{recipes.front(), "the recipe"}};
     add_inputs(inputs, folders, "--phosphors folder");
     check_outputs_apart({{recipe_out, "--recipe-out"}, {front_csv_path, "--front-csv"}, {front_svg_path, "--front-svg"}}, inputs);
 
     if (const TomlDoc doc = TomlDoc::from_file(recipes.front()); is_layer_design(doc)) {
-        for (const char* o : {"front", "choose", "tolerance-run", "sensitivity", "min-ler", "min-rf", "method"})
+        for (const char* o : {"front", "choose", "tolerance-run", "sensitivity", "min-ler", "min-rf", "min-rg", "max-rg", "rcs-h1", "method"})
             if (vm.count(o)) throw UsageError{fmt::format("fit: --{} applies to blend recipes, not to LED layer designs", o)};
         LayerFitProblem lp;
         lp.design = layer_design_from_toml(doc, folders);

@@ -19,7 +19,7 @@ namespace {
 
 // Inner margins, so that answers re-checked on fractions rounded to 6 decimals still hold.
 constexpr double kChromaticityMargin = 0.99;  // solve to 99 % of the tolerance
-constexpr double kIndexMargin = 0.01;         // Ra, R9, LER, Rf lower bounds + 0.01
+constexpr double kIndexMargin = 0.01;         // Ra, R9, LER, Rf, Rg, Rcs,h1 bounds moved inwards by 0.01
 constexpr double kDropFraction = 1e-5;        // fractions below this are set to zero
 constexpr double kActiveFraction = 1e-4;      // a fraction this close to its limit is active
 constexpr double kFractionRounding = 5e-7;    // a result's fractions are rounded to 6 decimals (tidy)
@@ -294,9 +294,33 @@ double nlopt_objective(unsigned n, const double* z, double*, void* data) {
     return -search_objective(*c.p, e.a, e.efficacy, c.w, c.w0);
 }
 
+// The TM-30 constraints, g <= 0 when met (moved inwards by kIndexMargin): 0 Rf >=, 1 Rg >=,
+// 2 Rg <=, 3 Rcs,h1 >=, 4 Rcs,h1 <=. Shared by the full-space and the on-target searches.
+constexpr int kFidelityConstraints = 5;
+bool fidelity_constraint_set(const FitProblem& p, int k) {
+    switch (k) {
+        case 0: return p.min_rf.has_value();
+        case 1: return p.min_rg.has_value();
+        case 2: return p.max_rg.has_value();
+        case 3: return p.min_rcs_h1_percent.has_value();
+        default: return p.max_rcs_h1_percent.has_value();
+    }
+}
+double fidelity_constraint(const FitProblem& p, const Assessment& a, int k) {
+    if (!a.fidelity) return kPenalty;
+    const ColourFidelity& f = *a.fidelity;
+    switch (k) {
+        case 0: return (*p.min_rf + kIndexMargin) - f.rf;
+        case 1: return (*p.min_rg + kIndexMargin) - f.rg;
+        case 2: return f.rg - (*p.max_rg - kIndexMargin);
+        case 3: return (*p.min_rcs_h1_percent + kIndexMargin) - f.rcs_h_percent[0];
+        default: return f.rcs_h_percent[0] - (*p.max_rcs_h1_percent - kIndexMargin);
+    }
+}
+
 struct IndexConstraint {
     NloptContext* c;
-    int which;  // 0 chromaticity, 1 Ra, 2 R9, 3 LER, 4 elim >= lo, 5 elim <= hi, 6 Rf
+    int which;  // 0 chromaticity, 1 Ra, 2 R9, 3 LER, 4 elim >= lo, 5 elim <= hi, 6 + k TM-30 constraint k
 };
 
 double nlopt_constraint(unsigned n, const double* z, double*, void* data) {
@@ -315,8 +339,8 @@ double nlopt_constraint(unsigned n, const double* z, double*, void* data) {
         case 0: return chromaticity_ratio2(p, e.a) - kChromaticityMargin * kChromaticityMargin;
         case 1: return e.a.rendering ? (*p.min_ra + kIndexMargin) - e.a.rendering->ra : kPenalty;
         case 2: return e.a.rendering ? (*p.min_r9 + kIndexMargin) - e.a.rendering->ri[8] : kPenalty;
-        case 6: return e.a.fidelity ? (*p.min_rf + kIndexMargin) - e.a.fidelity->rf : kPenalty;
-        default: return (*p.min_ler + kIndexMargin) - e.a.ler_lm_per_W;
+        case 3: return (*p.min_ler + kIndexMargin) - e.a.ler_lm_per_W;
+        default: return fidelity_constraint(p, e.a, ic.which - 6);
     }
 }
 
@@ -341,7 +365,7 @@ std::pair<std::vector<double>, std::vector<double>> run_start(const FitProblem& 
         return {after1, after2};
     }
     std::vector<IndexConstraint> cons;
-    for (int k = 0; k < 7; ++k) cons.push_back({&ctx, k});
+    for (int k = 0; k < 6 + kFidelityConstraints; ++k) cons.push_back({&ctx, k});
     auto run = [&](int phase) {
         ctx.phase = phase;
         ctx.cached_z.clear();
@@ -359,7 +383,8 @@ std::pair<std::vector<double>, std::vector<double>> run_start(const FitProblem& 
             if (p.min_ra) o.add_inequality_constraint(nlopt_constraint, &cons[1], 1e-9);
             if (p.min_r9) o.add_inequality_constraint(nlopt_constraint, &cons[2], 1e-9);
             if (p.min_ler) o.add_inequality_constraint(nlopt_constraint, &cons[3], 1e-9);
-            if (p.min_rf) o.add_inequality_constraint(nlopt_constraint, &cons[6], 1e-9);
+            for (int k = 0; k < kFidelityConstraints; ++k)
+                if (fidelity_constraint_set(p, k)) o.add_inequality_constraint(nlopt_constraint, &cons[static_cast<std::size_t>(6 + k)], 1e-9);
         }
         o.set_xtol_abs(1e-6);
         o.set_ftol_abs(1e-7);
@@ -457,8 +482,8 @@ double on_target_index(unsigned, const double* t, double*, void* data) {
     if (!e || !(e->a.xyz.Y > 0)) return kPenalty;
     if (ic.second == 1) return e->a.rendering ? (*p.min_ra + kIndexMargin) - e->a.rendering->ra : kPenalty;
     if (ic.second == 2) return e->a.rendering ? (*p.min_r9 + kIndexMargin) - e->a.rendering->ri[8] : kPenalty;
-    if (ic.second == 4) return e->a.fidelity ? (*p.min_rf + kIndexMargin) - e->a.fidelity->rf : kPenalty;
-    return (*p.min_ler + kIndexMargin) - e->a.ler_lm_per_W;
+    if (ic.second == 3) return (*p.min_ler + kIndexMargin) - e->a.ler_lm_per_W;
+    return fidelity_constraint(p, e->a, ic.second - 4);
 }
 
 std::vector<double> run_on_target(const FitProblem& p, const FastBlend& fb, const Limits& lim, const OnTarget& set,
@@ -471,11 +496,14 @@ std::vector<double> run_on_target(const FitProblem& p, const FastBlend& fb, cons
     nlopt::opt o(nlopt::LN_COBYLA, m);
     o.set_min_objective(on_target_objective, &ctx);
     o.add_inequality_mconstraint(on_target_limits, &ctx, std::vector<double>(2 * static_cast<std::size_t>(n), 1e-12));
-    std::vector<std::pair<OnTargetContext*, int>> idx{{&ctx, 1}, {&ctx, 2}, {&ctx, 3}, {&ctx, 4}};
+    // 1 Ra, 2 R9, 3 LER, 4 + k TM-30 constraint k
+    std::vector<std::pair<OnTargetContext*, int>> idx;
+    for (int k = 1; k < 4 + kFidelityConstraints; ++k) idx.emplace_back(&ctx, k);
     if (p.min_ra) o.add_inequality_constraint(on_target_index, &idx[0], 1e-9);
     if (p.min_r9) o.add_inequality_constraint(on_target_index, &idx[1], 1e-9);
     if (p.min_ler) o.add_inequality_constraint(on_target_index, &idx[2], 1e-9);
-    if (p.min_rf) o.add_inequality_constraint(on_target_index, &idx[3], 1e-9);
+    for (int k = 0; k < kFidelityConstraints; ++k)
+        if (fidelity_constraint_set(p, k)) o.add_inequality_constraint(on_target_index, &idx[static_cast<std::size_t>(3 + k)], 1e-9);
     o.set_xtol_abs(1e-6);
     o.set_ftol_abs(1e-7);
     o.set_maxeval(opt.max_evaluations);
@@ -598,6 +626,14 @@ std::vector<ConstraintReport> check_constraints(const FitProblem& p, const std::
         const double rf = a.fidelity ? a.fidelity->rf : -kPenalty;
         lower("Rf >=", rf, *p.min_rf, 0.05, fmt::format("Rf {:.2f}, limit {:g}", rf, *p.min_rf));
     }
+    const double rg = a.fidelity ? a.fidelity->rg : -kPenalty, rcs1 = a.fidelity ? a.fidelity->rcs_h_percent[0] : -kPenalty;
+    if (p.min_rg) lower("Rg >=", rg, *p.min_rg, 0.05, fmt::format("Rg {:.2f}, limit {:g}", rg, *p.min_rg));
+    if (p.max_rg) upper("Rg <=", a.fidelity ? rg : kPenalty, *p.max_rg, 0.05, fmt::format("Rg {:.2f}, limit {:g}", rg, *p.max_rg));
+    if (p.min_rcs_h1_percent)
+        lower("Rcs,h1 >=", rcs1, *p.min_rcs_h1_percent, 0.05, fmt::format("Rcs,h1 {:.2f} %, limit {:g} %", rcs1, *p.min_rcs_h1_percent));
+    if (p.max_rcs_h1_percent)
+        upper("Rcs,h1 <=", a.fidelity ? rcs1 : kPenalty, *p.max_rcs_h1_percent, 0.05,
+              fmt::format("Rcs,h1 {:.2f} %, limit {:g} %", rcs1, *p.max_rcs_h1_percent));
     for (std::size_t i = 0; i < w.size(); ++i) {
         const auto& label = p.blend.components[i].label;
         // A fraction held at its limit (min = max: a fixed component) is rounded to 6 decimals in the
@@ -616,7 +652,10 @@ FitResult solve(const FitProblem& p, const FitOptions& opt) {
     if (p.target.ellipse && !(p.target.ellipse_steps > 0)) throw Error("the target's ellipse needs a positive number of steps");
     if (!p.target.ellipse && !(p.tolerance_uv_prime > 0)) throw Error("the chromaticity tolerance must be positive");
     const Limits lim = limits_of(p);
-    const FastBlend fb(p.blend, p.objective == FitObjective::rf || p.min_rf.has_value());
+    if (p.min_rg && p.max_rg && *p.min_rg > *p.max_rg) throw Error(fmt::format("the Rg range is empty: minimum {:g} above maximum {:g}", *p.min_rg, *p.max_rg));
+    if (p.min_rcs_h1_percent && p.max_rcs_h1_percent && *p.min_rcs_h1_percent > *p.max_rcs_h1_percent)
+        throw Error(fmt::format("the Rcs,h1 range is empty: {:g} % above {:g} %", *p.min_rcs_h1_percent, *p.max_rcs_h1_percent));
+    const FastBlend fb(p.blend, p.needs_fidelity());
     FitResult r;
 
     std::vector<std::vector<double>> starts;

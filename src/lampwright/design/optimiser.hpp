@@ -55,6 +55,14 @@ struct FitProblem {
     std::vector<double> min_fraction, max_fraction;
     std::optional<double> min_ra, min_r9, min_ler;
     std::optional<double> min_rf;  // CIE 224:2017 Rf lower bound (blend recipes)
+    // ANSI/IES TM-30-20 gamut index bounds and a range on the local chroma shift of hue bin 1
+    // (Rcs,h1, per cent; the reds, the bin TM-30-20 Annex E limits). Blend recipes.
+    std::optional<double> min_rg, max_rg;
+    std::optional<double> min_rcs_h1_percent, max_rcs_h1_percent;
+    // Any constraint or the objective needs CIE 224 / TM-30 figures during the search.
+    bool needs_fidelity() const {
+        return objective == FitObjective::rf || min_rf || min_rg || max_rg || min_rcs_h1_percent || max_rcs_h1_percent;
+    }
 };
 
 enum class FitMethod { automatic, exact, nlopt };

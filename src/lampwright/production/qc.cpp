@@ -10,8 +10,10 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <array>
 #include <atomic>
 #include <cmath>
+#include <cstdint>
 #include <exception>
 #include <filesystem>
 #include <map>
@@ -92,9 +94,11 @@ QcSpec load_qc_spec(const std::string& path) {
         doc.fail(t, "target", e.what());
     }
     if (const auto* l = doc.table(r, "limits", "")) {
-        doc.only_keys(*l, {"ra_min", "r9_min", "cct_min_K", "cct_max_K", "duv_min", "duv_max", "flux_min_lm", "flux_max_lm", "efficacy_min_lm_per_W",
-                           "min_rf", "min_rg", "max_rg"},
-                      "limits");
+        std::vector<std::string> known{"ra_min", "r9_min", "cct_min_K", "cct_max_K", "duv_min", "duv_max", "flux_min_lm", "flux_max_lm", "efficacy_min_lm_per_W",
+                                       "min_rf", "min_rg", "max_rg"};
+        for (int j = 1; j <= kTm30HueBins; ++j)
+            for (const char* k : {"min_rf_h", "min_rcs_h", "max_rcs_h"}) known.push_back(fmt::format("{}{}", k, j));
+        doc.only_keys(*l, known, "limits");
         s.ra_min = doc.number(*l, "ra_min", "limits");
         s.r9_min = doc.number(*l, "r9_min", "limits");
         s.cct_min_K = doc.number(*l, "cct_min_K", "limits");
@@ -125,6 +129,23 @@ QcSpec load_qc_spec(const std::string& path) {
                 doc.fail(l->get(k), std::string("limits.") + k, fmt::format("must be a number above 0 (TM-30 Rg, 100 for the reference), not {:g}", *v));
         if (s.rg_min && s.rg_max && *s.rg_min >= *s.rg_max)
             doc.fail(l->get("min_rg"), "limits", fmt::format("min_rg ({:g}) must be below max_rg ({:g})", *s.rg_min, *s.rg_max));
+        // TM-30-20 hue bins: Rf,hj lies in 0-100 like Rf (CIE 224:2017 eq. 10 on the bin's mean
+        // difference); Rcs,hj is a chroma change in per cent of the reference's, -100 % meaning no
+        // chroma left; +-100 % bounds what a white light gives (common practice, no source).
+        for (std::size_t j = 0; j < static_cast<std::size_t>(kTm30HueBins); ++j) {
+            const std::string rf_key = fmt::format("min_rf_h{}", j + 1), lo_key = fmt::format("min_rcs_h{}", j + 1), hi_key = fmt::format("max_rcs_h{}", j + 1);
+            s.rf_h_min[j] = doc.number(*l, rf_key, "limits");
+            s.rcs_h_min_percent[j] = doc.number(*l, lo_key, "limits");
+            s.rcs_h_max_percent[j] = doc.number(*l, hi_key, "limits");
+            if (const auto& v = s.rf_h_min[j]; v && !(*v >= 0 && *v <= 100))
+                doc.fail(l->get(rf_key), "limits." + rf_key, fmt::format("must lie in 0-100 (TM-30-20 Rf,h{}), not {:g}", j + 1, *v));
+            for (const auto* k : {&lo_key, &hi_key})
+                if (const auto v = doc.number(*l, *k, "limits"); v && !(*v >= -100 && *v <= 100))
+                    doc.fail(l->get(*k), "limits." + *k, fmt::format("must lie in -100 to 100 (TM-30-20 Rcs,h{}, per cent), not {:g}", j + 1, *v));
+            if (s.rcs_h_min_percent[j] && s.rcs_h_max_percent[j] && *s.rcs_h_min_percent[j] > *s.rcs_h_max_percent[j])
+                doc.fail(l->get(lo_key), "limits",
+                         fmt::format("{} ({:g}) must not be above {} ({:g})", lo_key, *s.rcs_h_min_percent[j], hi_key, *s.rcs_h_max_percent[j]));
+        }
         if (s.cct_min_K && s.cct_max_K && *s.cct_min_K >= *s.cct_max_K) doc.fail(l->get("cct_min_K"), "limits", fmt::format("cct_min_K ({:g}) must be below cct_max_K ({:g})", *s.cct_min_K, *s.cct_max_K));
         if (s.duv_min && s.duv_max && *s.duv_min >= *s.duv_max) doc.fail(l->get("duv_min"), "limits", fmt::format("duv_min ({:g}) must be below duv_max ({:g})", *s.duv_min, *s.duv_max));
         if ((s.cct_min_K && *s.cct_min_K < 100) || (s.cct_max_K && *s.cct_max_K < 100))
@@ -163,6 +184,17 @@ LampResult judge_lamp(const QcSpec& spec, Assessment a) {
     if (spec.rf_min && !(rf >= *spec.rf_min)) r.failures.push_back(std::isfinite(rf) ? fmt::format("Rf {:.1f} < {:g}", rf, *spec.rf_min) : "Rf not defined (no CCT)");
     if (spec.rg_min && !(rg >= *spec.rg_min)) r.failures.push_back(std::isfinite(rg) ? fmt::format("Rg {:.1f} < {:g}", rg, *spec.rg_min) : "Rg not defined (no CCT)");
     if (spec.rg_max && !(rg <= *spec.rg_max)) r.failures.push_back(std::isfinite(rg) ? fmt::format("Rg {:.1f} > {:g}", rg, *spec.rg_max) : "Rg not defined (no CCT)");
+    for (std::size_t j = 0; j < static_cast<std::size_t>(kTm30HueBins); ++j) {
+        // NaN (no CCT, or no sample in the bin) fails, as for Rf.
+        const double rfh = A.fidelity ? A.fidelity->rf_h[j] : NAN, rcs = A.fidelity ? A.fidelity->rcs_h_percent[j] : NAN;
+        const auto undefined = [&](const char* what) { return fmt::format("{},h{} not defined{}", what, j + 1, A.fidelity ? "" : " (no CCT)"); };
+        if (const auto& v = spec.rf_h_min[j]; v && !(rfh >= *v))
+            r.failures.push_back(std::isfinite(rfh) ? fmt::format("Rf,h{} {:.1f} < {:g}", j + 1, rfh, *v) : undefined("Rf"));
+        if (const auto& v = spec.rcs_h_min_percent[j]; v && !(rcs >= *v))
+            r.failures.push_back(std::isfinite(rcs) ? fmt::format("Rcs,h{} {:.1f} % < {:g} %", j + 1, rcs, *v) : undefined("Rcs"));
+        if (const auto& v = spec.rcs_h_max_percent[j]; v && !(rcs <= *v))
+            r.failures.push_back(std::isfinite(rcs) ? fmt::format("Rcs,h{} {:.1f} % > {:g} %", j + 1, rcs, *v) : undefined("Rcs"));
+    }
     if (spec.cct_min_K && !(has_cct && A.cct.cct_K >= *spec.cct_min_K))
         r.failures.push_back(has_cct ? fmt::format("CCT {:.0f} K < {:g} K", A.cct.cct_K, *spec.cct_min_K) : "no CCT");
     if (spec.cct_max_K && !(has_cct && A.cct.cct_K <= *spec.cct_max_K))
@@ -308,6 +340,39 @@ unsigned qc_worker_count(unsigned requested, std::size_t files) {
     return static_cast<unsigned>(std::min<std::size_t>(wanted, std::max<std::size_t>(1, files)));
 }
 
+namespace {
+
+// The centroid spectrum's running sum in fixed point (units of 2^-40 of a lamp's 380-780 nm sum):
+// integer sums do not depend on the order the workers add lamps in, so the centroid is the same
+// for any thread count. A value is at most a few times its lamp's sum (negative noise aside), so
+// 2^40 per lamp leaves room for millions of lamps in an int64.
+constexpr double kCentroidScale = 1099511627776.0;  // 2^40
+struct CentroidSum {
+    std::array<std::int64_t, kColourSize> sum{};
+    int first = kColourFirstNm, last = kColourLastNm;  // the wavelengths every lamp so far covers
+    std::size_t lamps = 0;
+    void add(const Spectrum& s) {
+        double total = 0;
+        for (int nm = std::max(380, s.first_nm); nm <= std::min(780, s.last_nm()); ++nm) total += s.values[static_cast<std::size_t>(nm - s.first_nm)];
+        if (!(total > 0) || !std::isfinite(total)) return;
+        first = std::max(first, s.first_nm);
+        last = std::min(last, s.last_nm());
+        for (int nm = std::max(kColourFirstNm, s.first_nm); nm <= std::min(kColourLastNm, s.last_nm()); ++nm) {
+            const double v = std::clamp(s.values[static_cast<std::size_t>(nm - s.first_nm)] / total, -4.0, 4.0);
+            sum[static_cast<std::size_t>(nm - kColourFirstNm)] += std::llround(v * kCentroidScale);
+        }
+        ++lamps;
+    }
+    void add(const CentroidSum& o) {
+        for (std::size_t i = 0; i < sum.size(); ++i) sum[i] += o.sum[i];
+        first = std::max(first, o.first);
+        last = std::min(last, o.last);
+        lamps += o.lamps;
+    }
+};
+
+}  // namespace
+
 QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigned threads, const ProgressCallback& progress,
              const SpectrumReadOptions& read, bool keep_spectra) {
     QcRun run;
@@ -321,14 +386,20 @@ QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigne
     (void)assess(planckian(3000), options);  // build the shared tables before the workers start
     std::exception_ptr unexpected;  // anything that is not std::exception: rethrown after the join
     std::mutex unexpected_mutex;
+    CentroidSum centroid;
+    std::mutex centroid_mutex;
     auto worker = [&] {
+        CentroidSum local;
         for (std::size_t i = next++; i < files.size(); i = next++) {
             try {
                 const std::string bytes = read_text_file(files[i]);
                 const SpectrumFile f = parse_spectrum_bytes(bytes, files[i], read);
                 const std::string hash = content_hash(bytes);
+                CentroidSum file_sum;
                 for (const auto& s : f.spectra) {
-                    LampResult lr = judge_lamp(spec, assess(resample_to_1nm(s), options));
+                    const Spectrum one_nm = resample_to_1nm(s);
+                    file_sum.add(one_nm);
+                    LampResult lr = judge_lamp(spec, assess(one_nm, options));
                     // The file's warnings (a gap in the data, negative noise) hold for each of its lamps.
                     lr.assessment.warnings.insert(lr.assessment.warnings.begin(), f.warnings.begin(), f.warnings.end());
                     lr.file = sanitize_utf8(files[i]);  // shown and stored; the path itself may be in any encoding
@@ -336,6 +407,7 @@ QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigne
                     if (keep_spectra) lr.spectrum = s;
                     per_file[i].push_back(std::move(lr));
                 }
+                local.add(file_sum);  // only a file judged whole counts
             } catch (const InputError& e) {
                 bad[i] = BadFile{files[i], e.line() ? fmt::format("line {}: {}", e.line(), e.problem()) : e.problem()};
                 per_file[i].clear();
@@ -363,6 +435,8 @@ QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigne
                 }
             }
         }
+        std::lock_guard<std::mutex> lock(centroid_mutex);
+        centroid.add(local);
     };
     threads = qc_worker_count(threads, files.size());
     {
@@ -390,6 +464,12 @@ QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigne
         for (auto& l : per_file[i]) run.lamps.push_back(std::move(l));
     }
     run.stats = lot_statistics(spec, run.lamps);
+    if (centroid.lamps > 0 && centroid.first <= centroid.last) {
+        std::vector<double> v;
+        for (int nm = centroid.first; nm <= centroid.last; ++nm)
+            v.push_back(static_cast<double>(centroid.sum[static_cast<std::size_t>(nm - kColourFirstNm)]) / kCentroidScale / static_cast<double>(centroid.lamps));
+        run.centroid = assess(Spectrum("lot centroid", centroid.first, std::move(v)), options);
+    }
     return run;
 }
 
@@ -415,6 +495,7 @@ double outlier_scale_floor(const std::string& quantity) {
     if (quantity == "cct_K") return 10;
     if (quantity == "Ra") return 0.5;
     if (quantity == "R9") return 1;
+    if (quantity == "Rf" || quantity == "Rg") return 0.5;  // like Ra (common practice, no source)
     if (quantity == "steps") return 0.2;
     return 0;
 }
@@ -446,6 +527,9 @@ LotStatistics lot_statistics(const QcSpec& spec, std::vector<LampResult>& lamps)
         {"steps", [](const LampResult& l) { return l.steps; }, {}, {}},
         {"flux_lm", [](const LampResult& l) { return l.assessment.luminous_flux_lm.value_or(NAN); }, spec.flux_min_lm, spec.flux_max_lm},
         {"efficacy_lm_per_W", [](const LampResult& l) { return l.assessment.efficacy_lm_per_W.value_or(NAN); }, spec.efficacy_min_lm_per_W, {}},
+        // CIE 224:2017 Rf and TM-30-20 Rg: appended, so the earlier quantities keep their places.
+        {"Rf", [](const LampResult& l) { return l.assessment.fidelity ? l.assessment.fidelity->rf : NAN; }, spec.rf_min, {}},
+        {"Rg", [](const LampResult& l) { return l.assessment.fidelity ? l.assessment.fidelity->rg : NAN; }, spec.rg_min, spec.rg_max},
     };
     // Pass 1: robust outliers, so that pass 2 can give the statistics with and without them.
     std::vector<std::string> notes(lamps.size());

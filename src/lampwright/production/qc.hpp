@@ -6,6 +6,7 @@
 #include "lampwright/design/targets.hpp"
 #include "lampwright/io/spectrum_io.hpp"
 
+#include <array>
 #include <functional>
 #include <optional>
 #include <string>
@@ -31,6 +32,10 @@ struct QcSpec {
     // CIE 224:2017 Rf and ANSI/IES TM-30-20 Rg limits (keys min_rf, min_rg, max_rg, as issue 13
     // names them). A lamp without a CCT has neither and fails them.
     std::optional<double> rf_min, rg_min, rg_max;
+    // Per hue bin j = 1..16 (TM-30-20 bins of 22.5 degrees, index j - 1): a floor on Rf,hj (key
+    // min_rf_hj) and a range on the local chroma shift Rcs,hj in per cent (keys min_rcs_hj,
+    // max_rcs_hj), named like min_rf / min_rg / max_rg. A bin without samples fails its limits.
+    std::array<std::optional<double>, kTm30HueBins> rf_h_min{}, rcs_h_min_percent{}, rcs_h_max_percent{};
 };
 
 // Spec files (TOML):
@@ -42,6 +47,7 @@ struct QcSpec {
 //   [limits]  ra_min = 80  r9_min = 0  cct_min_K = 3800  cct_max_K = 4300  duv_min = -0.006  duv_max = 0.006
 //             flux_min_lm = 1200  flux_max_lm = 1400  efficacy_min_lm_per_W = 90   # absolute spectra only
 //             min_rf = 80  min_rg = 95  max_rg = 110                               # CIE 224 / TM-30-20
+//             min_rf_h1 = 75  min_rcs_h1 = -5  max_rcs_h1 = 15  (... _h16)         # TM-30-20 hue bins
 QcSpec load_qc_spec(const std::string& path);
 
 struct LampResult {
@@ -87,10 +93,10 @@ struct LotStatistics {
         std::string quantity;
         double mean = 0, sd = 0, min = 0, max = 0;
     };
-    std::vector<Summary> summaries;  // x, y, cct_K, duv, Ra, R9, steps, flux_lm, efficacy_lm_per_W (NaN: no lamp has one)
+    std::vector<Summary> summaries;  // x, y, cct_K, duv, Ra, R9, steps, flux_lm, efficacy_lm_per_W, Rf, Rg (NaN: no lamp has one)
     Chromaticity centroid;
     double centroid_steps = 0;
-    // x, y, CCT, Duv, Ra, R9 where the spec limits them. Not MacAdam steps: a distance from the
+    // x, y, CCT, Duv, Ra, R9, flux, efficacy, Rf, Rg where the spec limits them. Not MacAdam steps: a distance from the
     // centre is not normally distributed, so a normal-theory index on it means little; the
     // fraction outside the region says what the index would have tried to.
     std::vector<Capability> capabilities;
@@ -104,6 +110,10 @@ struct QcRun {
     std::vector<LampResult> lamps;
     std::vector<BadFile> bad_files;
     LotStatistics stats;
+    // The lot's centroid spectrum, assessed (for the report's colour vector graphic): the mean of
+    // the lamps' 1 nm spectra, each scaled to unit sum over 380-780 nm, on the wavelengths every
+    // lamp covers. None without lamps, or when the lamps share no wavelengths.
+    std::optional<Assessment> centroid;
 };
 
 using ProgressCallback = std::function<void(std::size_t done, std::size_t total)>;

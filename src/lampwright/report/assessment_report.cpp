@@ -93,18 +93,20 @@ std::string fidelity_text(const Assessment& a) {
                        format_fixed(f.rg, 1), ref, f.interval_nm);
 }
 
-std::string colour_vector_graphic_svg(const std::vector<Assessment>& assessments) {
+namespace {
+
+constexpr int kCvgSize = 460;  // one panel of the colour vector graphic, px
+
+// One panel of the TM-30-20 colour vector graphic (the assessment has TM-30 figures), moved down by y0.
+std::string colour_vector_graphic_panel(const Assessment& a, int y0) {
     // TM-30-20 colour vector graphic, normalised: each bin's reference average is put on the unit
     // circle at its own hue, and the test average is moved from there by the bin's (da', db')
     // divided by the reference average's radius.
-    constexpr int kSize = 460;
+    constexpr int kSize = kCvgSize;
     constexpr double kCentre = kSize / 2.0, kRadius = 150;
-    std::string body;
-    int y0 = 0;
     const auto px = [&](double u) { return kCentre + kRadius * u; };
     const auto py = [&](double v) { return kCentre - kRadius * v; };
-    for (const auto& a : assessments) {
-        if (!a.fidelity) continue;
+    {
         const auto& f = *a.fidelity;
         std::string g = fmt::format(R"s(<g transform="translate(0,{})">)s", y0) + "\n";
         g += fmt::format(R"s(<rect x="0" y="0" width="{0}" height="{0}" fill="#fff" stroke="#999"/>)s", kSize) + "\n";
@@ -147,11 +149,28 @@ std::string colour_vector_graphic_svg(const std::vector<Assessment>& assessments
                              kSize - 64 + 16 * k, lines[k]) + "\n";
         g += fmt::format(R"s(<text x="10" y="{}" font-family="sans-serif" font-size="10" fill="#555">dashed: reference; solid: test (TM-30-20, CAM02-UCS)</text>)s",
                          kSize - 10) + "\n";
-        body += g + "</g>\n";
-        y0 += kSize;
+        return g + "</g>\n";
     }
-    return fmt::format(R"s(<svg xmlns="http://www.w3.org/2000/svg" width="{0}" height="{1}" viewBox="0 0 {0} {1}">)s", kSize,
+}
+
+}  // namespace
+
+std::string colour_vector_graphic_svg(const std::vector<Assessment>& assessments) {
+    std::string body;
+    int y0 = 0;
+    for (const auto& a : assessments) {
+        if (!a.fidelity) continue;
+        body += colour_vector_graphic_panel(a, y0);
+        y0 += kCvgSize;
+    }
+    return fmt::format(R"s(<svg xmlns="http://www.w3.org/2000/svg" width="{0}" height="{1}" viewBox="0 0 {0} {1}">)s", kCvgSize,
                        std::max(y0, 1)) + "\n" + body + "</svg>\n";
+}
+
+std::string colour_vector_graphic_svg(const Assessment& a, const std::string& id) {
+    if (!a.fidelity) return "";
+    return fmt::format(R"s(<svg xmlns="http://www.w3.org/2000/svg" id="{1}" class="chart cvg" width="{0}" height="{0}" viewBox="0 0 {0} {0}">)s", kCvgSize,
+                       xml_escape(id)) + "\n" + colour_vector_graphic_panel(a, 0) + "</svg>\n";
 }
 
 std::string photometry_text(const Assessment& a) {

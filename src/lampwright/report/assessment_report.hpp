@@ -35,6 +35,9 @@ void add_fidelity_summary_json(nlohmann::ordered_json& j, const Assessment& a); 
 std::string fidelity_text(const Assessment& a);
 // The TM-30-20 colour vector graphic of each assessment, one panel per spectrum, as one SVG.
 std::string colour_vector_graphic_svg(const std::vector<Assessment>& assessments);
+// The same drawing for one assessment (with a CCT), as an SVG element with the given id, for
+// inline use in an HTML report; "" when it has no TM-30 figures.
+std::string colour_vector_graphic_svg(const Assessment& assessment, const std::string& id);
 
 // One line: "luminous flux 1234.5 lm   efficacy 85.3 lm/W at 14.50 W", or "relative spectrum: no flux".
 std::string photometry_text(const Assessment& a);

@@ -30,6 +30,8 @@ constexpr const char* kCautions =
 
 double ra_of(const LampResult& l) { return l.assessment.rendering ? l.assessment.rendering->ra : NAN; }
 double r9_of(const LampResult& l) { return l.assessment.rendering ? l.assessment.rendering->ri[8] : NAN; }
+double rf_of(const LampResult& l) { return l.assessment.fidelity ? l.assessment.fidelity->rf : NAN; }
+double rg_of(const LampResult& l) { return l.assessment.fidelity ? l.assessment.fidelity->rg : NAN; }
 double cct_of(const LampResult& l) { return l.assessment.cct.valid ? l.assessment.cct.cct_K : NAN; }
 
 std::string join(const std::vector<std::string>& v, const std::string& sep) {
@@ -53,6 +55,8 @@ QuantityFormat quantity_format(const std::string& q) {
     if (q == "steps") return {"MacAdam steps", 2};
     if (q == "flux_lm") return {"flux (lm)", 1};
     if (q == "efficacy_lm_per_W") return {"efficacy lm/W", 1};
+    if (q == "Rf") return {"Rf", 1};
+    if (q == "Rg") return {"Rg", 1};
     return {"?", 4};
 }
 
@@ -94,6 +98,17 @@ std::string limits_text(const QcSpec& s) {
     else if (s.flux_min_lm) l.push_back(fmt::format("flux ≥ {:g} lm", *s.flux_min_lm));
     else if (s.flux_max_lm) l.push_back(fmt::format("flux ≤ {:g} lm", *s.flux_max_lm));
     if (s.efficacy_min_lm_per_W) l.push_back(fmt::format("efficacy ≥ {:g} lm/W", *s.efficacy_min_lm_per_W));
+    if (s.rf_min) l.push_back(fmt::format("Rf ≥ {:g}", *s.rf_min));
+    if (s.rg_min && s.rg_max) l.push_back(fmt::format("Rg {:g}-{:g}", *s.rg_min, *s.rg_max));
+    else if (s.rg_min) l.push_back(fmt::format("Rg ≥ {:g}", *s.rg_min));
+    else if (s.rg_max) l.push_back(fmt::format("Rg ≤ {:g}", *s.rg_max));
+    for (std::size_t j = 0; j < s.rf_h_min.size(); ++j) {
+        if (s.rf_h_min[j]) l.push_back(fmt::format("Rf,h{} ≥ {:g}", j + 1, *s.rf_h_min[j]));
+        const auto &lo = s.rcs_h_min_percent[j], &hi = s.rcs_h_max_percent[j];
+        if (lo && hi) l.push_back(fmt::format("Rcs,h{} {:g} to {:g} %", j + 1, *lo, *hi));
+        else if (lo) l.push_back(fmt::format("Rcs,h{} ≥ {:g} %", j + 1, *lo));
+        else if (hi) l.push_back(fmt::format("Rcs,h{} ≤ {:g} %", j + 1, *hi));
+    }
     return l.empty() ? "none besides the chromaticity region" : join(l, ", ");
 }
 
@@ -234,7 +249,8 @@ std::string uv_diagram_svg(const QcRun& run) {
     return svg_uv_diagram("CIE 1976 u'v' chromaticity (2° observer), zoomed on the target", {}, u_min, u_max, v_min, v_max, kWidth, kHeight, ov);
 }
 
-std::string histogram_svg(const std::string& id, const std::string& quantity, const std::vector<double>& values_in, std::optional<double> minimum) {
+std::string histogram_svg(const std::string& id, const std::string& quantity, const std::vector<double>& values_in, std::optional<double> minimum,
+                          std::optional<double> maximum = std::nullopt) {
     constexpr int kWidth = 440, kHeight = 300;
     std::vector<double> values;
     for (double v : values_in)
@@ -248,8 +264,10 @@ std::string histogram_svg(const std::string& id, const std::string& quantity, co
     }
     double lo = *std::min_element(values.begin(), values.end()), hi = *std::max_element(values.begin(), values.end());
     if (minimum) lo = std::min(lo, *minimum), hi = std::max(hi, *minimum);
+    if (maximum) lo = std::min(lo, *maximum), hi = std::max(hi, *maximum);
     const double w = nice_bin(hi - lo, 10, 0.1);
-    const double anchor = minimum ? *minimum : std::floor(lo / w) * w;  // bin edges fall on the minimum
+    // Bin edges fall on the minimum (else the maximum).
+    const double anchor = minimum ? *minimum : maximum ? *maximum : std::floor(lo / w) * w;
     const long k0 = static_cast<long>(std::floor((lo - anchor) / w + 1e-9)), k1 = static_cast<long>(std::floor((hi - anchor) / w + 1e-9));
     std::vector<int> counts(static_cast<std::size_t>(k1 - k0 + 1), 0);
     for (double v : values) {
@@ -265,9 +283,9 @@ std::string histogram_svg(const std::string& id, const std::string& quantity, co
         SvgPolygon bar;
         bar.x = {a, b, b, a};
         bar.y = {0, 0, static_cast<double>(counts[i]), static_cast<double>(counts[i])};
-        const bool below = minimum && b <= *minimum + 1e-9;
-        bar.css_class = below ? "bar below-limit" : "bar";
-        bar.fill = below ? "#e07b7b" : "#6a9fd4";
+        const bool below = minimum && b <= *minimum + 1e-9, above = maximum && a >= *maximum - 1e-9;
+        bar.css_class = below ? "bar below-limit" : above ? "bar above-limit" : "bar";
+        bar.fill = below || above ? "#e07b7b" : "#6a9fd4";
         bar.stroke = "#fff";
         bar.title = fmt::format("{} {:g} to {:g}: {} lamp{}", quantity, a, b, counts[i], counts[i] == 1 ? "" : "s");
         ov.polygons.push_back(bar);
@@ -297,6 +315,19 @@ std::string histogram_svg(const std::string& id, const std::string& quantity, co
         lim.title = fmt::format("spec minimum {} {:g}", quantity, *minimum);
         ov.polygons.push_back(lim);
         ov.texts.push_back({*minimum, y_max, fmt::format("min {:g}", *minimum), "end", kFailColour, -3, 12});
+    }
+    if (maximum) {
+        SvgPolygon lim;
+        lim.closed = false;
+        lim.x = {*maximum, *maximum};
+        lim.y = {0, y_max};
+        lim.css_class = "spec-limit";
+        lim.stroke = kFailColour;
+        lim.stroke_width = 2;
+        lim.dash = "6 3";
+        lim.title = fmt::format("spec maximum {} {:g}", quantity, *maximum);
+        ov.polygons.push_back(lim);
+        ov.texts.push_back({*maximum, y_max, fmt::format("max {:g}", *maximum), "start", kFailColour, 3, 12});
     }
     return svg_chart({fmt::format("{} of the lot ({} lamps, bins of {:g})", quantity, values.size(), w), quantity, "lamps", x_min, x_max, 0, y_max, kWidth, kHeight},
                      {}, ov);
@@ -381,6 +412,7 @@ std::vector<std::string> qc_lamp_columns() {
     c.resize(c.size() - static_cast<std::size_t>(kPhotometryColumns));
     for (const char* k : {"file", "steps", "inside_region", "pass", "failures", "outlier", "outlier_note"}) c.push_back(k);
     c.insert(c.end(), photometry.begin(), photometry.end());
+    for (const auto& k : fidelity_summary_columns()) c.push_back(k);  // Rf, Rg (issue 13): appended
     return c;
 }
 
@@ -396,6 +428,7 @@ std::vector<std::string> qc_lamp_values(const LampResult& l) {
     v.push_back(l.outlier ? "true" : "false");
     v.push_back(l.outlier_note);
     v.insert(v.end(), photometry.begin(), photometry.end());
+    for (auto& x : fidelity_summary_values(l.assessment)) v.push_back(std::move(x));
     return v;
 }
 
@@ -417,15 +450,17 @@ std::string qc_text(const QcRun& run) {
         // shows "relative".
         const bool photometry = std::any_of(run.lamps.begin(), run.lamps.end(), [](const LampResult& l) { return l.assessment.absolute; });
         const std::string flux_head = photometry ? fmt::format(" {:>9} {:>6}", "flux lm", "lm/W") : "";
-        o += fmt::format("\n  {:<{}}  {:>7} {:>7} {:>6} {:>8} {:>6} {:>6} {:>6}{}  result\n", "lamp", w, "x", "y", "CCT K", "Duv", "Ra", "R9", "steps", flux_head);
+        o += fmt::format("\n  {:<{}}  {:>7} {:>7} {:>6} {:>8} {:>6} {:>6} {:>6} {:>6} {:>6}{}  result\n", "lamp", w, "x", "y", "CCT K", "Duv", "Ra", "R9", "Rf", "Rg",
+                         "steps", flux_head);
         for (const auto& l : run.lamps) {
             const auto& a = l.assessment;
             std::string flux;
             if (photometry)
                 flux = a.luminous_flux_lm ? fmt::format(" {:>9.1f} {:>6}", *a.luminous_flux_lm, a.efficacy_lm_per_W ? fmt::format("{:.1f}", *a.efficacy_lm_per_W) : "-")
                                           : fmt::format(" {:>9} {:>6}", "relative", "-");
-            o += fmt::format("  {:<{}}  {:>7.4f} {:>7.4f} {:>6} {:>8} {:>6} {:>6} {:>6.2f}{}  {}", l.name, w, a.xy.x, a.xy.y, format_fixed(cct_of(l), 0, "-"),
-                             a.cct.valid ? format_signed(a.cct.duv, 4) : "-", format_fixed(ra_of(l), 1, "-"), format_fixed(r9_of(l), 1, "-"), l.steps,
+            o += fmt::format("  {:<{}}  {:>7.4f} {:>7.4f} {:>6} {:>8} {:>6} {:>6} {:>6} {:>6} {:>6.2f}{}  {}", l.name, w, a.xy.x, a.xy.y, format_fixed(cct_of(l), 0, "-"),
+                             a.cct.valid ? format_signed(a.cct.duv, 4) : "-", format_fixed(ra_of(l), 1, "-"), format_fixed(r9_of(l), 1, "-"),
+                             format_fixed(rf_of(l), 1, "-"), format_fixed(rg_of(l), 1, "-"), l.steps,
                              flux, l.pass() ? "PASS" : "FAIL");
             if (!l.pass()) o += "  " + join(l.failures, "; ");
             if (l.outlier) o += fmt::format("  [outlier: {}]", l.outlier_note);
@@ -494,7 +529,13 @@ nlohmann::ordered_json qc_json(const QcRun& run) {
     spec["limits"] = {{"ra_min", opt_json(s.ra_min)},       {"r9_min", opt_json(s.r9_min)}, {"cct_min_K", opt_json(s.cct_min_K)},
                       {"cct_max_K", opt_json(s.cct_max_K)}, {"duv_min", opt_json(s.duv_min)}, {"duv_max", opt_json(s.duv_max)},
                       {"flux_min_lm", opt_json(s.flux_min_lm)}, {"flux_max_lm", opt_json(s.flux_max_lm)},
-                      {"efficacy_min_lm_per_W", opt_json(s.efficacy_min_lm_per_W)}};
+                      {"efficacy_min_lm_per_W", opt_json(s.efficacy_min_lm_per_W)}, {"min_rf", opt_json(s.rf_min)},
+                      {"min_rg", opt_json(s.rg_min)}, {"max_rg", opt_json(s.rg_max)}};
+    J bins = J::array();
+    for (std::size_t j = 0; j < s.rf_h_min.size(); ++j)
+        bins.push_back({{"bin", j + 1}, {"min_rf", opt_json(s.rf_h_min[j])}, {"min_rcs", opt_json(s.rcs_h_min_percent[j])},
+                        {"max_rcs", opt_json(s.rcs_h_max_percent[j])}});
+    spec["limits"]["hue_bins"] = std::move(bins);
     J j;
     j["spec"] = spec;
     j["count"] = st.count;
@@ -514,6 +555,8 @@ nlohmann::ordered_json qc_json(const QcRun& run) {
         a["failures"] = l.failures;
         a["outlier"] = l.outlier;
         a["outlier_note"] = l.outlier_note;
+        // assessment_json has no TM-30 figures (assess adds them itself): Rf and Rg last (issue 13).
+        add_fidelity_summary_json(a, l.assessment);
         lamps.push_back(std::move(a));
     }
     j["lamps"] = std::move(lamps);
@@ -589,8 +632,21 @@ std::string qc_html_report(const QcRun& run, const std::string& extra_html) {
          "an open ring: beyond the plotted window, shown at its edge). The black diamond is the lot centroid (mean x, y); the "
          "cross is the target centre. Ticks on the Planckian locus mark CCT. Histogram bars below a spec minimum are red.</p>\n";
 
+    o += "<h2>Colour fidelity and gamut (CIE 224, TM-30-20)</h2>\n<div class=\"charts\">\n";
+    if (run.centroid && run.centroid->fidelity)
+        o += "<div class=\"diagram\">" + colour_vector_graphic_svg(*run.centroid, "cvg-centroid") + "</div>\n";
+    else
+        o += "<p id=\"cvg-centroid\">No colour vector graphic: the lot's centroid spectrum has no CCT (or there are no lamps).</p>\n";
+    std::vector<double> rf, rg;
+    for (const auto& l : run.lamps) rf.push_back(rf_of(l)), rg.push_back(rg_of(l));
+    o += "<div class=\"histograms\">" + histogram_svg("hist-rf", "Rf", rf, s.rf_min) + histogram_svg("hist-rg", "Rg", rg, s.rg_min, s.rg_max) + "</div>\n";
+    o += "</div>\n";
+    o += "<p class=\"note\">The colour vector graphic is that of the lot's centroid spectrum (the mean of the lamps' spectra, each scaled to "
+         "unit sum over 380-780 nm): per hue bin the reference's average a′, b′ on the dashed circle and an arrow to the test's "
+         "(TM-30-20, CAM02-UCS). Histogram bars outside a spec limit are red.</p>\n";
+
     o += "<h2>Lamps</h2>\n<table id=\"lamp-table\">\n<thead><tr><th>#</th><th class=\"text\">lamp</th><th class=\"text\">file</th><th>x</th><th>y</th>"
-         "<th>u'</th><th>v'</th><th>CCT (K)</th><th>Duv</th><th>Ra</th><th>R9</th><th>LER (lm/W)</th><th>steps</th><th class=\"text\">result</th>"
+         "<th>u'</th><th>v'</th><th>CCT (K)</th><th>Duv</th><th>Ra</th><th>R9</th><th>Rf</th><th>Rg</th><th>LER (lm/W)</th><th>steps</th><th class=\"text\">result</th>"
          "<th class=\"text\">failed limits, notes</th></tr></thead>\n<tbody>\n";
     for (std::size_t i = 0; i < run.lamps.size(); ++i) {
         const auto& l = run.lamps[i];
@@ -598,11 +654,11 @@ std::string qc_html_report(const QcRun& run, const std::string& extra_html) {
         std::string notes = join(l.failures, "; ");
         if (l.outlier) notes += (notes.empty() ? "" : "; ") + std::string("outlier: ") + l.outlier_note;
         o += fmt::format("<tr class=\"{}{}\"><td>{}</td><td class=\"text name\">{}</td><td class=\"text\">{}</td><td>{:.4f}</td><td>{:.4f}</td><td>{:.4f}</td>"
-                         "<td>{:.4f}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{:.2f}</td><td class=\"text result\">{}</td>"
+                         "<td>{:.4f}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{:.2f}</td><td class=\"text result\">{}</td>"
                          "<td class=\"notes\">{}</td></tr>\n",
                          l.pass() ? "pass" : "fail", l.outlier ? " outlier" : "", i + 1, e(l.name), e(l.file), a.xy.x, a.xy.y, a.uv_prime.u, a.uv_prime.v,
                          format_fixed(cct_of(l), 0, "-"), a.cct.valid ? format_signed(a.cct.duv, 4) : "-", format_fixed(ra_of(l), 1, "-"), format_fixed(r9_of(l), 1, "-"),
-                         format_fixed(a.ler_lm_per_W, 1, "-"), l.steps, l.pass() ? "PASS" : "FAIL", e(notes));
+                         format_fixed(rf_of(l), 1, "-"), format_fixed(rg_of(l), 1, "-"), format_fixed(a.ler_lm_per_W, 1, "-"), l.steps, l.pass() ? "PASS" : "FAIL", e(notes));
     }
     o += "</tbody>\n</table>\n";
 

@@ -1,8 +1,9 @@
 #pragma once
 // QC reports: the lot as text, CSV, JSON, and one self-contained HTML file (inline SVG, no
 // network): u'v' diagram zoomed on the target (Planckian locus with CCT ticks, the tolerance
-// region, each lamp coloured pass/fail, the centroid), histograms of Ra and R9, a table of every
-// lamp, the lot statistics.
+// region, each lamp coloured pass/fail, the centroid), histograms of Ra and R9, the TM-30-20 colour
+// vector graphic of the lot's centroid spectrum (id "cvg-centroid") with histograms of Rf and Rg
+// ("hist-rf", "hist-rg"), a table of every lamp, the lot statistics.
 #include "lampwright/phosphor/blend.hpp"
 #include "lampwright/production/lot_correction.hpp"
 #include "lampwright/production/lot_diagnosis.hpp"
