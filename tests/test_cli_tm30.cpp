@@ -16,26 +16,16 @@
 
 namespace {
 
+using lwtest::cell;
 using lwtest::csv_cells;
+using lwtest::text_lines;
 using lwtest::quote;
 using lwtest::run_cli;
 using lwtest::TempDir;
 
 const std::string kSource = LAMPWRIGHT_SOURCE_DIR;
 
-std::vector<std::string> lines_of(const std::string& text) {
-    std::vector<std::string> v;
-    std::istringstream in(text);
-    for (std::string l; std::getline(in, l);) v.push_back(l);
-    return v;
-}
 
-std::string cell(const std::vector<std::string>& header, const std::vector<std::string>& row, const std::string& name) {
-    for (std::size_t i = 0; i < header.size(); ++i)
-        if (header[i] == name) return i < row.size() ? row[i] : "";
-    FAIL("no column " << name);
-    return "";
-}
 
 // CIE FL2 (CIE 15:2004 Table T.6, the embedded 5 nm table) as a one-spectrum file.
 std::string write_fl2(const TempDir& dir) {
@@ -58,7 +48,7 @@ TEST_CASE("cli tm30: assess prints Rf and Rg in text, the TM-30 columns in CSV (
 
     const auto csv = run_cli("assess --format csv --ces " + quote(fl2));
     REQUIRE(csv.exit_code == 0);  // common practice, no source
-    const auto rows = lines_of(csv.out);
+    const auto rows = text_lines(csv.out);
     REQUIRE(rows.size() == 2);  // header and one row; common practice, no source
     const auto h = csv_cells(rows[0]), v = csv_cells(rows[1]);
     CHECK(h.size() == v.size());  // RFC 4180 rows of equal length
@@ -80,7 +70,7 @@ TEST_CASE("cli tm30: assess prints Rf and Rg in text, the TM-30 columns in CSV (
     CHECK(std::abs(std::stod(cell(h, v, "x10")) - 0.3721) <= 0.01);
     CHECK(std::abs(std::stod(cell(h, v, "y10")) - 0.3751) <= 0.01);
     const auto no_ces = run_cli("assess --format csv " + quote(fl2));
-    CHECK(csv_cells(lines_of(no_ces.out)[0]).size() + 99 == h.size());  // --ces adds 99 columns
+    CHECK(csv_cells(text_lines(no_ces.out)[0]).size() + 99 == h.size());  // --ces adds 99 columns
 
     const auto js = run_cli("assess --format json " + quote(fl2));
     REQUIRE(js.exit_code == 0);  // common practice, no source
@@ -125,7 +115,7 @@ TEST_CASE("cli tm30: blend, layer and compare append Rf and Rg at the end of the
         CAPTURE(args);
         const auto r = run_cli(args);
         REQUIRE(r.exit_code == 0);  // common practice, no source
-        const auto rows = lines_of(r.out);
+        const auto rows = text_lines(r.out);
         REQUIRE(rows.size() >= 2);
         const auto h = csv_cells(rows[0]), v = csv_cells(rows[1]);
         REQUIRE(h.size() >= 2);

@@ -17,6 +17,7 @@
 
 namespace {
 
+using lwtest::cell;
 using lwtest::csv_cells;
 using lwtest::run_cli_args;
 using lwtest::slurp;
@@ -33,12 +34,6 @@ std::vector<std::string> lines_of(const std::string& text) {
 }
 
 
-std::string cell(const std::vector<std::string>& header, const std::vector<std::string>& row, const std::string& name) {
-    for (std::size_t i = 0; i < header.size(); ++i)
-        if (header[i] == name) return i < row.size() ? row[i] : "";
-    FAIL("no column " << name);
-    return "";
-}
 
 // The blend's spectrum (blend --spectrum-out) and its CSV row (mass fractions by the forward model).
 struct Forward {

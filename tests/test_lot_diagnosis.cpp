@@ -84,14 +84,6 @@ std::vector<double> apparent_fractions(const std::vector<double>& w, std::size_t
     return out;
 }
 
-std::vector<double> recipe_fractions(const BlendInput& b) {
-    double t = 0;
-    for (const auto& c : b.components) t += c.mass_fraction;
-    std::vector<double> w;
-    for (const auto& c : b.components) w.push_back(c.mass_fraction / t);
-    return w;
-}
-
 }  // namespace
 
 TEST_CASE("drift: a lot whose BAM absorbs 15 % less is diagnosed as BAM moved, by the drift the model predicts, within the stated uncertainty") {
@@ -103,7 +95,7 @@ TEST_CASE("drift: a lot whose BAM absorbs 15 % less is diagnosed as BAM moved, b
     REQUIRE(d.components.size() == 3);
     CHECK(d.lamps_used == 40);
     CHECK(d.bandwidth_nm == 5);
-    const auto w = recipe_fractions(recipe.blend);
+    const auto w = normalised_mass_fractions(recipe.blend);
     const auto truth = apparent_fractions(w, kBam, 0.85);
     REQUIRE(d.most_moved == static_cast<int>(kBam));
     CHECK(d.components[kBam].moved);

@@ -15,7 +15,9 @@
 namespace {
 
 using lwtest::csv_cells;
+using lwtest::cell;
 using lwtest::quote;
+using lwtest::text_lines;
 using lwtest::run_cli;
 using lwtest::TempDir;
 using nlohmann::json;
@@ -33,20 +35,8 @@ json parse_json(const std::string& text) {
     return j;
 }
 
-std::vector<std::string> csv_lines(const std::string& text) {
-    std::vector<std::string> v;
-    std::istringstream in(text);
-    for (std::string l; std::getline(in, l);) v.push_back(l);
-    return v;
-}
 
 
-std::string cell(const std::vector<std::string>& header, const std::vector<std::string>& row, const std::string& name) {
-    for (std::size_t i = 0; i < header.size(); ++i)
-        if (header[i] == name) return i < row.size() ? row[i] : "";
-    FAIL("no column " << name);
-    return "";
-}
 
 void check_warnings_array(const json& j) {
     REQUIRE(j.contains("warnings"));
@@ -226,7 +216,7 @@ TEST_CASE("schema: an infeasible blend fit prints the same CSV header as a feasi
         const auto bad = run_cli("fit -f csv " + quote(kTriband) + " --xy 0.2,0.6" + extra);  // outside the blend's triangle
         REQUIRE(ok.exit_code == 0);
         REQUIRE(bad.exit_code == 1);
-        const auto okl = csv_lines(ok.out), badl = csv_lines(bad.out);
+        const auto okl = text_lines(ok.out), badl = text_lines(bad.out);
         REQUIRE(okl.size() == 2);
         REQUIRE(badl.size() == 2);
         CHECK(badl[0] == okl[0]);
@@ -246,18 +236,18 @@ TEST_CASE("schema: an infeasible blend fit prints the same CSV header as a feasi
     // Layer fits and fronts write booleans the same way.
     const auto lf = run_cli("fit -f csv " + quote(kLayer80) + " --cct 4000");
     REQUIRE(lf.exit_code == 0);
-    const auto lfl = csv_lines(lf.out);
+    const auto lfl = text_lines(lf.out);
     REQUIRE(lfl.size() == 2);
     CHECK(cell(csv_cells(lfl[0]), csv_cells(lfl[1]), "fit_feasible") == "true");
     const auto fr = run_cli("fit -f csv " + quote(kTriband) + " --cct 4000 --front ra-efficacy --points 3");
     REQUIRE(fr.exit_code == 0);
-    const auto frl = csv_lines(fr.out);
+    const auto frl = text_lines(fr.out);
     REQUIRE(frl.size() == 4);
     CHECK(cell(csv_cells(frl[0]), csv_cells(frl[1]), "feasible") == "true");
     // compare: a blend has no pump leak fraction: an empty cell, not "-".
     const auto cmp = run_cli("compare -f csv " + quote(kLayer80) + " " + quote(kTriband));
     REQUIRE(cmp.exit_code == 0);
-    const auto cl = csv_lines(cmp.out);
+    const auto cl = text_lines(cmp.out);
     REQUIRE(cl.size() == 3);
     CHECK(cell(csv_cells(cl[0]), csv_cells(cl[2]), "kind") == "blend");
     CHECK(cell(csv_cells(cl[0]), csv_cells(cl[2]), "pump_leak_fraction").empty());
@@ -360,7 +350,7 @@ TEST_CASE("layer: a 0.15 um layer leaking 99.8 % of the pump reports converted e
 
     const auto c = run_cli("layer -f csv " + quote(thin));
     REQUIRE(c.exit_code == 0);
-    const auto cl = csv_lines(c.out);
+    const auto cl = text_lines(c.out);
     REQUIRE(cl.size() == 2);
     const auto header = csv_cells(cl[0]), row = csv_cells(cl[1]);
     CHECK(std::stod(cell(header, row, "converted_efficiency")) < 0.01);

@@ -52,6 +52,23 @@ inline std::vector<std::string> csv_cells(const std::string& line) {
     return cells;
 }
 
+// The cell of column `name` in a CSV row ("" where the row is shorter); fails the test when the
+// header has no such column.
+inline std::string cell(const std::vector<std::string>& header, const std::vector<std::string>& row, const std::string& name) {
+    for (std::size_t i = 0; i < header.size(); ++i)
+        if (header[i] == name) return i < row.size() ? row[i] : "";
+    FAIL("no column " << name);
+    return "";
+}
+
+// The lines of a text, empty ones included.
+inline std::vector<std::string> text_lines(const std::string& text) {
+    std::vector<std::string> v;
+    std::istringstream in(text);
+    for (std::string l; std::getline(in, l);) v.push_back(l);
+    return v;
+}
+
 // A library phosphor as a blend component of mass fraction w (label = its id).
 inline lampwright::BlendComponent library_component(const std::string& id, double w) {
     lampwright::BlendComponent c;

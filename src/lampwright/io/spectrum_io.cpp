@@ -76,30 +76,9 @@ void split_views(std::string_view line, Separator sep, std::vector<std::string_v
 }
 
 std::vector<std::string> split(const std::string& line, Separator sep) {
-    std::vector<std::string> out;
-    if (sep == Separator::space) {
-        std::size_t i = 0;
-        while (i < line.size()) {
-            while (i < line.size() && std::isspace(static_cast<unsigned char>(line[i]))) ++i;
-            if (i >= line.size()) break;
-            std::size_t j = i;
-            while (j < line.size() && !std::isspace(static_cast<unsigned char>(line[j]))) ++j;
-            out.push_back(line.substr(i, j - i));
-            i = j;
-        }
-        return out;
-    }
-    const char c = sep == Separator::comma ? ',' : (sep == Separator::semicolon ? ';' : '\t');
-    std::size_t start = 0;
-    while (true) {
-        const auto pos = line.find(c, start);
-        out.push_back(trim(std::string_view(line).substr(start, pos == std::string::npos ? std::string::npos : pos - start)));
-        if (pos == std::string::npos) break;
-        start = pos + 1;
-    }
-    // A trailing separator at the end of a row is common in spreadsheet exports.
-    if (out.size() > 1 && out.back().empty()) out.pop_back();
-    return out;
+    std::vector<std::string_view> views;
+    split_views(line, sep, views);
+    return {views.begin(), views.end()};
 }
 
 // Parses a whole field as a number; nullopt when it is not one. NaN/Inf are reported separately.

@@ -91,6 +91,14 @@ double visible_power(const Spectrum& s) {
     return p;
 }
 
+std::vector<double> normalised_mass_fractions(const BlendInput& in) {
+    double total = 0;
+    for (const auto& c : in.components) total += c.mass_fraction;
+    std::vector<double> w;
+    for (const auto& c : in.components) w.push_back(total > 0 ? c.mass_fraction / total : 0);
+    return w;
+}
+
 Spectrum emission_for_excitation(const Phosphor& p, const Excitation& e, double shift_nm, double width_scale) {
     Spectrum n = emission_photons(p, shift_nm, width_scale);
     double short_side = 0;

@@ -165,6 +165,9 @@ std::vector<BlendResult> coating_weight_sweep(const BlendInput& input, const std
 // The phosphor's photon emission for this excitation: the Stokes check and the removal of the
 // model tail at shorter wavelengths than the excitation. Throws Error when more than 1 % of the
 // emitted photons would lie on the short side.
+// The components' mass fractions normalised to sum to one (all zero when they sum to none).
+std::vector<double> normalised_mass_fractions(const BlendInput& in);
+
 Spectrum emission_for_excitation(const Phosphor& p, const Excitation& e, double shift_nm = 0.0, double width_scale = 1.0);
 
 // Visible mercury lines (404.7, 435.8, 546.1 nm and the 577.0/579.1 nm pair, split 1:1) with the

@@ -25,14 +25,6 @@ Chromaticity model_xy(const BlendInput& recipe, const std::vector<double>& w) {
     return evaluate_blend(b, o).assessment.xy;
 }
 
-std::vector<double> normalised(const BlendInput& recipe) {
-    double total = 0;
-    for (const auto& c : recipe.components) total += c.mass_fraction;
-    std::vector<double> w;
-    for (const auto& c : recipe.components) w.push_back(c.mass_fraction / total);
-    return w;
-}
-
 }  // namespace
 
 LotCorrection correct_recipe(const BlendInput& recipe, const Chromaticity& lot_centroid, const Chromaticity& target,
@@ -42,7 +34,7 @@ LotCorrection correct_recipe(const BlendInput& recipe, const Chromaticity& lot_c
     LotCorrection c;
     c.lot_centroid = lot_centroid;
     c.target = target;
-    c.old_fractions = normalised(recipe);
+    c.old_fractions = normalised_mass_fractions(recipe);
     c.model_centroid = model_xy(recipe, c.old_fractions);
     const double off_x = lot_centroid.x - c.model_centroid.x, off_y = lot_centroid.y - c.model_centroid.y;
     const Chromaticity aim{target.x - off_x, target.y - off_y};  // where the model must land

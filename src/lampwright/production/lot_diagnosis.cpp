@@ -27,14 +27,6 @@ double visible_sum(const SampledSpectrum& s) {
     return t;
 }
 
-std::vector<double> normalised_fractions(const BlendInput& recipe) {
-    double total = 0;
-    for (const auto& c : recipe.components) total += c.mass_fraction;
-    std::vector<double> w;
-    for (const auto& c : recipe.components) w.push_back(total > 0 ? c.mass_fraction / total : 0);
-    return w;
-}
-
 // "Ra 79.0 < 80" -> "Ra", "chromaticity 5.71 steps > 4" -> "chromaticity".
 std::string failure_kind(const std::string& f) {
     const auto space = f.find(' ');
@@ -51,7 +43,7 @@ DriftDiagnosis diagnose_drift(const BlendInput& recipe, const std::vector<Sample
     o.bandwidth_nm = bandwidth_nm;
     const std::size_t nc = recipe.components.size();
     DriftDiagnosis d;
-    const std::vector<double> w0 = normalised_fractions(recipe);
+    const std::vector<double> w0 = normalised_mass_fractions(recipe);
 
     const SampledSpectrum* grid = nullptr;
     for (std::size_t i = 0; i < lamps.size(); ++i) {

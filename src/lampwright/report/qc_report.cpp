@@ -303,32 +303,22 @@ std::string histogram_svg(const std::string& id, const std::string& quantity, co
     m.title = fmt::format("mean {} {:.2f}", quantity, mean);
     ov.polygons.push_back(m);
     ov.texts.push_back({mean, y_max, "mean " + format_fixed(mean, 1), "start", "#555", 3, 12});
-    if (minimum) {
+    // A spec limit: a dashed vertical line and its label on the side away from the accepted values.
+    auto limit_marker = [&](double at, const char* word, const char* short_word, const char* text_anchor, double dx) {
         SvgPolygon lim;
         lim.closed = false;
-        lim.x = {*minimum, *minimum};
+        lim.x = {at, at};
         lim.y = {0, y_max};
         lim.css_class = "spec-limit";
         lim.stroke = kFailColour;
         lim.stroke_width = 2;
         lim.dash = "6 3";
-        lim.title = fmt::format("spec minimum {} {:g}", quantity, *minimum);
+        lim.title = fmt::format("spec {} {} {:g}", word, quantity, at);
         ov.polygons.push_back(lim);
-        ov.texts.push_back({*minimum, y_max, fmt::format("min {:g}", *minimum), "end", kFailColour, -3, 12});
-    }
-    if (maximum) {
-        SvgPolygon lim;
-        lim.closed = false;
-        lim.x = {*maximum, *maximum};
-        lim.y = {0, y_max};
-        lim.css_class = "spec-limit";
-        lim.stroke = kFailColour;
-        lim.stroke_width = 2;
-        lim.dash = "6 3";
-        lim.title = fmt::format("spec maximum {} {:g}", quantity, *maximum);
-        ov.polygons.push_back(lim);
-        ov.texts.push_back({*maximum, y_max, fmt::format("max {:g}", *maximum), "start", kFailColour, 3, 12});
-    }
+        ov.texts.push_back({at, y_max, fmt::format("{} {:g}", short_word, at), text_anchor, kFailColour, dx, 12});
+    };
+    if (minimum) limit_marker(*minimum, "minimum", "min", "end", -3);
+    if (maximum) limit_marker(*maximum, "maximum", "max", "start", 3);
     return svg_chart({fmt::format("{} of the lot ({} lamps, bins of {:g})", quantity, values.size(), w), quantity, "lamps", x_min, x_max, 0, y_max, kWidth, kHeight},
                      {}, ov);
 }
