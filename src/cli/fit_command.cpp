@@ -15,6 +15,7 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <cctype>
 #include <chrono>
 #include <cmath>
 #include <iostream>
@@ -118,6 +119,7 @@ TRADE-OFF FRONT (instead of one fit):
   --front ra-efficacy    maximise efficacy (lm per W absorbed) for a rising floor on Ra
   --front ra-ler         maximise LER for a rising floor on Ra
   --front ra-r9          maximise Ra for a rising floor on R9
+  --front rf-efficacy    maximise efficacy (lm per W absorbed) for a rising floor on Rf (CIE 224)
   The floor runs from the floor figure of the unconstrained best blend up to the best reachable one
   (epsilon-constraint sweep, --points solves); --front-csv and --front-svg write the front.
 
@@ -140,7 +142,7 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
 )") + kSafetyNotice + "\nOptions");
     std::string format = "text", recipe_out, xy, uv, flamp, maximize = "change", method = "auto";
     std::vector<std::string> folders, recipes;
-    double cct = 0, duv = 0, tolerance = kDefaultFitToleranceUvPrime, steps = kAnsiC78376Steps, r9_weight = 0.5, coating_sigma = 0, measurement_sigma = 0, batch_size = 50;
+    double cct = 0, duv = 0, tolerance = kDefaultFitToleranceUvPrime, steps = kAnsiC78376Steps, r9_weight = 0.5, rg_weight = 0.5, coating_sigma = 0, measurement_sigma = 0, batch_size = 50;
     int ansi = 0, points = 30, choose = 0;
     std::string front, front_csv_path, front_svg_path, weighing_sigma, peak_sigma, qe_sigma, d50_sigma, absorption_sigma;
     long long draws = 100000, seed = 1;
@@ -153,8 +155,9 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     add_number_option(opts, "ansi", &ansi, kAnsiRange, "ANSI C78.377 nominal CCT class");
     opts.add_options()("flamp", po::value(&flamp), "ANSI C78.376 lamp colour, e.g. F4100");
     add_number_option(opts, "steps", &steps, kStepsRange, "MacAdam ellipse size with --flamp or --tolerance-run (default 4)");
-    opts.add_options()("maximize", po::value(&maximize), "ra | r9 | ra-r9 | ler | efficacy | rf (CIE 224 Rf); default: the smallest change from the recipe");
+    opts.add_options()("maximize", po::value(&maximize), "ra | r9 | ra-r9 | ler | efficacy | rf (CIE 224 Rf) | rg (TM-30 Rg) | rf-rg; default: the smallest change from the recipe");
     add_number_option(opts, "r9-weight", &r9_weight, kR9WeightRange, "k in (1-k) Ra + k R9 for --maximize ra-r9 (default 0.5)");
+    add_number_option(opts, "rg-weight", &rg_weight, kR9WeightRange, "k in (1-k) Rf + k Rg for --maximize rf-rg (default 0.5)");
     add_number_option(opts, "tolerance", &tolerance, kToleranceRange, "chromaticity tolerance, delta u'v' (default 0.0005; not with --flamp)");
     add_number_option(opts, "min-ra", &min_ra, kMinRaRange, "require Ra >= this");
     add_number_option(opts, "min-r9", &min_r9, kMinR9Range, "require R9 >= this");
@@ -169,7 +172,7 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
         ("recipe-out", po::value(&recipe_out), "write the fitted recipe (TOML, loadable by 'blend')")
         ("format,f", po::value(&format), "text | csv | json (default text)")
         ("phosphors", po::value(&folders), "a folder of your own phosphor files (*.toml); repeatable")
-        ("front", po::value(&front), "ra-efficacy | ra-ler | ra-r9: compute the trade-off front instead of one fit");
+        ("front", po::value(&front), "ra-efficacy | ra-ler | ra-r9 | rf-efficacy: compute the trade-off front instead of one fit");
     add_number_option(opts, "points", &points, kPointsRange, "points on the front (default 30)");
     opts.add_options()("front-csv", po::value(&front_csv_path), "write the front as CSV")
         ("front-svg", po::value(&front_svg_path), "write the front as an SVG chart");
@@ -213,9 +216,10 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
         } catch (const Error& e) {
             throw UsageError{std::string("fit: --front: ") + e.what()};
         }
-        if (*front_kind == FrontKind::ra_r9 ? vm.count("min-r9") > 0 : vm.count("min-ra") > 0)
-            throw UsageError{fmt::format("fit: --front {} sweeps the {} floor itself; drop --min-{}", front, front_floor_label(*front_kind),
-                                         *front_kind == FrontKind::ra_r9 ? "r9" : "ra")};
+        std::string swept = front_floor_label(*front_kind);
+        std::transform(swept.begin(), swept.end(), swept.begin(), [](unsigned char c) { return static_cast<char>(std::tolower(c)); });
+        if (vm.count("min-" + swept))
+            throw UsageError{fmt::format("fit: --front {} sweeps the {} floor itself; drop --min-{}", front, front_floor_label(*front_kind), swept)};
     }
     if (vm.count("tolerance") && vm.count("flamp")) throw UsageError{"fit: --flamp uses its MacAdam ellipse; --tolerance does not apply"};
 
@@ -238,12 +242,15 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     } catch (const Error& e) {
         throw UsageError{std::string("fit: ") + e.what()};
     }
-    if (maximize == "change" && vm.count("maximize")) throw UsageError{"fit: --maximize takes ra, r9, ra-r9, ler, efficacy or rf"};
+    if (maximize == "change" && vm.count("maximize")) throw UsageError{"fit: --maximize takes ra, r9, ra-r9, ler, efficacy, rf, rg or rf-rg"};
     FitOptions options;
     if (method == "exact") options.method = FitMethod::exact;
     else if (method == "nlopt") options.method = FitMethod::nlopt;
     else if (method != "auto") throw UsageError{"fit: --method must be auto, exact or nlopt"};
     p.r9_weight = r9_weight;
+    p.rg_weight = rg_weight;
+    if (vm.count("r9-weight") && p.objective != FitObjective::ra_r9) throw UsageError{"fit: --r9-weight goes with --maximize ra-r9"};
+    if (vm.count("rg-weight") && p.objective != FitObjective::rf_rg) throw UsageError{"fit: --rg-weight goes with --maximize rf-rg"};
     p.tolerance_uv_prime = tolerance;
     if (vm.count("min-ra")) p.min_ra = min_ra;
     if (vm.count("min-r9")) p.min_r9 = min_r9;
@@ -272,6 +279,7 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
         lp.target = p.target;
         lp.objective = p.objective;
         lp.r9_weight = p.r9_weight;
+        lp.rg_weight = p.rg_weight;
         lp.tolerance_uv_prime = p.tolerance_uv_prime;
         lp.min_ra = p.min_ra;
         lp.min_r9 = p.min_r9;

@@ -55,7 +55,7 @@ Figures figures(Context& c, const std::vector<double>& z) {
     if (r.assessment.rendering) f.ra = r.assessment.rendering->ra, f.r9 = r.assessment.rendering->ri[8];
     double change = 0;
     for (std::size_t i = 0; i < d.components.size(); ++i) change += std::abs(d.components[i].loading - p.design.components[i].loading);
-    f.objective = objective_figure(p.objective, p.r9_weight, r.assessment, r.efficacy_lm_per_W_pump, change);
+    f.objective = objective_figure(p.objective, {p.r9_weight, p.rg_weight}, r.assessment, r.efficacy_lm_per_W_pump, change);
     return f;
 }
 

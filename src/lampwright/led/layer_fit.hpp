@@ -16,6 +16,7 @@ struct LayerFitProblem {
     Target target;
     FitObjective objective = FitObjective::closest_to_start;  // "efficacy" = lm per W of pump
     double r9_weight = 0.5;
+    double rg_weight = 0.5;
     // Chromaticity constraint: inside the target's n-step MacAdam ellipse when it has one, else
     // within this u'v' distance (as for blends: target_distance_ratio2).
     double tolerance_uv_prime = kDefaultFitToleranceUvPrime;

@@ -108,8 +108,8 @@ std::string front_text(const FitProblem& p, const TradeoffFront& f, double ms) {
     if (p.target.kind != Target::Kind::chromaticity) o << fmt::format(" (x = {:.4f}, y = {:.4f})", p.target.xy.x, p.target.xy.y);
     o << '\n';
     o << fmt::format("  sweep:      {}; {} evaluations, {:.0f} ms\n", f.message, f.evaluations, ms);
-    o << fmt::format("\n  {:>8} {:>9} {:>7} {:>7} {:>7} {:>9}  fractions ({})\n", "min " + f.floor_label, f.objective_label, "Ra", "R9",
-                     "LER", "efficacy", [&] {
+    o << fmt::format("\n  {:>8} {:>9} {:>7} {:>7} {:>6} {:>6} {:>7} {:>9}  fractions ({})\n", "min " + f.floor_label, f.objective_label, "Ra", "R9",
+                     "Rf", "Rg", "LER", "efficacy", [&] {
                          std::string l;
                          for (const auto& c : p.blend.components) l += (l.empty() ? "" : ", ") + c.label;
                          return l;
@@ -121,8 +121,9 @@ std::string front_text(const FitProblem& p, const TradeoffFront& f, double ms) {
         }
         std::string fr;
         for (double w : pt.mass_fractions) fr += fmt::format("{}{:.4f}", fr.empty() ? "" : " ", w);
-        o << fmt::format("  {:>8} {:>9} {:>7} {:>7} {:>7} {:>9}  {}{}\n", format_fixed(pt.floor, 2), format_fixed(pt.objective, 2), format_fixed(pt.ra, 2),
-                         format_fixed(pt.r9, 2), format_fixed(pt.ler, 1), format_fixed(pt.efficacy, 2), fr,
+        o << fmt::format("  {:>8} {:>9} {:>7} {:>7} {:>6} {:>6} {:>7} {:>9}  {}{}\n", format_fixed(pt.floor, 2), format_fixed(pt.objective, 2), format_fixed(pt.ra, 2),
+                         format_fixed(pt.r9, 2), format_fixed(pt.rf, 1, "-"), format_fixed(pt.rg, 1, "-"), format_fixed(pt.ler, 1),
+                         format_fixed(pt.efficacy, 2), fr,
                          pt.from_other_point ? "  *" : "");
     }
     if (std::any_of(f.points.begin(), f.points.end(), [](const FrontPoint& q) { return q.from_other_point; }))
@@ -155,6 +156,8 @@ nlohmann::ordered_json front_json(const FitProblem& p, const TradeoffFront& f, d
             q["R9"] = pt.r9;
             q["ler_lm_per_W"] = pt.ler;
             q["efficacy_lm_per_W_absorbed"] = pt.efficacy;
+            q["Rf"] = number_or_null(pt.rf);
+            q["Rg"] = number_or_null(pt.rg);
             q["x"] = pt.xy.x;
             q["y"] = pt.xy.y;
             q["delta_uv_prime"] = pt.distance_uv_prime;
@@ -217,6 +220,11 @@ std::string tolerance_text(const ToleranceProblem& t, const ToleranceResult& r, 
     o << fmt::format("              RMS MacAdam steps: lamp from its batch mean {:.2f}, batch mean from the mean of the batch means {:.2f}; "
                      "worst batch mean {:.2f} steps from the target\n",
                      r.within_steps_rms, r.between_steps_rms, r.worst_batch_mean_steps);
+    if (r.fidelity_draws > 0)
+        o << fmt::format("  Rf, Rg:     Rf mean {:.1f} (sd {:.2f}; 5 % {:.1f}, 95 % {:.1f}), Rg mean {:.1f} (sd {:.2f}; 5 % {:.1f}, 95 % {:.1f}); "
+                         "nominal Rf {}, Rg {}\n              (CIE 224, TM-30-20; over the first {} draws; the measurement error not in them)\n",
+                         r.rf.mean, r.rf.sd, r.rf.p05, r.rf.p95, r.rg.mean, r.rg.sd, r.rg.p05, r.rg.p95, format_fixed(r.nominal_rf, 1, "-"),
+                         format_fixed(r.nominal_rg, 1, "-"), r.fidelity_draws);
     for (const auto& n : r.notes) o << "  note:       " << n << '\n';
     if (r.failed > 0)
         o << fmt::format("  failed:     {} draws gave no light (every QE drawn at zero): counted outside, left out of the figures above\n", r.failed);
@@ -225,7 +233,7 @@ std::string tolerance_text(const ToleranceProblem& t, const ToleranceResult& r, 
 
 std::string front_csv(const FitProblem& problem, const TradeoffFront& f) {
     std::vector<std::string> cols{fmt::format("min_{}", f.floor_label), "feasible", f.objective_label == "Ra" ? "objective_Ra" : "objective_" + f.objective_label,
-                                  "Ra", "R9", "ler_lm_per_W", "efficacy_lm_per_W_absorbed", "x", "y", "delta_uv_prime", "from_other_point"};
+                                  "Ra", "R9", "ler_lm_per_W", "efficacy_lm_per_W_absorbed", "x", "y", "delta_uv_prime", "from_other_point", "Rf", "Rg"};
     for (const auto& c : problem.blend.components) cols.push_back("fraction_" + c.label);
     std::string out = csv_line(cols) + "\n";
     for (const auto& p : f.points) {
@@ -236,6 +244,8 @@ std::string front_csv(const FitProblem& problem, const TradeoffFront& f) {
             v.push_back(fmt::format("{:.5f}", p.xy.y));
             v.push_back(fmt::format("{:.6f}", p.distance_uv_prime));
             v.push_back(p.from_other_point ? "true" : "false");
+            v.push_back(format_fixed(p.rf, 4, ""));
+            v.push_back(format_fixed(p.rg, 4, ""));
             for (double w : p.mass_fractions) v.push_back(fmt::format("{:.6f}", w));
         } else {
             for (std::size_t i = 2; i < cols.size(); ++i) v.push_back("");
@@ -249,7 +259,7 @@ std::string front_svg(const FitProblem& problem, const TradeoffFront& f) {
     SvgSeries line{"front", {}, {}, series_colour(0), false};
     for (const auto& p : f.points) {
         if (!p.feasible) continue;
-        line.x.push_back(f.kind == FrontKind::ra_r9 ? p.r9 : p.ra);
+        line.x.push_back(f.kind == FrontKind::ra_r9 ? p.r9 : f.kind == FrontKind::rf_efficacy ? p.rf : p.ra);
         line.y.push_back(p.objective);
     }
     SvgSeries dots = line;
@@ -257,7 +267,7 @@ std::string front_svg(const FitProblem& problem, const TradeoffFront& f) {
     dots.points = true;
     SvgAxes ax;
     ax.title = fmt::format("{}: {} against {} ({})", problem.blend.name, f.objective_label, f.floor_label, problem.target.description);
-    ax.x_label = f.floor_label + " (CIE 13.3)";
+    ax.x_label = f.floor_label + (f.kind == FrontKind::rf_efficacy ? " (CIE 224)" : " (CIE 13.3)");
     ax.y_label = f.objective_label + (f.objective_unit.empty() ? "" : " (" + f.objective_unit + ")");
     if (line.x.empty()) {
         ax.x_min = 0, ax.x_max = 100, ax.y_min = 0, ax.y_max = 1;
@@ -317,7 +327,10 @@ std::pair<std::vector<std::string>, std::vector<std::string>> fit_csv(const FitP
                               "tol_mean_steps", "tol_sd_steps", "tol_p50_steps", "tol_p90_steps", "tol_p95_steps", "tol_p99_steps",
                               "tol_max_steps", "tol_nominal_steps", "tol_failed", "tol_batch_size", "tol_batches", "tol_sd_x_within",
                               "tol_sd_y_within", "tol_sd_x_between", "tol_sd_y_between", "tol_within_batch_steps_rms",
-                              "tol_between_batch_steps_rms", "tol_worst_batch_mean_steps"})
+                              "tol_between_batch_steps_rms", "tol_worst_batch_mean_steps",
+                              // issue 13, appended: the Rf / Rg spread over the first fidelity draws
+                              "tol_fidelity_draws", "tol_mean_Rf", "tol_sd_Rf", "tol_p05_Rf", "tol_p95_Rf", "tol_mean_Rg", "tol_sd_Rg",
+                              "tol_p05_Rg", "tol_p95_Rg"})
             cols.push_back(k);
         if (tr) {
             vals.push_back(fmt::format("{}", tr->draws));
@@ -331,6 +344,9 @@ std::pair<std::vector<std::string>, std::vector<std::string>> fit_csv(const FitP
             for (double v : {tr->sd_x_within, tr->sd_y_within, tr->sd_x_between, tr->sd_y_between, tr->within_steps_rms, tr->between_steps_rms,
                              tr->worst_batch_mean_steps})
                 vals.push_back(fmt::format("{:.6g}", v));
+            vals.push_back(fmt::format("{}", tr->fidelity_draws));
+            for (double v : {tr->rf.mean, tr->rf.sd, tr->rf.p05, tr->rf.p95, tr->rg.mean, tr->rg.sd, tr->rg.p05, tr->rg.p95})
+                vals.push_back(std::isfinite(v) ? fmt::format("{:.6g}", v) : "");
         } else {
             vals.resize(cols.size());  // no tolerance run (the fit was infeasible): empty cells
         }
@@ -348,6 +364,10 @@ nlohmann::ordered_json subsets_json(const SubsetChoice& c) {
     return a;
 }
 
+nlohmann::ordered_json spread_json(const ToleranceResult::Spread& s) {
+    return {{"mean", number_or_null(s.mean)}, {"sd", number_or_null(s.sd)}, {"p05", number_or_null(s.p05)}, {"p95", number_or_null(s.p95)}};
+}
+
 nlohmann::ordered_json tolerance_json(const ToleranceProblem& tp, const ToleranceResult& tr, double ms, const std::string& ellipse_source) {
     nlohmann::ordered_json sources = nlohmann::ordered_json::object();
     for (const auto& [k, w] : tp.origins) sources[k] = w;
@@ -363,7 +383,10 @@ nlohmann::ordered_json tolerance_json(const ToleranceProblem& tp, const Toleranc
               {"batch_size", tr.batch_size}, {"batches", tr.batches}, {"sd_x_within", tr.sd_x_within}, {"sd_y_within", tr.sd_y_within},
               {"sd_x_between", tr.sd_x_between}, {"sd_y_between", tr.sd_y_between}, {"within_batch_steps_rms", tr.within_steps_rms},
               {"between_batch_steps_rms", tr.between_steps_rms}, {"worst_batch_mean_steps", tr.worst_batch_mean_steps},
-              {"sources", sources}, {"notes", tr.notes}, {"time_ms", ms}};
+              {"sources", sources}, {"notes", tr.notes}, {"time_ms", ms},
+              // issue 13: the Rf / Rg spread over the first fidelity_draws draws
+              {"fidelity_draws", tr.fidelity_draws}, {"nominal_Rf", number_or_null(tr.nominal_rf)}, {"nominal_Rg", number_or_null(tr.nominal_rg)},
+              {"Rf", spread_json(tr.rf)}, {"Rg", spread_json(tr.rg)}};
 }
 
 std::string sensitivity_text(const std::vector<SensitivityRow>& rows) {
