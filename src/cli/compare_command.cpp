@@ -39,7 +39,7 @@ std::vector<ComparisonEntry> load_entries(const std::string& path, const std::ve
     std::vector<ComparisonEntry> out;
     for (const auto& s : read_spectrum_file(path).spectra) {
         const Spectrum one = resample_to_1nm(s);
-        out.push_back({s.name, "spectrum", one, assess(one), NAN, NAN, NAN, ""});
+        out.push_back({s.name, "spectrum", one, assess_sampled(s), NAN, NAN, NAN, ""});
     }
     return out;
 }
