@@ -52,6 +52,7 @@ const NumberRange kMinLerRange{.min = 0, .max = 683, .unit = "lm/W", .note = "68
 const NumberRange kAnsiRange{.min = 2200, .max = 6500, .unit = "K", .whole = true};
 const NumberRange kPointsRange{.min = 2, .max = 1000, .unit = "points", .whole = true};
 const NumberRange kChooseRange{.min = 1, .max = 8, .unit = "components", .whole = true};
+const NumberRange kLayerSigmaRange{.min = 0, .max = 0.5, .note = "a fraction: 0.02 = 2 %"};
 const NumberRange kDrawsRange{.min = 1, .max = 100000000, .unit = "draws", .whole = true};
 const NumberRange kSeedRange{.min = 0, .max = 4294967295.0, .whole = true};
 // The production-tolerance sigmas: ranges from their one place, kToleranceSources (design/tolerance.hpp).
@@ -125,6 +126,12 @@ TRADE-OFF FRONT (instead of one fit):
 
 BEST K OF N: --choose K solves every K-component subset of the recipe (at most 8 components) and
   keeps the best feasible one by the objective; the subsets that cannot meet the target are listed.
+  LED layer designs too: each subset's loadings fitted on the layer model.
+
+LED LAYER DESIGNS: --sensitivity prints what 1 % more of each loading and of the thickness does;
+  --tolerance-run draws --draws modules (default 2000) on the full layer model with per-module
+  loading (--loading-sigma, default 0.02), thickness (--thickness-sigma, 0.03), lot d50
+  (--d50-sigma, 0.05) and measurement (--measurement-sigma, 0.0015) errors (defaults from memory).
 
 PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Monte Carlo), made in
   batches of --batch-size lamps (default 50). Per batch (shared by its lamps): the weighing of the
@@ -146,7 +153,7 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     int ansi = 0, points = 30, choose = 0;
     std::string front, front_csv_path, front_svg_path, weighing_sigma, peak_sigma, qe_sigma, d50_sigma, absorption_sigma;
     long long draws = 100000, seed = 1;
-    double min_ra = 0, min_r9 = 0, min_ler = 0, min_rf = 0, min_rg = 0, max_rg = 0;
+    double min_ra = 0, min_r9 = 0, min_ler = 0, min_rf = 0, min_rg = 0, max_rg = 0, loading_sigma = 0, thickness_sigma = 0;
     std::string rcs_h1;
     opts.add_options()("help,h", "show this help");
     add_number_option(opts, "cct", &cct, kCctRange, "target CCT");
@@ -191,6 +198,8 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     add_number_option(opts, "measurement-sigma", &measurement_sigma, kMeasurementSigmaRange, "measurement repeatability sigma in x and in y");
     add_number_option(opts, "batch-size", &batch_size, kBatchSizeRange, "lamps per batch (share the powder mix and lots)");
     add_number_option(opts, "seed", &seed, kSeedRange, "random-number seed (default 1)");
+    add_number_option(opts, "loading-sigma", &loading_sigma, kLayerSigmaRange, "LED layer designs: module-to-module loading sigma, relative (default 0.02)");
+    add_number_option(opts, "thickness-sigma", &thickness_sigma, kLayerSigmaRange, "LED layer designs: module-to-module thickness sigma, relative (default 0.03)");
     opts.add_options()("fit-thickness", "LED layer designs: fit the layer thickness as well as the loadings");
     po::variables_map vm;
     if (!parse_command_line(argc, argv, opts, "recipe", &recipes, vm, "fit")) return kExitOk;
@@ -207,7 +216,7 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     for (const char* o : {"maximize", "choose", "tolerance-run", "recipe-out", "sensitivity"})
         if (want_front && vm.count(o)) throw UsageError{fmt::format("fit: --front sets its own objective and gives many blends; --{} does not apply", o)};
     for (const char* o : {"draws", "weighing-sigma", "weighing-absolute", "peak-sigma", "qe-sigma", "seed", "d50-sigma", "absorption-sigma",
-                          "coating-weight-sigma", "measurement-sigma", "batch-size"})
+                          "coating-weight-sigma", "measurement-sigma", "batch-size", "loading-sigma", "thickness-sigma"})
         if (vm.count(o) && !tolerance_run) throw UsageError{fmt::format("fit: --{} goes with --tolerance-run", o)};
     std::optional<FrontKind> front_kind;
     if (want_front) {
@@ -272,8 +281,27 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     check_outputs_apart({{recipe_out, "--recipe-out"}, {front_csv_path, "--front-csv"}, {front_svg_path, "--front-svg"}}, inputs);
 
     if (const TomlDoc doc = TomlDoc::from_file(recipes.front()); is_layer_design(doc)) {
-        for (const char* o : {"front", "choose", "tolerance-run", "sensitivity", "min-ler", "min-rf", "min-rg", "max-rg", "rcs-h1", "method"})
+        for (const char* o : {"front", "min-ler", "min-rf", "min-rg", "max-rg", "rcs-h1", "method", "weighing-sigma", "weighing-absolute",
+                              "peak-sigma", "qe-sigma", "absorption-sigma", "coating-weight-sigma", "batch-size"})
             if (vm.count(o)) throw UsageError{fmt::format("fit: --{} applies to blend recipes, not to LED layer designs", o)};
+        LayerFitExtras extras;
+        extras.choose = vm.count("choose") ? choose : 0;
+        extras.sensitivity = vm.count("sensitivity") > 0;
+        if (tolerance_run) {
+            LayerToleranceProblem t;
+            t.steps = steps;
+            t.seed = static_cast<std::uint64_t>(seed);
+            t.draws = vm.count("draws") ? static_cast<std::size_t>(draws) : 2000;  // each module is a full transport solve (about 1 ms)
+            if (vm.count("loading-sigma")) t.loading_sigma = loading_sigma;
+            if (vm.count("thickness-sigma")) t.thickness_sigma = thickness_sigma;
+            if (vm.count("measurement-sigma")) t.measurement_sigma_xy = measurement_sigma;
+            if (vm.count("d50-sigma")) {
+                const auto v = parse_list(d50_sigma, "d50-sigma", kD50SigmaRange);
+                if (v.size() != 1) throw UsageError{"fit: --d50-sigma takes one value for an LED layer design"};
+                t.d50_sigma = v.front();
+            }
+            extras.tolerance = t;
+        }
         LayerFitProblem lp;
         lp.design = layer_design_from_toml(doc, folders);
         lp.target = p.target;
@@ -284,9 +312,10 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
         lp.min_ra = p.min_ra;
         lp.min_r9 = p.min_r9;
         lp.fit_thickness = vm.count("fit-thickness") > 0;
-        return run_layer_fit(lp, f, recipe_out);
+        return run_layer_fit(lp, f, recipe_out, extras);
     }
-    if (vm.count("fit-thickness")) throw UsageError{"fit: --fit-thickness applies to LED layer designs"};
+    for (const char* o : {"fit-thickness", "loading-sigma", "thickness-sigma"})
+        if (vm.count(o)) throw UsageError{fmt::format("fit: --{} applies to LED layer designs", o)};
     const Recipe recipe = load_recipe(recipes.front(), folders);
     for (const auto& n : recipe.notes) print_note(n);
     p.blend = recipe.blend;

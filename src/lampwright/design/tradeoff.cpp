@@ -195,22 +195,35 @@ TradeoffFront tradeoff_front(const FitProblem& problem, FrontKind kind, int poin
     return f;
 }
 
+std::vector<std::vector<std::size_t>> k_subsets(std::size_t n, int k, const std::string& what) {
+    if (n > 8) throw Error(fmt::format("choosing {}: at most 8 components, not {}", what, n));
+    if (k < 1 || static_cast<std::size_t>(k) > n)
+        throw Error(fmt::format("choosing {} of {} {}: the number to choose must lie between 1 and {}", k, n, what, n));
+    // Lexicographic order: a mask of n bits with k set, stepped by prev_permutation.
+    std::vector<std::vector<std::size_t>> out;
+    std::vector<bool> mask(n, false);
+    std::fill(mask.begin(), mask.begin() + k, true);
+    do {
+        std::vector<std::size_t> idx;
+        for (std::size_t i = 0; i < n; ++i)
+            if (mask[i]) idx.push_back(i);
+        out.push_back(std::move(idx));
+    } while (std::prev_permutation(mask.begin(), mask.end()));
+    return out;
+}
+
 SubsetChoice choose_components(const FitProblem& problem, int k, const FitOptions& options) {
     const std::size_t n = problem.blend.components.size();
-    if (n > 8) throw Error(fmt::format("choosing components: at most 8 components, not {}", n));
-    if (k < 1 || static_cast<std::size_t>(k) > n)
-        throw Error(fmt::format("choosing {} of {} components: the number to choose must lie between 1 and {}", k, n, n));
+    const auto subsets = k_subsets(n, k, "components");
     SubsetChoice out;
     out.k = k;
     const bool smaller_is_better = problem.objective == FitObjective::closest_to_start;
-    // Subsets in lexicographic order: mask of n bits with k set.
-    std::vector<bool> mask(n, false);
-    std::fill(mask.begin(), mask.begin() + k, true);
     std::optional<FitResult> best_fit;
-    do {
+    for (const auto& indices : subsets) {
         SubsetTrial t;
-        for (std::size_t i = 0; i < n; ++i)
-            if (mask[i]) t.indices.push_back(i);
+        t.indices = indices;
+        std::vector<bool> mask(n, false);
+        for (std::size_t i : indices) mask[i] = true;
         for (std::size_t i : t.indices) t.labels += (t.labels.empty() ? "" : " + ") + problem.blend.components[i].label;
         std::string left_out_min;
         for (std::size_t i = 0; i < n; ++i) {
@@ -260,7 +273,7 @@ SubsetChoice choose_components(const FitProblem& problem, int k, const FitOption
             t.message = e.what();
         }
         out.trials.push_back(t);
-    } while (std::prev_permutation(mask.begin(), mask.end()));
+    }
     out.found = best_fit.has_value();
     if (best_fit) out.result = std::move(*best_fit);
     return out;

@@ -64,14 +64,19 @@ struct SubsetTrial {
     double objective_value = 0;        // as FitResult::objective_value
     std::string message;               // why it is infeasible, when it is
 };
-struct SubsetChoice {
+// The trials of a best-k-of-n search (blend or layer), for the reports.
+struct SubsetTrials {
     int k = 0;
     bool found = false;                // some subset is feasible
     std::size_t best = 0;              // index into trials
-    FitResult result;                  // the best subset's fit, fractions per component of the
-                                       // full problem (0 for the components left out)
     std::vector<SubsetTrial> trials;   // in lexicographic order of the indices
 };
+struct SubsetChoice : SubsetTrials {
+    FitResult result;                  // the best subset's fit, fractions per component of the
+                                       // full problem (0 for the components left out)
+};
+// Every k-subset of n in lexicographic order (1 <= k <= n <= 8, else Error naming `what`).
+std::vector<std::vector<std::size_t>> k_subsets(std::size_t n, int k, const std::string& what);
 // "Best" by the problem's objective: the largest objective_value, or for closest_to_start the
 // smallest change (measured on the subset, from the recipe's fractions of those components
 // renormalised). A subset that leaves out a component with a minimum fraction above zero is

@@ -171,7 +171,7 @@ nlohmann::ordered_json front_json(const FitProblem& p, const TradeoffFront& f, d
     return j;
 }
 
-std::string subsets_text(const SubsetChoice& c, std::size_t n) {
+std::string subsets_text(const SubsetTrials& c, std::size_t n) {
     std::ostringstream o;
     o << fmt::format("Best {} of {} components: {} subsets tried\n", c.k, n, c.trials.size());
     for (std::size_t i = 0; i < c.trials.size(); ++i) {
@@ -354,7 +354,7 @@ std::pair<std::vector<std::string>, std::vector<std::string>> fit_csv(const FitP
     return {cols, vals};
 }
 
-nlohmann::ordered_json subsets_json(const SubsetChoice& c) {
+nlohmann::ordered_json subsets_json(const SubsetTrials& c) {
     nlohmann::ordered_json a = nlohmann::ordered_json::array();
     for (std::size_t i = 0; i < c.trials.size(); ++i) {
         const auto& t = c.trials[i];
@@ -390,7 +390,11 @@ nlohmann::ordered_json tolerance_json(const ToleranceProblem& tp, const Toleranc
 }
 
 std::string sensitivity_text(const std::vector<SensitivityRow>& rows) {
-    std::string o = "\n  sensitivity: one percentage point more of (then renormalised)\n" +
+    return sensitivity_text(rows, "one percentage point more of (then renormalised)");
+}
+
+std::string sensitivity_text(const std::vector<SensitivityRow>& rows, const std::string& heading) {
+    std::string o = "\n  sensitivity: " + heading + "\n" +
                     fmt::format("  {:<40} {:>9} {:>9} {:>8} {:>9} {:>7}\n", "component", "du'", "dv'", "dCCT K", "dDuv", "dRa");
     for (const auto& s : rows)
         o += fmt::format("  {:<40} {:>9} {:>9} {:>8} {:>9} {:>7}\n", s.label, format_signed(s.d_u_prime, 5), format_signed(s.d_v_prime, 5),
@@ -443,6 +447,50 @@ nlohmann::ordered_json layer_fit_json(const LayerFitResult& r) {
     auto& l = j["fit_loadings"] = nlohmann::ordered_json::object();
     for (const auto& c : d.components) l[c.label] = c.loading;
     return j;
+}
+
+std::string layer_tolerance_text(const LayerToleranceProblem& t, const LayerToleranceResult& r, double ms, const std::string& ellipse_source) {
+    std::string o = fmt::format("\nProduction tolerance of layer '{}' (Monte Carlo on the full layer model: {} modules, seed {}, {:.0f} ms)\n",
+                                t.design.name, r.draws, r.seed, ms);
+    o += fmt::format("  variation:  per module: loading sigma {:g} %, thickness sigma {:g} %, lot d50 sigma {:g} %, measurement sigma {:g} in x and y\n",
+                     100 * t.loading_sigma, 100 * t.thickness_sigma, 100 * t.d50_sigma, t.measurement_sigma_xy);
+    o += "              (defaults from memory; --loading-sigma, --thickness-sigma, --d50-sigma, --measurement-sigma set them)\n";
+    o += fmt::format("  ellipse:    {}\n", ellipse_source);
+    o += fmt::format("  nominal:    x = {:.4f}, y = {:.4f}, {:.2f} steps from the target\n", r.nominal_xy.x, r.nominal_xy.y, r.nominal_steps);
+    o += fmt::format("  modules:    x {:.4f} (sd {:.4f}), y {:.4f} (sd {:.4f})\n", r.mean_x, r.sd_x, r.mean_y, r.sd_y);
+    o += fmt::format("  MacAdam steps from the target: mean {:.2f}, sd {:.2f}; median {:.2f}, 90 % {:.2f}, 95 % {:.2f}, max {:.2f}\n", r.mean_steps,
+                     r.sd_steps, r.p50, r.p90, r.p95, r.max_steps);
+    o += fmt::format("  inside the {:g}-step ellipse: {:.1f} % of modules (standard error {:.1f} %, {} of {})\n", r.steps_limit, 100 * r.yield,
+                     100 * r.yield_standard_error, r.inside, r.draws);
+    o += fmt::format("  pump leak:  {:.2f} % (sd {:.2f} %) of the output; efficacy {:.1f} (sd {:.1f}) lm per W pump\n", 100 * r.mean_leak, 100 * r.sd_leak,
+                     r.mean_efficacy, r.sd_efficacy);
+    if (r.failed > 0) o += fmt::format("  failed:     {} modules the model could not evaluate: counted outside\n", r.failed);
+    return o;
+}
+
+nlohmann::ordered_json layer_tolerance_json(const LayerToleranceProblem& t, const LayerToleranceResult& r, double ms, const std::string& ellipse_source) {
+    return {{"draws", r.draws}, {"seed", r.seed}, {"loading_sigma", t.loading_sigma}, {"thickness_sigma", t.thickness_sigma},
+            {"d50_sigma", t.d50_sigma}, {"measurement_sigma_xy", t.measurement_sigma_xy}, {"ellipse", ellipse_source},
+            {"steps_limit", r.steps_limit}, {"inside", r.inside}, {"failed", r.failed}, {"inside_share", r.yield},
+            {"inside_standard_error", r.yield_standard_error}, {"nominal_steps", r.nominal_steps}, {"mean_steps", r.mean_steps},
+            {"sd_steps", r.sd_steps}, {"p50_steps", r.p50}, {"p90_steps", r.p90}, {"p95_steps", r.p95}, {"max_steps", r.max_steps},
+            {"mean_x", r.mean_x}, {"mean_y", r.mean_y}, {"sd_x", r.sd_x}, {"sd_y", r.sd_y}, {"mean_pump_leak_fraction", r.mean_leak},
+            {"sd_pump_leak_fraction", r.sd_leak}, {"mean_efficacy_lm_per_W_pump", r.mean_efficacy}, {"sd_efficacy_lm_per_W_pump", r.sd_efficacy},
+            {"time_ms", ms}};
+}
+
+std::pair<std::vector<std::string>, std::vector<std::string>> layer_tolerance_csv(const LayerToleranceResult* r) {
+    std::vector<std::string> cols{"tol_draws", "tol_inside_share", "tol_inside_standard_error", "tol_mean_steps", "tol_sd_steps", "tol_p95_steps",
+                                  "tol_mean_pump_leak_fraction", "tol_mean_efficacy_lm_per_W_pump"};
+    std::vector<std::string> vals;
+    if (r) {
+        vals.push_back(fmt::format("{}", r->draws));
+        for (double v : {r->yield, r->yield_standard_error, r->mean_steps, r->sd_steps, r->p95, r->mean_leak, r->mean_efficacy})
+            vals.push_back(fmt::format("{:.6g}", v));
+    } else {
+        vals.resize(cols.size());
+    }
+    return {cols, vals};
 }
 
 }  // namespace lampwright
