@@ -2,6 +2,7 @@
 #include "lampwright/led/layer_design.hpp"
 #include "lampwright/led/layer_fit.hpp"
 #include "lampwright/led/layer_tolerance.hpp"
+#include "lampwright/report/fit_report.hpp"
 #include "lampwright/core/error.hpp"
 #include "lampwright/design/tolerance.hpp"
 
@@ -218,4 +219,47 @@ TEST_CASE("fit command on a layer design: --tolerance-run, --sensitivity, --choo
     CHECK(rc("--tolerance-run --d50-sigma 0.01,0.02") == 2);  // one value for a layer
     CHECK(run_cli("fit " + quote(LAMPWRIGHT_SOURCE_DIR "/examples/recipes/triband_4000K.toml") + " --cct 4000 --tolerance-run --loading-sigma 0.02")
               .exit_code == 2);
+}
+
+TEST_CASE("layer front: the efficacy-Ra front of a layer design is monotone and every point meets its floor on the layer model") {
+    // The epsilon-constraint sweep (Haimes, Lasdon and Wismer 1971) on fit_layer: a higher Ra floor
+    // cannot raise the best efficacy; each point's loadings, evaluated again by the layer model,
+    // meet its floor and the chromaticity tolerance (common practice, no source).
+    LayerFitProblem p;
+    p.design = load_layer_design(LAMPWRIGHT_SOURCE_DIR "/examples/layers/module395_150um.toml");
+    p.target = target_cct(4000, 0.0);
+    // A small evaluation budget per fit keeps the five fits of the sweep quick; the properties
+    // checked hold for any budget (the sweep keeps the best feasible answer at every floor).
+    const TradeoffFront f = layer_tradeoff_front(p, FrontKind::ra_efficacy, 3, 150);
+    REQUIRE(f.points.size() == 3);
+    CHECK(f.amount == "loading");
+    CHECK(f.labels.size() == p.design.components.size());
+    for (std::size_t k = 0; k < f.points.size(); ++k) {
+        const auto& pt = f.points[k];
+        CAPTURE(pt.floor);
+        REQUIRE(pt.feasible);
+        if (k > 0) CHECK(pt.objective <= f.points[k - 1].objective + 1e-9);
+        LayerDesign d = p.design;
+        for (std::size_t i = 0; i < d.components.size(); ++i) d.components[i].loading = pt.mass_fractions[i];
+        const LayerEvaluation e = evaluate_layer_design(d);
+        REQUIRE(e.operating.assessment.rendering);
+        CHECK(e.operating.assessment.rendering->ra >= pt.floor - 1e-6);
+        CHECK(e.operating.efficacy_lm_per_W_pump == doctest::Approx(pt.objective).epsilon(1e-9));
+        CHECK(lwtest::duv_prime(e.operating.assessment, p.target.xy) <= p.tolerance_uv_prime * 1.001);
+    }
+    CHECK_THROWS_AS(layer_tradeoff_front(p, FrontKind::rf_efficacy, 3), Error);
+    // The CSV the fit command writes (--front-csv): loadings and the efficacy per W of pump.
+    const std::string header = lwtest::text_lines(front_csv(f)).front();
+    CHECK(header.rfind("min_Ra,feasible,objective_efficacy", 0) == 0);
+    CHECK(header.find("efficacy_lm_per_W_pump") != std::string::npos);
+    CHECK(header.find("loading_BaMgAl10O17:Eu2+") != std::string::npos);
+}
+
+TEST_CASE("fit command on a layer design: --front usage errors") {
+    // A full layer front takes a fit per point (seconds each): the sweep itself is checked above
+    // on the library; here only what the command refuses.
+    const std::string d = quote(LAMPWRIGHT_SOURCE_DIR "/examples/layers/module395_150um.toml");
+    CHECK(run_cli("fit " + d + " --cct 4000 --front rf-efficacy --points 2").exit_code == 2);
+    CHECK(run_cli("fit " + d + " --cct 4000 --front ra-efficacy --min-ra 80").exit_code == 2);
+    CHECK(run_cli("fit " + d + " --cct 4000 --front ra-efficacy --tolerance-run").exit_code == 2);
 }

@@ -104,7 +104,7 @@ TEST_CASE("tradeoff: the efficacy-Ra front is monotone and every point meets its
     MESSAGE("front ends: Ra " << f.points.front().ra << " at " << f.points.front().efficacy << " lm/W absorbed; Ra " << f.points.back().ra
                               << " at " << f.points.back().efficacy << " lm/W absorbed");
     // CSV: a header and one row per point, the same number of cells each.
-    std::istringstream csv(front_csv(p, f));
+    std::istringstream csv(front_csv(f));
     std::string line, header;
     std::getline(csv, header);
     CHECK(header.rfind("min_Ra,feasible,objective_efficacy", 0) == 0);
@@ -114,7 +114,7 @@ TEST_CASE("tradeoff: the efficacy-Ra front is monotone and every point meets its
         CHECK(csv_cells(line) == csv_cells(header));
     }
     CHECK(rows == 8);
-    const std::string svg = front_svg(p, f);
+    const std::string svg = front_svg(f);
     CHECK(svg.find("<svg") != std::string::npos);
     CHECK(svg.find("</svg>") != std::string::npos);
 }
@@ -139,7 +139,7 @@ TEST_CASE("tradeoff: the efficacy-Rf front (CIE 224 Rf floor) is monotone and ev
     CHECK(f.floor_high > f.floor_low);
     MESSAGE("efficacy-Rf front: Rf " << f.points.front().rf << " at " << f.points.front().efficacy << " lm/W absorbed; Rf "
                                      << f.points.back().rf << " at " << f.points.back().efficacy);
-    std::istringstream csv(front_csv(p, f));
+    std::istringstream csv(front_csv(f));
     std::string header;
     std::getline(csv, header);
     CHECK(header.rfind("min_Rf,feasible,objective_efficacy", 0) == 0);

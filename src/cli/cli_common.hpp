@@ -2,6 +2,7 @@
 // Shared pieces of the command-line front end: exit codes, output formats, messages.
 #include "lampwright/core/error.hpp"
 #include "lampwright/core/text_encoding.hpp"  // dump_json for every --format json
+#include "lampwright/design/tradeoff.hpp"
 #include "lampwright/led/layer_tolerance.hpp"
 #include "lampwright/io/output_file.hpp"
 #include "lampwright/report/provenance.hpp"
@@ -132,11 +133,21 @@ extern const char* const kSafetyNotice;
 
 // fit on an LED layer design (called by run_fit), with what else was asked for.
 struct LayerFitExtras {
+    struct Front {
+        FrontKind kind;
+        int points;
+        std::string csv_path, svg_path;
+    };
+    std::optional<Front> front;                       // --front: the trade-off front instead of one fit
     int choose = 0;                                   // --choose K (0: all components)
     bool sensitivity = false;                         // --sensitivity
     std::optional<LayerToleranceProblem> tolerance;   // --tolerance-run: sigmas, draws, seed, steps (design and ellipse filled in later)
 };
 int run_layer_fit(const LayerFitProblem& problem, Format format, const std::string& design_out, const LayerFitExtras& extras = {});
+// Prints a trade-off front in the format and writes --front-csv / --front-svg; an error (naming
+// `input`) when no point is feasible.
+int print_front(const TradeoffFront& front, Format format, double ms, const std::string& csv_path, const std::string& svg_path,
+                const std::string& input);
 
 int run_assess(int argc, char** argv);
 int run_phosphors(int argc, char** argv);

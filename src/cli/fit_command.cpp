@@ -95,6 +95,19 @@ std::vector<double> parse_list(const std::string& s, const std::string& option, 
 
 }  // namespace
 
+int print_front(const TradeoffFront& tf, Format f, double ms, const std::string& csv_path, const std::string& svg_path, const std::string& input) {
+    switch (f) {
+        case Format::text: std::cout << front_text(tf, ms); break;
+        case Format::csv: std::cout << front_csv(tf); break;
+        case Format::json: std::cout << dump_json(front_json(tf, ms)) << '\n'; break;
+    }
+    if (!csv_path.empty()) write_output_or_throw(csv_path, front_csv(tf));
+    if (!svg_path.empty()) write_document_or_throw(svg_path, front_svg(tf));
+    if (std::none_of(tf.points.begin(), tf.points.end(), [](const FrontPoint& q) { return q.feasible; }))
+        throw InputError(input, 0, "no point of the front is feasible");
+    return kExitOk;
+}
+
 int run_fit(int argc, char** argv) {
     po::options_description opts(std::string(R"(Usage: lampwright fit RECIPE.toml TARGET [options]
        lampwright fit DESIGN.toml TARGET [--maximize ...] [--fit-thickness]   (LED layer design)
@@ -281,11 +294,15 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     check_outputs_apart({{recipe_out, "--recipe-out"}, {front_csv_path, "--front-csv"}, {front_svg_path, "--front-svg"}}, inputs);
 
     if (const TomlDoc doc = TomlDoc::from_file(recipes.front()); is_layer_design(doc)) {
-        for (const char* o : {"front", "min-ler", "min-rf", "min-rg", "max-rg", "rcs-h1", "method", "weighing-sigma", "weighing-absolute",
+        for (const char* o : {"min-ler", "min-rf", "min-rg", "max-rg", "rcs-h1", "method", "weighing-sigma", "weighing-absolute",
                               "peak-sigma", "qe-sigma", "absorption-sigma", "coating-weight-sigma", "batch-size"})
             if (vm.count(o)) throw UsageError{fmt::format("fit: --{} applies to blend recipes, not to LED layer designs", o)};
         LayerFitExtras extras;
         extras.choose = vm.count("choose") ? choose : 0;
+        if (front_kind) {
+            if (*front_kind == FrontKind::rf_efficacy) throw UsageError{"fit: --front rf-efficacy applies to blend recipes (layer fits take no Rf floor)"};
+            extras.front = LayerFitExtras::Front{*front_kind, points, front_csv_path, front_svg_path};
+        }
         extras.sensitivity = vm.count("sensitivity") > 0;
         if (tolerance_run) {
             LayerToleranceProblem t;
@@ -370,17 +387,7 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
 
     if (front_kind) {
         const TradeoffFront tf = naming_input(recipe.path, [&] { return tradeoff_front(p, *front_kind, points, options); });
-        const double fms = elapsed_ms();
-        switch (f) {
-            case Format::text: std::cout << front_text(p, tf, fms); break;
-            case Format::csv: std::cout << front_csv(p, tf); break;
-            case Format::json: std::cout << dump_json(front_json(p, tf, fms)) << '\n'; break;
-        }
-        if (!front_csv_path.empty()) write_output_or_throw(front_csv_path, front_csv(p, tf));
-        if (!front_svg_path.empty()) write_document_or_throw(front_svg_path, front_svg(p, tf));
-        if (std::none_of(tf.points.begin(), tf.points.end(), [](const FrontPoint& q) { return q.feasible; }))
-            throw InputError(recipe.path, 0, "no point of the front is feasible");
-        return kExitOk;
+        return print_front(tf, f, elapsed_ms(), front_csv_path, front_svg_path, recipe.path);
     }
 
     std::optional<SubsetChoice> subsets;

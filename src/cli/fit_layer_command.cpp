@@ -18,6 +18,12 @@
 namespace lampwright::cli {
 
 int run_layer_fit(const LayerFitProblem& problem, Format format, const std::string& design_out, const LayerFitExtras& extras) {
+    if (extras.front) {
+        const auto t0 = std::chrono::steady_clock::now();
+        const TradeoffFront tf = layer_tradeoff_front(problem, extras.front->kind, extras.front->points);
+        const double ms = std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - t0).count();
+        return print_front(tf, format, ms, extras.front->csv_path, extras.front->svg_path, problem.design.name);
+    }
     std::optional<LayerSubsetChoice> subsets;
     LayerFitResult r;
     if (extras.choose > 0) {

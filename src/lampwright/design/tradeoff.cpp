@@ -37,14 +37,6 @@ FitObjective floor_objective_for(FrontKind k) {
 double ra_of(const BlendResult& r) { return r.assessment.rendering ? r.assessment.rendering->ra : -1e3; }
 double r9_of(const BlendResult& r) { return r.assessment.rendering ? r.assessment.rendering->ri[8] : -1e3; }
 
-double rf_of(const BlendResult& r) { return r.assessment.fidelity ? r.assessment.fidelity->rf : -1e3; }
-
-double floor_value(FrontKind k, const BlendResult& r) {
-    if (k == FrontKind::ra_r9) return r9_of(r);
-    if (k == FrontKind::rf_efficacy) return rf_of(r);
-    return ra_of(r);
-}
-
 double objective_value(FrontKind k, const BlendResult& r) {
     switch (k) {
         case FrontKind::ra_efficacy:
@@ -115,53 +107,46 @@ std::string front_floor_label(FrontKind k) {
     return "Ra";
 }
 
-TradeoffFront tradeoff_front(const FitProblem& problem, FrontKind kind, int points, const FitOptions& options) {
+TradeoffFront sweep_front(FrontKind kind, int points, const FrontSolver& solve_point) {
     if (points < 2 || points > 1000) throw Error(fmt::format("a trade-off front needs 2 to 1000 points, not {}", points));
     TradeoffFront f;
     f.kind = kind;
     f.objective_label = front_objective_label(kind);
     f.floor_label = front_floor_label(kind);
-    f.objective_unit = kind == FrontKind::ra_efficacy || kind == FrontKind::rf_efficacy ? "lm/W absorbed" : kind == FrontKind::ra_ler ? "lm/W" : "";
+    // The floor's figure of a point; a figure that is not defined (no CCT: NaN) meets no floor.
+    const auto floor_of = [kind](const FrontPoint& p) {
+        const double v = kind == FrontKind::ra_r9 ? p.r9 : kind == FrontKind::rf_efficacy ? p.rf : p.ra;
+        return std::isnan(v) ? -std::numeric_limits<double>::infinity() : v;
+    };
 
-    FitProblem base = problem;
-    base.objective = objective_for(kind);
-    set_floor(kind, base, std::nullopt);
-
-    // Every feasible blend found by any solve of the sweep: they share the target, the limits and
+    // Every feasible answer found by any solve of the sweep: they share the target, the limits and
     // the other floors, so each one serves every floor it meets.
-    std::vector<FitResult> pool;
-    auto run = [&](const FitProblem& q) {
-        FitResult r = solve(q, options);
+    std::vector<FrontPoint> pool;
+    auto run = [&](std::optional<double> floor, bool top, const std::vector<double>& warm) {
+        FrontSolve r = solve_point(floor, top, warm);
         ++f.solves;
         f.evaluations += r.evaluations;
-        if (r.feasible) pool.push_back(r);
+        if (r.feasible) pool.push_back(r.point);
         return r;
     };
 
-    const FitResult best_objective = run(base);
-    if (!best_objective.feasible)
-        throw Error(fmt::format("no trade-off front: no blend meets the target and limits ({})", best_objective.message));
-    FitProblem top = base;
-    top.objective = floor_objective_for(kind);
-    const FitResult best_floor = run(top);
-    f.floor_low = floor_value(kind, best_objective.result);
-    f.floor_high = best_floor.feasible ? floor_value(kind, best_floor.result) - kTopMargin : f.floor_low;
+    const FrontSolve best_objective = run(std::nullopt, false, {});
+    if (!best_objective.feasible) throw Error(fmt::format("no trade-off front: nothing meets the target and limits ({})", best_objective.message));
+    const FrontSolve best_floor = run(std::nullopt, true, {});
+    f.floor_low = floor_of(best_objective.point);
+    f.floor_high = best_floor.feasible ? floor_of(best_floor.point) - kTopMargin : f.floor_low;
     if (f.floor_high < f.floor_low) f.floor_high = f.floor_low;
 
     std::vector<double> floors;
     std::vector<std::optional<std::size_t>> own;  // index into pool of each point's own answer
-    std::vector<double> warm = best_objective.mass_fractions;
+    std::vector<double> warm = best_objective.point.mass_fractions;
     for (int k = 0; k < points; ++k) {
         const double eps = f.floor_low + (f.floor_high - f.floor_low) * k / (points - 1);
         floors.push_back(eps);
-        FitProblem q = base;
-        set_floor(kind, q, eps);
-        // Warm start: the previous point's blend (its floor is lower, so it may fall just short).
-        for (std::size_t i = 0; i < q.blend.components.size(); ++i)
-            if (warm[i] > 0) q.blend.components[i].mass_fraction = warm[i];
-        const FitResult r = run(q);
+        // Warm start: the previous point's answer (its floor is lower, so it may fall just short).
+        const FrontSolve r = run(eps, false, warm);
         own.push_back(r.feasible ? std::optional<std::size_t>(pool.size() - 1) : std::nullopt);
-        if (r.feasible) warm = r.mass_fractions;
+        if (r.feasible) warm = r.point.mass_fractions;
     }
 
     int borrowed = 0, missing = 0;
@@ -169,12 +154,12 @@ TradeoffFront tradeoff_front(const FitProblem& problem, FrontKind kind, int poin
         const double eps = floors[static_cast<std::size_t>(k)];
         std::optional<std::size_t> best;
         for (std::size_t j = 0; j < pool.size(); ++j) {
-            if (floor_value(kind, pool[j].result) < eps) continue;
-            if (!best || objective_value(kind, pool[j].result) > objective_value(kind, pool[*best].result)) best = j;
+            if (floor_of(pool[j]) < eps) continue;
+            if (!best || pool[j].objective > pool[*best].objective) best = j;
         }
         // Prefer the point's own answer when it is as good.
         const auto& mine = own[static_cast<std::size_t>(k)];
-        if (mine && best && objective_value(kind, pool[*mine].result) >= objective_value(kind, pool[*best].result)) best = mine;
+        if (mine && best && pool[*mine].objective >= pool[*best].objective) best = mine;
         if (!best) {
             FrontPoint pt;
             pt.floor = eps;
@@ -182,16 +167,40 @@ TradeoffFront tradeoff_front(const FitProblem& problem, FrontKind kind, int poin
             ++missing;
             continue;
         }
-        FrontPoint pt = point_from(kind, eps, pool[*best]);
+        FrontPoint pt = pool[*best];
+        pt.floor = eps;
+        pt.feasible = true;
         pt.from_other_point = !(mine && *mine == *best);
         borrowed += pt.from_other_point ? 1 : 0;
         f.points.push_back(pt);
     }
     f.message = fmt::format("{} points, {} >= {:.2f} to {:.2f}; {} solves", points, f.floor_label, f.floor_low, f.floor_high, f.solves);
-    if (borrowed) f.message += fmt::format("; {} point(s) use a better blend found by another point's solve", borrowed);
-    if (missing) f.message += fmt::format("; no feasible blend at {} point(s)", missing);
+    if (borrowed) f.message += fmt::format("; {} point(s) use a better answer found by another point's solve", borrowed);
+    if (missing) f.message += fmt::format("; no feasible answer at {} point(s)", missing);
     if (f.floor_high <= f.floor_low)
-        f.message += fmt::format("; no trade-off here: the blend with the best {} has (within 0.02) the best {} too", f.objective_label, f.floor_label);
+        f.message += fmt::format("; no trade-off here: the answer with the best {} has (within 0.02) the best {} too", f.objective_label, f.floor_label);
+    return f;
+}
+
+TradeoffFront tradeoff_front(const FitProblem& problem, FrontKind kind, int points, const FitOptions& options) {
+    FitProblem base = problem;
+    base.objective = objective_for(kind);
+    set_floor(kind, base, std::nullopt);
+    TradeoffFront f = sweep_front(kind, points, [&](std::optional<double> floor, bool top, const std::vector<double>& warm) {
+        FitProblem q = base;
+        if (top) q.objective = floor_objective_for(kind);
+        set_floor(kind, q, floor);
+        for (std::size_t i = 0; i < warm.size() && i < q.blend.components.size(); ++i)
+            if (warm[i] > 0) q.blend.components[i].mass_fraction = warm[i];
+        const FitResult r = solve(q, options);
+        FrontSolve s{r.feasible, r.message, r.evaluations, {}};
+        if (r.feasible) s.point = point_from(kind, 0, r);
+        return s;
+    });
+    f.name = problem.blend.name;
+    f.target = problem.target;
+    for (const auto& c : problem.blend.components) f.labels.push_back(c.label);
+    f.objective_unit = kind == FrontKind::ra_efficacy || kind == FrontKind::rf_efficacy ? "lm/W absorbed" : kind == FrontKind::ra_ler ? "lm/W" : "";
     return f;
 }
 

@@ -6,6 +6,8 @@
 //   - the best k of a recipe's n components: every k-subset solved, the best feasible kept.
 #include "lampwright/design/optimiser.hpp"
 
+#include <functional>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -41,6 +43,10 @@ struct FrontPoint {
 
 struct TradeoffFront {
     FrontKind kind = FrontKind::ra_efficacy;
+    std::string name;                          // of the recipe or design
+    Target target;
+    std::vector<std::string> labels;           // of the components, in the order of mass_fractions
+    std::string amount = "mass_fraction";      // what mass_fractions hold: "mass_fraction" or "loading"
     std::string objective_label, floor_label;  // "efficacy", "Ra", ...
     std::string objective_unit;                // "lm/W absorbed", "lm/W", ""
     double floor_low = 0, floor_high = 0;      // the sweep's range
@@ -49,6 +55,20 @@ struct TradeoffFront {
     int evaluations = 0;
     std::string message;
 };
+
+// One solve of a sweep: the answer as a front point (its floor is set by the sweep).
+struct FrontSolve {
+    bool feasible = false;
+    std::string message;
+    int evaluations = 0;
+    FrontPoint point;
+};
+// Solves for the front's objective with a floor (none: unconstrained), or with `top` for the
+// floor's own figure (the top of the sweep); `warm` is a start (empty: the problem's own).
+using FrontSolver = std::function<FrontSolve(std::optional<double> floor, bool top, const std::vector<double>& warm)>;
+// The epsilon-constraint sweep itself (shared by blend and layer fronts); the caller fills in
+// name, target, labels, amount and objective_unit.
+TradeoffFront sweep_front(FrontKind kind, int points, const FrontSolver& solve);
 
 // The front of the problem's target, limits and other floors (problem.objective and the swept
 // floor of `problem` are replaced). The floor runs from the floor figure of the unconstrained

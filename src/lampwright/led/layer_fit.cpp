@@ -253,4 +253,42 @@ LayerSubsetChoice choose_layer_components(const LayerFitProblem& problem, int k,
     return out;
 }
 
+TradeoffFront layer_tradeoff_front(const LayerFitProblem& problem, FrontKind kind, int points, int max_evaluations) {
+    if (kind == FrontKind::rf_efficacy) throw Error("the rf-efficacy front is for blend recipes: layer fits take no Rf floor");
+    const FitObjective objective = kind == FrontKind::ra_efficacy ? FitObjective::efficacy : kind == FrontKind::ra_ler ? FitObjective::ler : FitObjective::ra;
+    const FitObjective top_objective = kind == FrontKind::ra_r9 ? FitObjective::r9 : FitObjective::ra;
+    TradeoffFront f = sweep_front(kind, points, [&](std::optional<double> floor, bool top, const std::vector<double>& warm) {
+        LayerFitProblem q = problem;
+        q.objective = top ? top_objective : objective;
+        if (kind == FrontKind::ra_r9) q.min_r9 = floor;
+        else q.min_ra = floor;
+        for (std::size_t i = 0; i < warm.size() && i < q.design.components.size(); ++i)
+            if (warm[i] > 0) q.design.components[i].loading = warm[i];
+        const LayerFitResult r = fit_layer(q, max_evaluations);
+        FrontSolve s{r.feasible, r.message, r.evaluations, {}};
+        if (!r.feasible) return s;
+        const auto& o = r.evaluation.operating;
+        const auto& a = o.assessment;
+        FrontPoint& pt = s.point;
+        pt.feasible = true;
+        pt.ra = a.rendering ? a.rendering->ra : NAN;
+        pt.r9 = a.rendering ? a.rendering->ri[8] : NAN;
+        pt.ler = a.ler_lm_per_W;
+        pt.efficacy = o.efficacy_lm_per_W_pump;
+        pt.rf = a.fidelity ? a.fidelity->rf : NAN;
+        pt.rg = a.fidelity ? a.fidelity->rg : NAN;
+        pt.objective = kind == FrontKind::ra_efficacy ? pt.efficacy : kind == FrontKind::ra_ler ? pt.ler : pt.ra;
+        pt.xy = a.xy;
+        pt.distance_uv_prime = r.distance_uv_prime;
+        for (const auto& c : r.design.components) pt.mass_fractions.push_back(c.loading);
+        return s;
+    });
+    f.name = problem.design.name;
+    f.target = problem.target;
+    for (const auto& c : problem.design.components) f.labels.push_back(c.label);
+    f.amount = "loading";
+    f.objective_unit = kind == FrontKind::ra_efficacy ? "lm/W pump" : kind == FrontKind::ra_ler ? "lm/W" : "";
+    return f;
+}
+
 }  // namespace lampwright

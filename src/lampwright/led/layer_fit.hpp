@@ -49,4 +49,10 @@ struct LayerSubsetChoice : SubsetTrials {
 };
 LayerSubsetChoice choose_layer_components(const LayerFitProblem& problem, int k, int max_evaluations = 3000);
 
+// The trade-off front of a layer design (design/tradeoff.hpp's epsilon-constraint sweep, each point
+// one fit_layer): ra-efficacy (efficacy in lm per W pump), ra-ler, ra-r9; the points' amounts are
+// the loadings. Throws Error for rf-efficacy (layer fits take no Rf floor) or when no layer meets
+// the target.
+TradeoffFront layer_tradeoff_front(const LayerFitProblem& problem, FrontKind kind, int points, int max_evaluations = 3000);
+
 }  // namespace lampwright

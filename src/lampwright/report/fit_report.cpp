@@ -101,17 +101,23 @@ nlohmann::ordered_json fit_json(const FitProblem& p, const FitResult& r, double 
     return j;
 }
 
-std::string front_text(const FitProblem& p, const TradeoffFront& f, double ms) {
+namespace {
+// A layer front's efficacy is per W of pump, a blend front's per W of absorbed excitation.
+bool layer_front(const TradeoffFront& f) { return f.amount == "loading"; }
+std::string front_efficacy_key(const TradeoffFront& f) { return layer_front(f) ? "efficacy_lm_per_W_pump" : "efficacy_lm_per_W_absorbed"; }
+}  // namespace
+
+std::string front_text(const TradeoffFront& f, double ms) {
     std::ostringstream o;
-    o << fmt::format("Trade-off front of '{}': maximum {} for a rising floor on {}\n", p.blend.name, f.objective_label, f.floor_label);
-    o << fmt::format("  target:     {}", p.target.description);
-    if (p.target.kind != Target::Kind::chromaticity) o << fmt::format(" (x = {:.4f}, y = {:.4f})", p.target.xy.x, p.target.xy.y);
+    o << fmt::format("Trade-off front of '{}': maximum {} for a rising floor on {}\n", f.name, f.objective_label, f.floor_label);
+    o << fmt::format("  target:     {}", f.target.description);
+    if (f.target.kind != Target::Kind::chromaticity) o << fmt::format(" (x = {:.4f}, y = {:.4f})", f.target.xy.x, f.target.xy.y);
     o << '\n';
     o << fmt::format("  sweep:      {}; {} evaluations, {:.0f} ms\n", f.message, f.evaluations, ms);
-    o << fmt::format("\n  {:>8} {:>9} {:>7} {:>7} {:>6} {:>6} {:>7} {:>9}  fractions ({})\n", "min " + f.floor_label, f.objective_label, "Ra", "R9",
-                     "Rf", "Rg", "LER", "efficacy", [&] {
+    o << fmt::format("\n  {:>8} {:>9} {:>7} {:>7} {:>6} {:>6} {:>7} {:>9}  {} ({})\n", "min " + f.floor_label, f.objective_label, "Ra", "R9",
+                     "Rf", "Rg", "LER", "efficacy", layer_front(f) ? "loadings" : "fractions", [&] {
                          std::string l;
-                         for (const auto& c : p.blend.components) l += (l.empty() ? "" : ", ") + c.label;
+                         for (const auto& c : f.labels) l += (l.empty() ? "" : ", ") + c;
                          return l;
                      }());
     for (const auto& pt : f.points) {
@@ -128,18 +134,18 @@ std::string front_text(const FitProblem& p, const TradeoffFront& f, double ms) {
     }
     if (std::any_of(f.points.begin(), f.points.end(), [](const FrontPoint& q) { return q.from_other_point; }))
         o << "  * the blend of another point's solve: it meets this floor and beats this point's own answer\n";
-    o << fmt::format("  (LER in lm/W of light; efficacy in lm per W of absorbed excitation)\n");
+    o << fmt::format("  (LER in lm/W of light; efficacy in lm per W of {})\n", layer_front(f) ? "pump" : "absorbed excitation");
     return o.str();
 }
 
-nlohmann::ordered_json front_json(const FitProblem& p, const TradeoffFront& f, double ms) {
+nlohmann::ordered_json front_json(const TradeoffFront& f, double ms) {
     nlohmann::ordered_json j;
     j["front"] = front_kind_name(f.kind);
     j["maximised"] = f.objective_label;
     j["floor_on"] = f.floor_label;
     j["floor_low"] = f.floor_low;
     j["floor_high"] = f.floor_high;
-    j["target"] = {{"description", p.target.description}, {"x", p.target.xy.x}, {"y", p.target.xy.y}};
+    j["target"] = {{"description", f.target.description}, {"x", f.target.xy.x}, {"y", f.target.xy.y}};
     j["message"] = f.message;
     j["solves"] = f.solves;
     j["evaluations"] = f.evaluations;
@@ -155,7 +161,7 @@ nlohmann::ordered_json front_json(const FitProblem& p, const TradeoffFront& f, d
             q["Ra"] = pt.ra;
             q["R9"] = pt.r9;
             q["ler_lm_per_W"] = pt.ler;
-            q["efficacy_lm_per_W_absorbed"] = pt.efficacy;
+            q[front_efficacy_key(f)] = pt.efficacy;
             q["Rf"] = number_or_null(pt.rf);
             q["Rg"] = number_or_null(pt.rg);
             q["x"] = pt.xy.x;
@@ -164,7 +170,7 @@ nlohmann::ordered_json front_json(const FitProblem& p, const TradeoffFront& f, d
             q["from_other_point"] = pt.from_other_point;
             auto& fr = q["fractions"] = nlohmann::ordered_json::array();
             for (std::size_t i = 0; i < pt.mass_fractions.size(); ++i)
-                fr.push_back({{"id", p.blend.components[i].label}, {"mass_fraction", pt.mass_fractions[i]}});
+                fr.push_back({{"id", f.labels[i]}, {f.amount, pt.mass_fractions[i]}});
         }
         pts.push_back(q);
     }
@@ -231,10 +237,10 @@ std::string tolerance_text(const ToleranceProblem& t, const ToleranceResult& r, 
     return o.str();
 }
 
-std::string front_csv(const FitProblem& problem, const TradeoffFront& f) {
+std::string front_csv(const TradeoffFront& f) {
     std::vector<std::string> cols{fmt::format("min_{}", f.floor_label), "feasible", f.objective_label == "Ra" ? "objective_Ra" : "objective_" + f.objective_label,
-                                  "Ra", "R9", "ler_lm_per_W", "efficacy_lm_per_W_absorbed", "x", "y", "delta_uv_prime", "from_other_point", "Rf", "Rg"};
-    for (const auto& c : problem.blend.components) cols.push_back("fraction_" + c.label);
+                                  "Ra", "R9", "ler_lm_per_W", front_efficacy_key(f), "x", "y", "delta_uv_prime", "from_other_point", "Rf", "Rg"};
+    for (const auto& c : f.labels) cols.push_back((f.amount == "loading" ? "loading_" : "fraction_") + c);
     std::string out = csv_line(cols) + "\n";
     for (const auto& p : f.points) {
         std::vector<std::string> v{fmt::format("{:.3f}", p.floor), p.feasible ? "true" : "false"};
@@ -255,7 +261,7 @@ std::string front_csv(const FitProblem& problem, const TradeoffFront& f) {
     return out;
 }
 
-std::string front_svg(const FitProblem& problem, const TradeoffFront& f) {
+std::string front_svg(const TradeoffFront& f) {
     SvgSeries line{"front", {}, {}, series_colour(0), false};
     for (const auto& p : f.points) {
         if (!p.feasible) continue;
@@ -266,7 +272,7 @@ std::string front_svg(const FitProblem& problem, const TradeoffFront& f) {
     dots.label = "solved points";
     dots.points = true;
     SvgAxes ax;
-    ax.title = fmt::format("{}: {} against {} ({})", problem.blend.name, f.objective_label, f.floor_label, problem.target.description);
+    ax.title = fmt::format("{}: {} against {} ({})", f.name, f.objective_label, f.floor_label, f.target.description);
     ax.x_label = f.floor_label + (f.kind == FrontKind::rf_efficacy ? " (CIE 224)" : " (CIE 13.3)");
     ax.y_label = f.objective_label + (f.objective_unit.empty() ? "" : " (" + f.objective_unit + ")");
     if (line.x.empty()) {

@@ -29,12 +29,12 @@ std::pair<std::vector<std::string>, std::vector<std::string>> fit_csv(const FitP
                                                                       const ToleranceResult* tolerance = nullptr, bool tolerance_run = false);
 std::string sensitivity_text(const std::vector<SensitivityRow>& rows);
 
-std::string front_text(const FitProblem& p, const TradeoffFront& f, double ms);
-nlohmann::ordered_json front_json(const FitProblem& p, const TradeoffFront& f, double ms);
+std::string front_text(const TradeoffFront& f, double ms);
+nlohmann::ordered_json front_json(const TradeoffFront& f, double ms);
 // CSV: floor, feasible, the figures, x, y, delta u'v', one fraction column per component.
-std::string front_csv(const FitProblem& problem, const TradeoffFront& front);
+std::string front_csv(const TradeoffFront& front);
 // SVG chart: the objective against the floor figure (the floor figure on x).
-std::string front_svg(const FitProblem& problem, const TradeoffFront& front);
+std::string front_svg(const TradeoffFront& front);
 
 std::string subsets_text(const SubsetTrials& c, std::size_t n);
 nlohmann::ordered_json subsets_json(const SubsetTrials& c);
