@@ -125,8 +125,24 @@ TEST_CASE("qc report: the demo lot's HTML parses as XML and holds every element"
         CHECK(count_xpath(root, h + "//*[" + has_class("spec-limit") + "]") == 1);
         CHECK(count_xpath(root, h + "//*[" + has_class("bar") + "]") >= 2);
     }
-    // Lamp 37 (Ra 79.0 in the demo data) is alone below the Ra minimum of 80.
-    CHECK(count_xpath(root, "//*[@id='hist-ra']//*[" + has_class("below-limit") + "]") == 1);
+    // A bar is marked below the limit when its lamps fall below the Ra minimum: as many such bars
+    // as there are lamps below it, at most (one bar may hold several), and none when no lamp is.
+    std::size_t below = 0;
+    for (const auto& l : run.lamps)
+        if (l.assessment.rendering && l.assessment.rendering->ra < *run.spec.ra_min) ++below;
+    const std::size_t marked = count_xpath(root, "//*[@id='hist-ra']//*[" + has_class("below-limit") + "]");
+    CHECK(marked <= below);
+    CHECK((marked > 0) == (below > 0));
+    {
+        // With the minimum at the lot's mean Ra, about half the lamps fall below it: bars marked.
+        QcRun high = run;
+        double sum = 0;
+        for (const auto& l : run.lamps) sum += l.assessment.rendering->ra;
+        high.spec.ra_min = sum / static_cast<double>(run.lamps.size());
+        pugi::xml_document d2;
+        REQUIRE(d2.load_string(qc_html_report(high).c_str(), pugi::parse_default | pugi::parse_doctype));
+        CHECK(count_xpath(d2.document_element(), "//*[@id='hist-ra']//*[" + has_class("below-limit") + "]") >= 1);
+    }
     // Table: one row per lamp, failing rows marked.
     CHECK(count_xpath(root, "//*[@id='lamp-table']/tbody/tr") == run.lamps.size());
     CHECK(count_xpath(root, "//*[@id='lamp-table']/tbody/tr[" + has_class("fail") + "]") == failed);
