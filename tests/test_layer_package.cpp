@@ -250,7 +250,7 @@ TEST_CASE("layer package: the Monte Carlo dome matches the closed form for a cle
     CHECK(f.photons_chip == doctest::Approx(r.photons_chip).epsilon(0.15));
 }
 
-TEST_CASE("layer package: chip absorption 0 gives the previous result exactly; a chip is a darker part of the bottom") {
+TEST_CASE("layer package: chip absorption 0 gives the previous result exactly, and a chip is a darker part of the bottom") {
     // Without a chip share the bottom is the reflector alone, as before chip absorption was
     // modelled: the chip's reflectance then changes nothing, bit for bit, in both models, and the
     // 395 nm example's 25 degC colour is the one README gave before (x 0.3856, y 0.3800).
@@ -286,7 +286,7 @@ TEST_CASE("layer package: chip absorption 0 gives the previous result exactly; a
     CHECK(energy_out(chip) == doctest::Approx(1.0).epsilon(1e-9));
 }
 
-TEST_CASE("layer design: pumps outside 360-470 nm are refused with file, line and problem; the new keys are checked") {
+TEST_CASE("layer design: pumps outside 360-470 nm are refused with file, line and problem, and the new keys are checked") {
     // Project contract for bad input (common practice, no source).
     const lwtest::TempDir dir;
     const auto design = [](const std::string& pump, const std::string& extra = "") {
@@ -339,7 +339,7 @@ TEST_CASE("layer design: pumps outside 360-470 nm are refused with file, line an
     CHECK(again.pump_peak_shift_nm_per_K == d.pump_peak_shift_nm_per_K);
 }
 
-TEST_CASE("layer temperature: every phosphor is quenched by its curve; a band emitter without peak-shift data is named") {
+TEST_CASE("layer temperature: every phosphor is quenched by its curve, and a band emitter without peak-shift data is named") {
     // Ratios from the data files' own quenching tables (data/phosphors, from memory there): LuAG
     // 1 -> 0.93 and CaAlSiN3 1 -> 0.9 over 25-150 degC, linear between: at 85 degC 1 - 0.07 x 60/125
     // and 1 - 0.1 x 60/125.
