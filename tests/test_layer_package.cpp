@@ -353,3 +353,28 @@ TEST_CASE("layer temperature: every phosphor is quenched by its curve, and a ban
     CHECK(rep.shift_steps > 0.1);
     CHECK(rep.shift_steps == doctest::Approx(chromaticity_shift_steps(rep.room.assessment.xy, rep.operating.assessment.xy)));
 }
+
+TEST_CASE("layer pump: the blue-pump phosphors' absorption covers 450 nm and their missing 450 nm QE is said, not invented") {
+    // data/phosphors (model shapes, from memory there): garnets and nitrides absorb at 450 nm; their
+    // files give QE for 365-405 nm only, so a 450 nm pump uses that value with a warning.
+    const auto& lib = PhosphorLibrary::builtin();
+    for (const char* id : {"Y3Al5O12:Ce3+", "Lu3Al5O12:Ce3+", "CaAlSiN3:Eu2+", "(Sr,Ca)AlSiN3:Eu2+", "beta-SiAlON:Eu2+", "K2SiF6:Mn4+"}) {
+        CAPTURE(id);
+        const Phosphor& p = lib.find(id);
+        const auto a = absorption_at(p, 450);
+        REQUIRE(a.has_value());
+        CHECK(*a > 0.3);
+        REQUIRE(p.qe_365_405nm.has_value());
+        LayerDesign d;
+        d.name = "blue";
+        d.pump = Excitation::led(450, 20);
+        d.thickness_um = 50;
+        d.components.push_back({id, p, 0.05, std::nullopt});
+        const LayerResult r = evaluate_layer(d, 25.0, quick());
+        CHECK(has_warning(r, std::string(id) + " has quantum efficiency data for 365-405 nm excitation only"));
+        CHECK(r.components[0].quantum_efficiency == *p.qe_365_405nm);
+        // A QE given in the design silences it.
+        d.components[0].quantum_efficiency = 0.9;
+        CHECK_FALSE(has_warning(evaluate_layer(d, 25.0, quick()), "365-405 nm excitation only"));
+    }
+}
