@@ -142,3 +142,41 @@ TEST_CASE("cli layer: the blue example's JSON carries the package fields, and a 
     CHECK(r.err.find("360-470 nm") != std::string::npos);
     CHECK(r.out.empty());
 }
+
+TEST_CASE("cli compare: layer designs show pump, thickness, leak and the colour shift; --format json and csv agree with layer") {
+    // The compare figures of a layer are those `layer` reports for the same design (one model,
+    // one evaluation; common practice, no source); a blend recipe has none of the layer figures.
+    const std::string d = LAMPWRIGHT_SOURCE_DIR "/examples/layers/module395_80um.toml";
+    const std::string recipe = LAMPWRIGHT_SOURCE_DIR "/examples/recipes/triband_4000K.toml";
+    const auto layer = run_cli_args({"layer", d, "-f", "json"});
+    REQUIRE(layer.exit_code == 0);
+    const auto lj = nlohmann::json::parse(layer.out);
+    const auto js = run_cli_args({"compare", d, recipe, "-f", "json"});
+    REQUIRE(js.exit_code == 0);
+    const auto cj = nlohmann::json::parse(js.out);
+    REQUIRE(cj.size() == 2);
+    const auto& l = cj.at(0);
+    CHECK(l.at("kind") == "layer");
+    CHECK(l.at("pump_peak_nm").get<double>() == 395);  // the design file's [pump] peak_nm
+    CHECK(l.at("thickness_um").get<double>() == 80);   // the design file's thickness
+    CHECK(l.at("shift_steps").get<double>() == doctest::Approx(lj.at("shift_macadam_steps").get<double>()).epsilon(1e-6));
+    CHECK(l.at("pump_leak_fraction").get<double>() == doctest::Approx(lj.at("pump_leak_fraction").get<double>()).epsilon(1e-6));
+    CHECK(l.at("x").get<double>() == doctest::Approx(lj.at("x").get<double>()).epsilon(1e-4));  // layer JSON gives x to 5 decimals
+    CHECK(l.at("operating_temperature_C").get<double>() == doctest::Approx(lj.at("temperature_C").get<double>()));
+    const auto& b = cj.at(1);
+    CHECK(b.at("kind") == "blend");
+    CHECK(b.at("pump_peak_nm").is_null());
+    CHECK(b.at("shift_steps").is_null());
+    // CSV: the same columns, the layer figures last, empty for the blend.
+    const auto csv = run_cli_args({"compare", d, recipe, "-f", "csv"});
+    REQUIRE(csv.exit_code == 0);
+    const auto rows = lwtest::text_lines(csv.out);
+    REQUIRE(rows.size() == 3);
+    const auto h = lwtest::csv_cells(rows[0]);
+    CHECK(h.back() == "shift_steps");
+    CHECK(lwtest::csv_cells(rows[2]).back().empty());
+    // Text: the layer table with the pump and the shift.
+    const auto text = run_cli_args({"compare", d, recipe});
+    REQUIRE(text.exit_code == 0);
+    CHECK(text.out.find("shift steps") != std::string::npos);
+}

@@ -45,6 +45,16 @@ TEST_CASE("cli tm30: assess prints Rf and Rg in text, the TM-30 columns in CSV (
     REQUIRE(text.exit_code == 0);  // exit status as assess --help states; common practice, no source
     CHECK(text.out.find("colour fidelity (CIE 224)  Rf 70.") != std::string::npos);  // CIE 224 calculator, from memory
     CHECK(text.out.find("reference: mix") != std::string::npos);  // CIE 224:2017, 4.3: 4000-5000 K
+    CHECK(text.out.find("10°, 5 nm") != std::string::npos);       // the 5 nm table computed at 5 nm (CIE 224:2017, 4.1)
+    // The same spectrum at 1 nm (Sprague-resampled, CIE 167:2005) is computed at 1 nm.
+    {
+        const lampwright::Spectrum s1 = lampwright::cie_fl_illuminant(2);
+        std::string t1 = "wavelength_nm,FL2\n";
+        for (std::size_t i = 0; i < s1.values.size(); ++i) t1 += fmt::format("{},{:.17g}\n", s1.first_nm + static_cast<int>(i), s1.values[i]);
+        const auto one = run_cli("assess " + quote(dir.write("fl2_1nm.csv", t1)));
+        REQUIRE(one.exit_code == 0);
+        CHECK(one.out.find("10°, 1 nm") != std::string::npos);
+    }
 
     const auto csv = run_cli("assess --format csv --ces " + quote(fl2));
     REQUIRE(csv.exit_code == 0);  // common practice, no source
@@ -64,7 +74,7 @@ TEST_CASE("cli tm30: assess prints Rf and Rg in text, the TM-30 columns in CSV (
     CHECK(std::abs(std::stod(cell(h, v, "Rf")) - 70.1) <= 0.1);  // CIE 224 calculator, from memory
     CHECK(std::abs(std::stod(cell(h, v, "Rg")) - 86) <= 0.5);    // TM-30-18 calculator, from memory
     CHECK(cell(h, v, "fidelity_reference") == "mix");             // CIE 224:2017, 4.3
-    CHECK(cell(h, v, "fidelity_interval_nm") == "1");              // computed at 1 nm (README)
+    CHECK(cell(h, v, "fidelity_interval_nm") == "5");              // a 5 nm table, computed at 5 nm (CIE 224:2017, 4.1; README)
     // x10, y10 of FL2 with the 10-degree observer lie close to its 2-degree x, y (0.3721, 0.3751,
     // CIE 15:2004 Table T.8); common practice, no source, for the size of the difference.
     CHECK(std::abs(std::stod(cell(h, v, "x10")) - 0.3721) <= 0.01);
@@ -78,7 +88,7 @@ TEST_CASE("cli tm30: assess prints Rf and Rg in text, the TM-30 columns in CSV (
     CHECK(j["Rf"].is_number());
     CHECK(j["Rcs_h1"].is_number());
     CHECK(j["fidelity_reference"] == "mix");
-    CHECK(j["fidelity_interval_nm"] == 1);
+    CHECK(j["fidelity_interval_nm"] == 5);
     CHECK(!j.contains("Rf_ces01"));  // only with --ces
     CHECK(std::prev(j.end()).key() == "warnings");  // docs/output-schemas.md: warnings last
 }
@@ -107,7 +117,7 @@ TEST_CASE("cli tm30: assess --cvg writes a stamped SVG with Rf, Rg, CCT and Duv;
     CHECK_FALSE(lwtest::file_exists(svg2));  // nothing half-written
 }
 
-TEST_CASE("cli tm30: blend, layer and compare append Rf and Rg at the end of their CSV rows") {
+TEST_CASE("cli tm30: blend, layer and compare append Rf and Rg to their CSV rows") {
     // docs/output-schemas.md: new fields at the end of a row; Rf within 0-100 (CIE 224:2017 eq. 10).
     const std::string recipe = kSource + "/examples/recipes/triband_4000K.toml";
     const std::string layer = kSource + "/examples/layers/module395_80um.toml";
@@ -119,7 +129,7 @@ TEST_CASE("cli tm30: blend, layer and compare append Rf and Rg at the end of the
         REQUIRE(rows.size() >= 2);
         auto h = csv_cells(rows[0]);
         const auto v = csv_cells(rows[1]);
-        // The layer row carries the issue-14 package columns after Rf, Rg (appended later).
+        // layer: the issue-14 package columns come after Rf, Rg (appended later).
         if (args.rfind("layer", 0) == 0) {
             const std::vector<std::string> later{"junction_temperature_C", "pump_peak_nm", "pump_fwhm_nm", "top", "chip_area_fraction",
                                                  "chip_loss_W", "photons_chip", "uv_share", "blue_share", "pump_peak_nm_25C"};
@@ -128,9 +138,12 @@ TEST_CASE("cli tm30: blend, layer and compare append Rf and Rg at the end of the
             h.resize(h.size() - later.size());
         }
         REQUIRE(h.size() >= 2);
-        CHECK(h[h.size() - 2] == "Rf");
-        CHECK(h.back() == "Rg");
-        const double rf = std::stod(v[h.size() - 2]);
+        // compare: after its 12 columns of before issue 13, and before the layer columns of issue 14.
+        const std::size_t at = args.rfind("compare", 0) == 0 ? 12 : h.size() - 2;
+        REQUIRE(h.size() > at + 1);
+        CHECK(h[at] == "Rf");
+        CHECK(h[at + 1] == "Rg");
+        const double rf = std::stod(v[at]);
         CHECK(rf > 0);
         CHECK(rf <= 100.001);  // CIE 224:2017 eq. 10: Rf <= 10 ln(e^10 + 1)
     }

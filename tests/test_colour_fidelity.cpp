@@ -9,10 +9,16 @@
 #include "lampwright/colour/colorimetry.hpp"
 #include "lampwright/colour/illuminants.hpp"
 #include "lampwright/colour/temperature.hpp"
+#include "lampwright/colour/assessment.hpp"
+#include "lampwright/core/error.hpp"
+#include "lampwright/core/interpolation.hpp"
+#include "lampwright/io/spectrum_io.hpp"
 
 #include <doctest/doctest.h>
 
+#include <algorithm>
 #include <cmath>
+#include <vector>
 
 using namespace lampwright;
 
@@ -193,4 +199,78 @@ TEST_CASE("CIE 224 refuses a CCT outside 1000-100000 K and a spectrum without po
     CHECK_THROWS(colour_fidelity_from_tristimuli(tri, 2e5));
     const Spectrum ir{"ir", 800, std::vector<double>(30, 1.0)};
     CHECK_THROWS(colour_fidelity(ir, 3000));
+}
+
+TEST_CASE("CIE 224 at 5 nm: data on a 5 nm grid are computed at 5 nm with the 5 nm CES") {
+    // CIE 224:2017, 4.1: 1 nm preferred, 5 nm allowed with the 5 nm CES table.
+    SUBCASE("which grids count as 5 nm") {
+        std::vector<double> five, one, offset, uneven;
+        for (int nm = 380; nm <= 780; nm += 5) five.push_back(nm);
+        for (int nm = 380; nm <= 780; ++nm) one.push_back(nm);
+        for (int nm = 380; nm <= 780; nm += 5) offset.push_back(nm + 2.5);
+        uneven = five;
+        uneven[10] += 1;
+        CHECK(cie224_interval_for(five) == 5);
+        CHECK(cie224_interval_for(one) == 1);
+        CHECK(cie224_interval_for(offset) == 1);  // nodes off 380, 385, ...: resampled to 1 nm
+        CHECK(cie224_interval_for(uneven) == 1);
+        CHECK_THROWS_AS((void)cie224_tristimuli(std::vector<double>(kColourSize, 1.0).data(), 10), Error);
+    }
+    SUBCASE("the 5 nm CES are the 1 nm table at every fifth node (CIE 224:2017 5 nm table)") {
+        // shared/reference/cie224_ces99_5nm.csv, read in place: the CIE's own 5 nm table.
+        const std::string path = lwtest::reference_file("cie224_ces99_5nm.csv");
+        LW_SKIP_UNLESS_FILE(path);
+        const auto f = read_spectrum_file(path);
+        REQUIRE(f.spectra.size() == static_cast<std::size_t>(kCesCount));
+        const auto& ces = cie224_colour_evaluation_samples();
+        double worst = 0;
+        for (int i = 0; i < kCesCount; ++i) {
+            const auto& s = f.spectra[static_cast<std::size_t>(i)];
+            REQUIRE(s.wavelengths_nm.size() == 81);
+            for (std::size_t j = 0; j < s.wavelengths_nm.size(); ++j)
+                worst = std::max(worst, std::abs(s.values[j] - ces[static_cast<std::size_t>(i)][j * 5]));
+        }
+        CHECK(worst <= 1e-12);
+    }
+    SUBCASE("a source equal to its reference at 5 nm: Rf = Rg = 100 (by construction)") {
+        // CIE 224:2017, 4.3: below 4000 K the reference is Planck; the 5 nm samples of Planck's law
+        // computed at 5 nm give zero differences.
+        for (double t : {2700.0, 3500.0}) {
+            CAPTURE(t);
+            const Spectrum p = planckian(t);
+            const auto f = colour_fidelity(p, cct_of(p).cct_K, 5);
+            CHECK(f.interval_nm == 5);
+            CHECK(std::abs(f.rf - 100) <= 1e-3);
+            CHECK(std::abs(f.rg - 100) <= 1e-3);
+        }
+    }
+    SUBCASE("FL1, FL2 at 5 nm, as tabulated, and against the 1 nm route") {
+        // The CIE 15 tables are given at 5 nm, so CIE 224 may be computed on them as they stand.
+        // Published: FL2 Rf 70.12 (colour-science documentation, colour_fidelity_index_ANSIIESTM3018
+        // example on SDS_ILLUMINANTS["FL2"], colour.readthedocs.io v0.4.3); CIE 224 calculator FL1
+        // Rf 80.6, FL2 Rf 70.1 (from memory). Both routes round to the published 0.1.
+        for (int n : {1, 2}) {
+            CAPTURE(n);
+            const SampledSpectrum table = cie_fl_table(n);
+            REQUIRE(cie224_interval_for(table.wavelengths_nm) == 5);
+            const Spectrum one = resample_to_1nm(table);
+            const double cct = cct_of(one).cct_K;
+            const auto at5 = colour_fidelity(one, cct, 5), at1 = colour_fidelity(one, cct, 1);
+            MESSAGE("FL" << n << " Rf at 5 nm " << at5.rf << ", at 1 nm " << at1.rf << "; Rg " << at5.rg << ", " << at1.rg);
+            CHECK(std::abs(at5.rf - at1.rf) <= 0.3);  // two quadratures of one smooth-sampled table (common practice, no source)
+            if (n == 2) CHECK(std::abs(at5.rf - 70.12) <= 0.05);  // colour-science documentation example
+            CHECK(std::abs(at5.rf - (n == 1 ? 80.6 : 70.1)) <= 0.1);  // CIE 224 calculator, from memory
+        }
+    }
+    SUBCASE("assess_sampled picks the interval from the data and says so") {
+        const Assessment a = assess_sampled(cie_fl_table(2));
+        REQUIRE(a.fidelity);
+        CHECK(a.fidelity->interval_nm == 5);
+        const Assessment b = assess(cie_fl_illuminant(2));
+        REQUIRE(b.fidelity);
+        CHECK(b.fidelity->interval_nm == 1);
+        // The chromaticity, CCT and Ra do not depend on it: the same 1 nm spectrum.
+        CHECK(a.xy.x == b.xy.x);
+        CHECK(a.cct.cct_K == b.cct.cct_K);
+    }
 }

@@ -1,10 +1,14 @@
 // Fitting LED layer loadings (and thickness) to a target white.
 #include "lampwright/led/layer_design.hpp"
 #include "lampwright/led/layer_fit.hpp"
+#include "lampwright/led/layer_tolerance.hpp"
+#include "lampwright/core/error.hpp"
+#include "lampwright/design/tolerance.hpp"
 
 #include "test_support.hpp"
 
 #include <doctest/doctest.h>
+#include <nlohmann/json.hpp>
 
 #include <cmath>
 #include <sstream>
@@ -107,4 +111,111 @@ TEST_CASE("layer fit: min_loading and max_loading of a component bound its fitte
     for (const auto& c : r.constraints)
         if (c.name.find("loading of") != std::string::npos) ++listed;
     CHECK(listed == 2);
+}
+
+namespace {
+
+LayerToleranceProblem module_run(std::size_t draws) {
+    LayerToleranceProblem t;
+    t.design = load_layer_design(LAMPWRIGHT_SOURCE_DIR "/examples/layers/module395_150um.toml");
+    const Chromaticity xy = evaluate_layer_design(t.design).operating.assessment.xy;
+    t.ellipse = tolerance_ellipse(target_xy(xy.x, xy.y));
+    t.draws = draws;
+    t.seed = 3;
+    return t;
+}
+
+}  // namespace
+
+TEST_CASE("layer tolerance: no variation gives the nominal module; measurement alone gives its own sd; more loading spread, more steps") {
+    // Definitions of mean and sample sd (common practice, no source): with every sigma zero each
+    // module is the design; with only the measurement error, x and y of the modules scatter by
+    // that sigma (sample sd of N normal values within 4 standard errors, sigma / sqrt(2 (N - 1))).
+    LayerToleranceProblem none = module_run(20);
+    none.loading_sigma = none.thickness_sigma = none.d50_sigma = none.measurement_sigma_xy = 0;
+    const LayerToleranceResult z = run_layer_tolerance(none);
+    CHECK(z.sd_steps < 1e-12);
+    CHECK(z.mean_steps == doctest::Approx(z.nominal_steps).epsilon(1e-12));
+    CHECK(z.inside == 20);  // the design sits on its own target
+    CHECK(z.failed == 0);
+
+    LayerToleranceProblem meas = none;
+    meas.draws = 300;
+    meas.measurement_sigma_xy = 0.002;
+    const LayerToleranceResult m = run_layer_tolerance(meas);
+    const double se = 0.002 / std::sqrt(2.0 * 299);
+    CHECK(std::abs(m.sd_x - 0.002) < 4 * se);
+    CHECK(std::abs(m.sd_y - 0.002) < 4 * se);
+
+    LayerToleranceProblem a = module_run(200), b = module_run(200);
+    b.loading_sigma = 3 * a.loading_sigma;
+    const LayerToleranceResult ra = run_layer_tolerance(a), rb = run_layer_tolerance(b);
+    CHECK(rb.sd_x > ra.sd_x);
+    CHECK(rb.mean_steps > ra.mean_steps);
+    CHECK(rb.yield <= ra.yield);
+    // Same seed, same modules (std::mt19937_64 is fixed by the C++ standard; one library here).
+    const LayerToleranceResult again = run_layer_tolerance(a);
+    CHECK(again.mean_steps == ra.mean_steps);
+    CHECK(again.inside == ra.inside);
+    LayerToleranceProblem bad = a;
+    bad.thickness_sigma = -0.1;
+    CHECK_THROWS_AS(run_layer_tolerance(bad), Error);
+}
+
+TEST_CASE("layer sensitivity: central differences are linear in the step and the thickness row is there") {
+    // A smooth model: the 1 % and 2 % central differences agree to first order (the 2 % one is
+    // twice the 1 % one within 5 %; Taylor's theorem, common practice, no source).
+    const LayerDesign d = load_layer_design(LAMPWRIGHT_SOURCE_DIR "/examples/layers/module395_150um.toml");
+    const auto one = layer_sensitivity(d, 0.01), two = layer_sensitivity(d, 0.02);
+    REQUIRE(one.size() == d.components.size() + 1);
+    CHECK(one.back().label == "thickness");
+    CHECK(one.back().mass_fraction == d.thickness_um);
+    for (std::size_t i = 0; i < one.size(); ++i) {
+        CAPTURE(one[i].label);
+        CHECK(two[i].d_u_prime == doctest::Approx(2 * one[i].d_u_prime).epsilon(0.05));
+        CHECK(two[i].d_v_prime == doctest::Approx(2 * one[i].d_v_prime).epsilon(0.05));
+    }
+    // Thicker layer: less pump leaks, so the colour moves away from the violet pump (v' rises).
+    CHECK(one.back().d_v_prime > 0);
+}
+
+TEST_CASE("layer choose: the best 2 of 3 components is at least as good as each pair fitted alone, and k = n is the plain fit") {
+    LayerFitProblem p;
+    p.design = load_layer_design(LAMPWRIGHT_SOURCE_DIR "/examples/layers/module395_150um.toml");
+    p.target = target_cct(4000, 0.0);
+    // The default objective (smallest change of the loadings) and a small evaluation budget keep
+    // the six fits quick; the comparison holds for any budget (the best is the maximum of the trials).
+    constexpr int kBudget = 300;
+    const LayerSubsetChoice all = choose_layer_components(p, 3, kBudget);
+    REQUIRE(all.found);
+    CHECK(all.trials.size() == 1);
+    CHECK(all.result.objective_value == doctest::Approx(fit_layer(p, kBudget).objective_value).epsilon(1e-9));
+    const LayerSubsetChoice two = choose_layer_components(p, 2, kBudget);
+    CHECK(two.trials.size() == 3);
+    for (const auto& t : two.trials)
+        if (t.feasible) CHECK(two.result.objective_value >= t.objective_value);
+    CHECK_THROWS_AS(choose_layer_components(p, 4), Error);
+}
+
+TEST_CASE("fit command on a layer design: --tolerance-run, --sensitivity, --choose and their usage errors") {
+    const std::string d = quote(LAMPWRIGHT_SOURCE_DIR "/examples/layers/module395_150um.toml");
+    const auto j = run_cli("fit " + d + " --cct 4000 --tolerance-run --draws 40 -f json");
+    REQUIRE(j.exit_code == 0);
+    const auto tj = nlohmann::json::parse(j.out).at("tolerance");
+    CHECK(tj.at("draws") == 40);
+    CHECK(tj.at("loading_sigma").get<double>() == layer_tolerance_default("loading_sigma"));
+    const auto csv = run_cli("fit " + d + " --cct 4000 --tolerance-run --draws 40 -f csv");
+    REQUIRE(csv.exit_code == 0);
+    CHECK(csv.out.find("tol_inside_share") != std::string::npos);
+    const auto text = run_cli("fit " + d + " --cct 4000 --sensitivity --choose 3");  // one subset: the plain fit
+    REQUIRE(text.exit_code == 0);
+    CHECK(text.out.find("thickness") != std::string::npos);
+    CHECK(text.out.find("Best 3 of 3 components") != std::string::npos);
+    auto rc = [&](const std::string& args) { return run_cli("fit " + d + " --cct 4000 " + args).exit_code; };
+    CHECK(rc("--tolerance-run --weighing-sigma 0.01") == 2);  // a blend-recipe source
+    CHECK(rc("--loading-sigma 0.02") == 2);                   // needs --tolerance-run
+    CHECK(rc("--tolerance-run --loading-sigma 0.9") == 2);    // above 0.5
+    CHECK(rc("--tolerance-run --d50-sigma 0.01,0.02") == 2);  // one value for a layer
+    CHECK(run_cli("fit " + quote(LAMPWRIGHT_SOURCE_DIR "/examples/recipes/triband_4000K.toml") + " --cct 4000 --tolerance-run --loading-sigma 0.02")
+              .exit_code == 2);
 }

@@ -60,6 +60,24 @@ TEST_CASE("qc spec: the three target kinds and the limits load") {
     CHECK(*h.rcs_h_min_percent[15] == -100);  // min = max is a point range, allowed
     CHECK(*h.rcs_h_max_percent[15] == -100);
     for (std::size_t j = 1; j < 15; ++j) CHECK_FALSE((h.rf_h_min[j] || h.rcs_h_min_percent[j] || h.rcs_h_max_percent[j]));
+    // TM-30-20 Annex E presets (the criteria from memory, data/targets/tm30_annex_e.csv): P1 fills
+    // Rf >= 78, Rg >= 95, Rcs,h1 7-19 %; a key the file gives wins over the preset; the note says
+    // the criteria are from memory.
+    const auto p1 = load_qc_spec(dir.write("p1.toml", "name='P1'\n[target]\nflamp='F4100'\n[limits]\ntm30_level='p1'\nmin_rf=80\n"));
+    CHECK(p1.tm30_level == "P1");
+    CHECK(*p1.rf_min == 80);  // the file's own value
+    CHECK(*p1.rg_min == 95);
+    CHECK(*p1.rcs_h_min_percent[0] == 7);
+    CHECK(*p1.rcs_h_max_percent[0] == 19);
+    CHECK_FALSE(p1.rf_h_min[0]);
+    REQUIRE(p1.notes.size() == 1);
+    CHECK(p1.notes.front().find("from memory") != std::string::npos);
+    const auto f2 = load_qc_spec(dir.write("f2.toml", "name='F2'\n[target]\nflamp='F4100'\n[limits]\ntm30_level='F2'\n"));
+    CHECK(*f2.rf_min == 85);
+    CHECK(*f2.rf_h_min[0] == 80);
+    CHECK_FALSE(f2.rg_min);
+    CHECK(tm30_design_levels().size() == 6);
+    for (const auto& l : tm30_design_levels()) CHECK(l.source.find("from memory") != std::string::npos);
     const auto q = load_qc_spec(dir.write("b.toml", "name='SSL 3500'\n[target]\nansi_class=3500\n"));
     CHECK(q.region == QcSpec::Region::ansi_quadrangle);
     CHECK(q.centre.x == doctest::Approx(0.4078));  // ANSI C78.377-2017 Table 1
@@ -88,6 +106,9 @@ TEST_CASE("qc spec: the three target kinds and the limits load") {
         {"name='x'\n[target]\nflamp='F4100'\n[limits]\nmin_rcs_h5=10\nmax_rcs_h5=5\n", "min_rcs_h5 (10) must not be above max_rcs_h5 (5)"},
         {"name='x'\n[target]\nflamp='F4100'\n[limits]\nmin_rf_h17=80\n", "unknown key"},
         {"name='x'\n[target]\nflamp='F4100'\n[limits]\nmin_rf_h0=80\n", "unknown key"},
+        {"name='x'\n[target]\nflamp='F4100'\n[limits]\ntm30_level='V1'\n", "levels offered are P1, P2, P3, F1, F2, F3"},
+        {"name='x'\n[target]\nflamp='F4100'\n[limits]\ntm30_level=1\n", "limits.tm30_level"},
+        {"name='x'\n[target]\nflamp='F4100'\n[limits]\ntm30_level='P1'\nmax_rg=90\n", "tm30_level P1"},
     };
     for (const auto& b : bad) {
         const std::string path = dir.write("bad.toml", b[0]);

@@ -282,6 +282,34 @@ TEST_CASE("fit command: tolerance run, reproducible, and its usage errors") {
     };
     CHECK(strip_time(a) == strip_time(b));
     CHECK(a.find("\"inside_share\"") != std::string::npos);
+    // The Rf/Rg spread (docs/output-schemas.md): 2000 draws, 5th percentile <= mean <= 95th (definitions).
+    const auto tj = nlohmann::json::parse(a).at("tolerance");
+    CHECK(tj.at("fidelity_draws") == 2000);
+    for (const char* k : {"Rf", "Rg"}) {
+        CAPTURE(k);
+        CHECK(tj.at(k).at("p05").get<double>() <= tj.at(k).at("mean").get<double>());
+        CHECK(tj.at(k).at("mean").get<double>() <= tj.at(k).at("p95").get<double>());
+    }
+    // The CSV row carries the same figures in its tol_ columns.
+    const auto csv = run_cli("fit " + recipe + " --cct 4000 --tolerance-run --draws 3000 --peak-sigma 0.5 --seed 1 --format csv");
+    REQUIRE(csv.exit_code == 0);
+    const auto js = run_cli("fit " + recipe + " --cct 4000 --tolerance-run --draws 3000 --peak-sigma 0.5 --seed 1 --format json");
+    REQUIRE(js.exit_code == 0);
+    const auto tj3 = nlohmann::json::parse(js.out).at("tolerance");
+    std::istringstream lines(csv.out);
+    std::string head, row;
+    std::getline(lines, head);
+    std::getline(lines, row);
+    const auto h = lwtest::csv_cells(head), v = lwtest::csv_cells(row);
+    REQUIRE(h.size() == v.size());
+    auto cell = [&](const std::string& name) {
+        const auto it = std::find(h.begin(), h.end(), name);
+        REQUIRE(it != h.end());
+        return v[static_cast<std::size_t>(it - h.begin())];
+    };
+    CHECK(std::stod(cell("tol_mean_Rf")) == doctest::Approx(tj3.at("Rf").at("mean").get<double>()).epsilon(1e-5));
+    CHECK(std::stod(cell("tol_sd_Rg")) == doctest::Approx(tj3.at("Rg").at("sd").get<double>()).epsilon(1e-5));
+    CHECK(cell("tol_fidelity_draws") == "2000");
 
     auto rc = [&](const std::string& args) { return run_cli("fit " + recipe + " --cct 4000 " + args).exit_code; };
     CHECK(rc("--draws 100") == 2);
@@ -485,4 +513,75 @@ TEST_CASE("fit command: a bad [tolerance] is refused with file, line and key") {
         CHECK(b.exit_code != 0);
         CHECK(b.err.find(c.key) != std::string::npos);
     }
+}
+
+TEST_CASE("tolerance: Rf and Rg of a draw by the fast path agree with evaluate_blend; the run reports their spread") {
+    // The CIE 224 sample sums are linear in the light as X, Y, Z are (CIE 224:2017, 4.2), so the
+    // same tabulated shifts and coating-weight table carry them; the reference is the full blend
+    // model's assess() on the drawn lamp (common practice, no source; the tolerance is that of the
+    // coating optics, as in the chromaticity checks above).
+    for (const char* recipe : {"led395_module.toml", "multiband_5000K.toml", "triband_4000K.toml"}) {
+        CAPTURE(recipe);
+        ToleranceProblem t = production(recipe, 10);
+        t.peak_sigma_nm = {1.5};
+        t.qe_sigma = {0.03};
+        t.d50_sigma = {0.05};
+        t.coating_weight_sigma_mg_per_cm2 = 0.3;
+        const ToleranceModel m(t, true);
+        REQUIRE(m.has_fidelity());
+        ToleranceSampler s(m, 3);
+        ToleranceDraw d;
+        for (int k = 0; k < 3; ++k) {
+            s.next(d);
+            const auto fast = m.fidelity(d);
+            const BlendResult exact = evaluate_draw_exactly(t.blend, d);
+            REQUIRE(fast);
+            REQUIRE(exact.assessment.fidelity);
+            CHECK(std::abs(fast->rf - exact.assessment.fidelity->rf) < 0.05);
+            CHECK(std::abs(fast->rg - exact.assessment.fidelity->rg) < 0.05);
+        }
+    }
+    // No errors at all: every draw is the recipe, so the spread is nil and the mean is the
+    // recipe's own Rf, Rg (definitions of mean and sd).
+    ToleranceProblem zero = production("triband_4000K.toml", 300);
+    zero.weighing_sigma = {0};
+    zero.peak_sigma_nm = {0};
+    zero.qe_sigma = {0};
+    zero.measurement_sigma_xy = 0.001;  // a chromaticity error only: it must not spread Rf
+    zero.fidelity_draws = 50;
+    const ToleranceResult z = run_tolerance(zero);
+    const BlendResult nominal_blend = evaluate_blend(zero.blend);
+    REQUIRE(nominal_blend.assessment.fidelity);
+    const ColourFidelity nominal = *nominal_blend.assessment.fidelity;
+    CHECK(z.fidelity_draws == 50);
+    CHECK(z.rf.mean == doctest::Approx(nominal.rf).epsilon(1e-4));
+    CHECK(z.rg.mean == doctest::Approx(nominal.rg).epsilon(1e-4));
+    CHECK(z.rf.sd < 1e-9);
+    CHECK(z.nominal_rf == doctest::Approx(nominal.rf).epsilon(1e-4));
+    // With errors: the percentiles bracket the mean, and a larger peak shift spreads Rf more
+    // (Rf falls as the bands move from where the recipe put them; common practice, no source).
+    ToleranceProblem some = production("multiband_5000K.toml", 400);
+    some.fidelity_draws = 400;
+    const ToleranceResult a = run_tolerance(some);
+    some.peak_sigma_nm = {2.0};
+    const ToleranceResult b = run_tolerance(some);
+    CHECK(a.fidelity_draws == 400);
+    CHECK(a.rf.p05 <= a.rf.mean);
+    CHECK(a.rf.mean <= a.rf.p95);
+    CHECK(a.rg.p05 <= a.rg.mean);
+    CHECK(a.rg.mean <= a.rg.p95);
+    CHECK(a.rf.sd > 0);
+    CHECK(b.rf.sd > a.rf.sd);
+    // Only the first fidelity_draws draws, and none at 0: the chromaticity figures do not change.
+    some.peak_sigma_nm = {0.5};
+    some.fidelity_draws = 10;
+    const ToleranceResult c = run_tolerance(some);
+    some.fidelity_draws = 0;
+    const ToleranceResult none = run_tolerance(some);
+    CHECK(c.fidelity_draws == 10);
+    CHECK(none.fidelity_draws == 0);
+    CHECK(c.mean_steps == a.mean_steps);
+    CHECK(c.inside == a.inside);
+    CHECK(none.mean_steps == a.mean_steps);
+    CHECK_THROWS_AS(ToleranceModel(some).ces_tristimuli(ToleranceModel(some).nominal_draw()), Error);
 }

@@ -54,10 +54,15 @@ void check_front_points(const FitProblem& p, const TradeoffFront& f) {
         CHECK(sum == doctest::Approx(1.0).epsilon(1e-9));
         const BlendResult r = blend_of(p, pt.mass_fractions);
         REQUIRE(r.assessment.rendering);
-        const double floor_figure = f.kind == FrontKind::ra_r9 ? r.assessment.rendering->ri[8] : r.assessment.rendering->ra;
+        REQUIRE(r.assessment.fidelity);
+        const double floor_figure = f.kind == FrontKind::ra_r9         ? r.assessment.rendering->ri[8]
+                                    : f.kind == FrontKind::rf_efficacy ? r.assessment.fidelity->rf
+                                                                       : r.assessment.rendering->ra;
+        CHECK(pt.rf == doctest::Approx(r.assessment.fidelity->rf).epsilon(1e-9));
+        CHECK(pt.rg == doctest::Approx(r.assessment.fidelity->rg).epsilon(1e-9));
         CHECK(floor_figure >= pt.floor);
         CHECK(lwtest::duv_prime(r.assessment, p.target.xy) <= p.tolerance_uv_prime);
-        const double objective = f.kind == FrontKind::ra_efficacy ? r.luminous_efficacy_absorbed
+        const double objective = f.kind == FrontKind::ra_efficacy || f.kind == FrontKind::rf_efficacy ? r.luminous_efficacy_absorbed
                                  : f.kind == FrontKind::ra_ler    ? r.assessment.ler_lm_per_W
                                                                   : r.assessment.rendering->ra;
         CHECK(objective == doctest::Approx(pt.objective).epsilon(1e-9));
@@ -120,6 +125,25 @@ TEST_CASE("tradeoff: the Ra-R9 front on three components") {
     const TradeoffFront f = tradeoff_front(p, FrontKind::ra_r9, 5);
     check_front_points(p, f);
     for (std::size_t k = 1; k < f.points.size(); ++k) CHECK(f.points[k].objective <= f.points[k - 1].objective);
+}
+
+TEST_CASE("tradeoff: the efficacy-Rf front (CIE 224 Rf floor) is monotone and every point meets its floor") {
+    // The epsilon-constraint argument of the Ra front with the floor on Rf (Haimes, Lasdon and
+    // Wismer 1971; common practice, no source); each point re-checked with evaluate_blend.
+    const FitProblem p = fit_problem("multiband_5000K.toml", target_cct(4000, 0.0), FitObjective::efficacy);
+    const TradeoffFront f = tradeoff_front(p, FrontKind::rf_efficacy, 5);
+    REQUIRE(f.points.size() == 5);
+    CHECK(f.floor_label == "Rf");
+    check_front_points(p, f);
+    for (std::size_t k = 1; k < f.points.size(); ++k) CHECK(f.points[k].objective <= f.points[k - 1].objective);
+    CHECK(f.floor_high > f.floor_low);
+    MESSAGE("efficacy-Rf front: Rf " << f.points.front().rf << " at " << f.points.front().efficacy << " lm/W absorbed; Rf "
+                                     << f.points.back().rf << " at " << f.points.back().efficacy);
+    std::istringstream csv(front_csv(p, f));
+    std::string header;
+    std::getline(csv, header);
+    CHECK(header.rfind("min_Rf,feasible,objective_efficacy", 0) == 0);
+    CHECK(parse_front_kind("rf-efficacy") == FrontKind::rf_efficacy);
 }
 
 TEST_CASE("tradeoff: the front is reproducible and rejects a bad number of points") {
@@ -212,6 +236,9 @@ TEST_CASE("fit command: front, choose and their usage errors") {
     CHECK(rc("--cct 3500 --points 5") == 2);
     CHECK(rc("--cct 3500 --front ra-efficacy --maximize ra") == 2);
     CHECK(rc("--cct 3500 --front ra-efficacy --min-ra 80") == 2);
+    CHECK(rc("--cct 3500 --front rf-efficacy --min-rf 80") == 2);  // the swept floor
+    CHECK(rc("--cct 3500 --maximize rg --r9-weight 0.3") == 2);      // the weight of another objective
+    CHECK(rc("--cct 3500 --maximize rf-rg --rg-weight 1.5") == 2);
     CHECK(rc("--cct 3500 --choose 4") == 2);  // three components in this recipe
     CHECK(rc("--cct 3500 --choose 0") == 2);
 }

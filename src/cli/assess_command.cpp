@@ -91,7 +91,7 @@ int run_assess(int argc, char** argv) {
         for (const auto& sampled : parsed.spectra) {
             Assessment a;
             try {
-                a = assess(resample_to_1nm(sampled), options);
+                a = assess_sampled(sampled, options);
             } catch (const Error& e) {
                 print_error(fmt::format("{}: spectrum '{}': {}", file == "-" ? "stdin" : file, sampled.name, e.what()));
                 status = kExitBadInput;

@@ -2,6 +2,7 @@
 // Shared pieces of the command-line front end: exit codes, output formats, messages.
 #include "lampwright/core/error.hpp"
 #include "lampwright/core/text_encoding.hpp"  // dump_json for every --format json
+#include "lampwright/led/layer_tolerance.hpp"
 #include "lampwright/io/output_file.hpp"
 #include "lampwright/report/provenance.hpp"
 
@@ -129,8 +130,13 @@ bool parse_command_line(int argc, char** argv, const boost::program_options::opt
 extern const char* const kSafetyNotice;
 
 
-// fit on an LED layer design (called by run_fit).
-int run_layer_fit(const LayerFitProblem& problem, Format format, const std::string& design_out);
+// fit on an LED layer design (called by run_fit), with what else was asked for.
+struct LayerFitExtras {
+    int choose = 0;                                   // --choose K (0: all components)
+    bool sensitivity = false;                         // --sensitivity
+    std::optional<LayerToleranceProblem> tolerance;   // --tolerance-run: sigmas, draws, seed, steps (design and ellipse filled in later)
+};
+int run_layer_fit(const LayerFitProblem& problem, Format format, const std::string& design_out, const LayerFitExtras& extras = {});
 
 int run_assess(int argc, char** argv);
 int run_phosphors(int argc, char** argv);

@@ -29,8 +29,13 @@ std::vector<ComparisonEntry> load_entries(const std::string& path, const std::ve
         const TomlDoc doc = TomlDoc::from_file(path);
         if (is_layer_design(doc)) {
             const LayerEvaluation rep = evaluate_layer_design(layer_design_from_toml(doc, folders));
-            return {{rep.design.name, "layer", rep.operating.spectrum, rep.operating.assessment, rep.operating.converted_efficiency,
-                     rep.operating.pump_leak_fraction, rep.operating.efficacy_lm_per_W_pump, layer_caution(rep)}};
+            ComparisonEntry e{rep.design.name, "layer", rep.operating.spectrum, rep.operating.assessment, rep.operating.converted_efficiency,
+                              rep.operating.pump_leak_fraction, rep.operating.efficacy_lm_per_W_pump, layer_caution(rep)};
+            e.pump_peak_nm = rep.design.pump.peak_nm;
+            e.thickness_um = rep.design.thickness_um;
+            e.operating_temperature_C = rep.design.temperature_C;
+            e.shift_steps = rep.shift_steps;
+            return {e};
         }
         const Recipe recipe = recipe_from_toml(doc, folders);
         const BlendResult b = evaluate_blend(recipe.blend);
@@ -39,7 +44,7 @@ std::vector<ComparisonEntry> load_entries(const std::string& path, const std::ve
     std::vector<ComparisonEntry> out;
     for (const auto& s : read_spectrum_file(path).spectra) {
         const Spectrum one = resample_to_1nm(s);
-        out.push_back({s.name, "spectrum", one, assess(one), NAN, NAN, NAN, ""});
+        out.push_back({s.name, "spectrum", one, assess_sampled(s), NAN, NAN, NAN, ""});
     }
     return out;
 }
@@ -50,20 +55,20 @@ int run_compare(int argc, char** argv) {
     po::options_description opts(R"(Usage: lampwright compare [options] FILE...
 
 Side-by-side figures of LED layer designs (TOML with [layer]), blend recipes (other TOML) and
-measured spectra (CSV): chromaticity, CCT, Duv, Ra, R9, LER, efficiency, pump leakage, efficacy.
-Efficiency is converted light (leaked pump not counted) per W pump for a layer and W per W absorbed
-for a blend; efficacy (all light) likewise.
+measured spectra (CSV): chromaticity, CCT, Duv, Ra, R9, Rf, Rg, LER, efficiency, pump leakage,
+efficacy; for layer designs also the pump peak, thickness, operating temperature and the colour
+shift from 25 degC to it (MacAdam steps). Efficiency is converted light (leaked pump not counted)
+per W pump for a layer and W per W absorbed for a blend; efficacy (all light) likewise.
 
 Options)");
     std::string svg, format = "text";
     std::vector<std::string> folders, files;
-    opts.add_options()("help,h", "show this help")("format,f", po::value(&format), "text | csv (default text)")
+    opts.add_options()("help,h", "show this help")("format,f", po::value(&format), "text | csv | json (default text)")
         ("svg", po::value(&svg), "write the spectra overlaid and the chromaticities on a u'v' diagram to this SVG file")
         ("phosphors", po::value(&folders), "a folder of your own phosphor files (*.toml); repeatable");
     po::variables_map vm;
     if (!parse_command_line(argc, argv, opts, "file", &files, vm, "compare")) return kExitOk;
     const Format f = parse_format(format);
-    if (f == Format::json) throw UsageError{"compare: --format must be text or csv"};
     if (files.empty()) throw UsageError{"compare: give at least one file (see lampwright compare --help)"};
 
     std::vector<FileRole> inputs;
@@ -84,7 +89,11 @@ Options)");
             status = kExitBadInput;
         }
     }
-    std::cout << (f == Format::csv ? comparison_csv(entries) : comparison_text(entries));
+    switch (f) {
+        case Format::text: std::cout << comparison_text(entries); break;
+        case Format::csv: std::cout << comparison_csv(entries); break;
+        case Format::json: std::cout << dump_json(comparison_json(entries)) << '\n'; break;
+    }
     for (const auto& e : entries)
         for (const auto& w : e.assessment.warnings) print_warning(fmt::format("{}: {}", e.name, w));
     for (const auto& e : entries)

@@ -15,6 +15,7 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <cctype>
 #include <chrono>
 #include <cmath>
 #include <iostream>
@@ -51,6 +52,7 @@ const NumberRange kMinLerRange{.min = 0, .max = 683, .unit = "lm/W", .note = "68
 const NumberRange kAnsiRange{.min = 2200, .max = 6500, .unit = "K", .whole = true};
 const NumberRange kPointsRange{.min = 2, .max = 1000, .unit = "points", .whole = true};
 const NumberRange kChooseRange{.min = 1, .max = 8, .unit = "components", .whole = true};
+const NumberRange kLayerSigmaRange{.min = 0, .max = 0.5, .note = "a fraction: 0.02 = 2 %"};
 const NumberRange kDrawsRange{.min = 1, .max = 100000000, .unit = "draws", .whole = true};
 const NumberRange kSeedRange{.min = 0, .max = 4294967295.0, .whole = true};
 // The production-tolerance sigmas: ranges from their one place, kToleranceSources (design/tolerance.hpp).
@@ -118,11 +120,18 @@ TRADE-OFF FRONT (instead of one fit):
   --front ra-efficacy    maximise efficacy (lm per W absorbed) for a rising floor on Ra
   --front ra-ler         maximise LER for a rising floor on Ra
   --front ra-r9          maximise Ra for a rising floor on R9
+  --front rf-efficacy    maximise efficacy (lm per W absorbed) for a rising floor on Rf (CIE 224)
   The floor runs from the floor figure of the unconstrained best blend up to the best reachable one
   (epsilon-constraint sweep, --points solves); --front-csv and --front-svg write the front.
 
 BEST K OF N: --choose K solves every K-component subset of the recipe (at most 8 components) and
   keeps the best feasible one by the objective; the subsets that cannot meet the target are listed.
+  LED layer designs too: each subset's loadings fitted on the layer model.
+
+LED LAYER DESIGNS: --sensitivity prints what 1 % more of each loading and of the thickness does;
+  --tolerance-run draws --draws modules (default 2000) on the full layer model with per-module
+  loading (--loading-sigma, default 0.02), thickness (--thickness-sigma, 0.03), lot d50
+  (--d50-sigma, 0.05) and measurement (--measurement-sigma, 0.0015) errors (defaults from memory).
 
 PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Monte Carlo), made in
   batches of --batch-size lamps (default 50). Per batch (shared by its lamps): the weighing of the
@@ -140,11 +149,11 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
 )") + kSafetyNotice + "\nOptions");
     std::string format = "text", recipe_out, xy, uv, flamp, maximize = "change", method = "auto";
     std::vector<std::string> folders, recipes;
-    double cct = 0, duv = 0, tolerance = kDefaultFitToleranceUvPrime, steps = kAnsiC78376Steps, r9_weight = 0.5, coating_sigma = 0, measurement_sigma = 0, batch_size = 50;
+    double cct = 0, duv = 0, tolerance = kDefaultFitToleranceUvPrime, steps = kAnsiC78376Steps, r9_weight = 0.5, rg_weight = 0.5, coating_sigma = 0, measurement_sigma = 0, batch_size = 50;
     int ansi = 0, points = 30, choose = 0;
     std::string front, front_csv_path, front_svg_path, weighing_sigma, peak_sigma, qe_sigma, d50_sigma, absorption_sigma;
     long long draws = 100000, seed = 1;
-    double min_ra = 0, min_r9 = 0, min_ler = 0, min_rf = 0, min_rg = 0, max_rg = 0;
+    double min_ra = 0, min_r9 = 0, min_ler = 0, min_rf = 0, min_rg = 0, max_rg = 0, loading_sigma = 0, thickness_sigma = 0;
     std::string rcs_h1;
     opts.add_options()("help,h", "show this help");
     add_number_option(opts, "cct", &cct, kCctRange, "target CCT");
@@ -153,8 +162,9 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     add_number_option(opts, "ansi", &ansi, kAnsiRange, "ANSI C78.377 nominal CCT class");
     opts.add_options()("flamp", po::value(&flamp), "ANSI C78.376 lamp colour, e.g. F4100");
     add_number_option(opts, "steps", &steps, kStepsRange, "MacAdam ellipse size with --flamp or --tolerance-run (default 4)");
-    opts.add_options()("maximize", po::value(&maximize), "ra | r9 | ra-r9 | ler | efficacy | rf (CIE 224 Rf); default: the smallest change from the recipe");
+    opts.add_options()("maximize", po::value(&maximize), "ra | r9 | ra-r9 | ler | efficacy | rf (CIE 224 Rf) | rg (TM-30 Rg) | rf-rg; default: the smallest change from the recipe");
     add_number_option(opts, "r9-weight", &r9_weight, kR9WeightRange, "k in (1-k) Ra + k R9 for --maximize ra-r9 (default 0.5)");
+    add_number_option(opts, "rg-weight", &rg_weight, kR9WeightRange, "k in (1-k) Rf + k Rg for --maximize rf-rg (default 0.5)");
     add_number_option(opts, "tolerance", &tolerance, kToleranceRange, "chromaticity tolerance, delta u'v' (default 0.0005; not with --flamp)");
     add_number_option(opts, "min-ra", &min_ra, kMinRaRange, "require Ra >= this");
     add_number_option(opts, "min-r9", &min_r9, kMinR9Range, "require R9 >= this");
@@ -169,7 +179,7 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
         ("recipe-out", po::value(&recipe_out), "write the fitted recipe (TOML, loadable by 'blend')")
         ("format,f", po::value(&format), "text | csv | json (default text)")
         ("phosphors", po::value(&folders), "a folder of your own phosphor files (*.toml); repeatable")
-        ("front", po::value(&front), "ra-efficacy | ra-ler | ra-r9: compute the trade-off front instead of one fit");
+        ("front", po::value(&front), "ra-efficacy | ra-ler | ra-r9 | rf-efficacy: compute the trade-off front instead of one fit");
     add_number_option(opts, "points", &points, kPointsRange, "points on the front (default 30)");
     opts.add_options()("front-csv", po::value(&front_csv_path), "write the front as CSV")
         ("front-svg", po::value(&front_svg_path), "write the front as an SVG chart");
@@ -188,6 +198,8 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     add_number_option(opts, "measurement-sigma", &measurement_sigma, kMeasurementSigmaRange, "measurement repeatability sigma in x and in y");
     add_number_option(opts, "batch-size", &batch_size, kBatchSizeRange, "lamps per batch (share the powder mix and lots)");
     add_number_option(opts, "seed", &seed, kSeedRange, "random-number seed (default 1)");
+    add_number_option(opts, "loading-sigma", &loading_sigma, kLayerSigmaRange, "LED layer designs: module-to-module loading sigma, relative (default 0.02)");
+    add_number_option(opts, "thickness-sigma", &thickness_sigma, kLayerSigmaRange, "LED layer designs: module-to-module thickness sigma, relative (default 0.03)");
     opts.add_options()("fit-thickness", "LED layer designs: fit the layer thickness as well as the loadings");
     po::variables_map vm;
     if (!parse_command_line(argc, argv, opts, "recipe", &recipes, vm, "fit")) return kExitOk;
@@ -204,7 +216,7 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     for (const char* o : {"maximize", "choose", "tolerance-run", "recipe-out", "sensitivity"})
         if (want_front && vm.count(o)) throw UsageError{fmt::format("fit: --front sets its own objective and gives many blends; --{} does not apply", o)};
     for (const char* o : {"draws", "weighing-sigma", "weighing-absolute", "peak-sigma", "qe-sigma", "seed", "d50-sigma", "absorption-sigma",
-                          "coating-weight-sigma", "measurement-sigma", "batch-size"})
+                          "coating-weight-sigma", "measurement-sigma", "batch-size", "loading-sigma", "thickness-sigma"})
         if (vm.count(o) && !tolerance_run) throw UsageError{fmt::format("fit: --{} goes with --tolerance-run", o)};
     std::optional<FrontKind> front_kind;
     if (want_front) {
@@ -213,9 +225,10 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
         } catch (const Error& e) {
             throw UsageError{std::string("fit: --front: ") + e.what()};
         }
-        if (*front_kind == FrontKind::ra_r9 ? vm.count("min-r9") > 0 : vm.count("min-ra") > 0)
-            throw UsageError{fmt::format("fit: --front {} sweeps the {} floor itself; drop --min-{}", front, front_floor_label(*front_kind),
-                                         *front_kind == FrontKind::ra_r9 ? "r9" : "ra")};
+        std::string swept = front_floor_label(*front_kind);
+        std::transform(swept.begin(), swept.end(), swept.begin(), [](unsigned char c) { return static_cast<char>(std::tolower(c)); });
+        if (vm.count("min-" + swept))
+            throw UsageError{fmt::format("fit: --front {} sweeps the {} floor itself; drop --min-{}", front, front_floor_label(*front_kind), swept)};
     }
     if (vm.count("tolerance") && vm.count("flamp")) throw UsageError{"fit: --flamp uses its MacAdam ellipse; --tolerance does not apply"};
 
@@ -238,12 +251,15 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     } catch (const Error& e) {
         throw UsageError{std::string("fit: ") + e.what()};
     }
-    if (maximize == "change" && vm.count("maximize")) throw UsageError{"fit: --maximize takes ra, r9, ra-r9, ler, efficacy or rf"};
+    if (maximize == "change" && vm.count("maximize")) throw UsageError{"fit: --maximize takes ra, r9, ra-r9, ler, efficacy, rf, rg or rf-rg"};
     FitOptions options;
     if (method == "exact") options.method = FitMethod::exact;
     else if (method == "nlopt") options.method = FitMethod::nlopt;
     else if (method != "auto") throw UsageError{"fit: --method must be auto, exact or nlopt"};
     p.r9_weight = r9_weight;
+    p.rg_weight = rg_weight;
+    if (vm.count("r9-weight") && p.objective != FitObjective::ra_r9) throw UsageError{"fit: --r9-weight goes with --maximize ra-r9"};
+    if (vm.count("rg-weight") && p.objective != FitObjective::rf_rg) throw UsageError{"fit: --rg-weight goes with --maximize rf-rg"};
     p.tolerance_uv_prime = tolerance;
     if (vm.count("min-ra")) p.min_ra = min_ra;
     if (vm.count("min-r9")) p.min_r9 = min_r9;
@@ -265,20 +281,41 @@ PRODUCTION TOLERANCE: --tolerance-run draws lamps around the fitted recipe (Mont
     check_outputs_apart({{recipe_out, "--recipe-out"}, {front_csv_path, "--front-csv"}, {front_svg_path, "--front-svg"}}, inputs);
 
     if (const TomlDoc doc = TomlDoc::from_file(recipes.front()); is_layer_design(doc)) {
-        for (const char* o : {"front", "choose", "tolerance-run", "sensitivity", "min-ler", "min-rf", "min-rg", "max-rg", "rcs-h1", "method"})
+        for (const char* o : {"front", "min-ler", "min-rf", "min-rg", "max-rg", "rcs-h1", "method", "weighing-sigma", "weighing-absolute",
+                              "peak-sigma", "qe-sigma", "absorption-sigma", "coating-weight-sigma", "batch-size"})
             if (vm.count(o)) throw UsageError{fmt::format("fit: --{} applies to blend recipes, not to LED layer designs", o)};
+        LayerFitExtras extras;
+        extras.choose = vm.count("choose") ? choose : 0;
+        extras.sensitivity = vm.count("sensitivity") > 0;
+        if (tolerance_run) {
+            LayerToleranceProblem t;
+            t.steps = steps;
+            t.seed = static_cast<std::uint64_t>(seed);
+            t.draws = vm.count("draws") ? static_cast<std::size_t>(draws) : 2000;  // each module is a full transport solve (about 1 ms)
+            if (vm.count("loading-sigma")) t.loading_sigma = loading_sigma;
+            if (vm.count("thickness-sigma")) t.thickness_sigma = thickness_sigma;
+            if (vm.count("measurement-sigma")) t.measurement_sigma_xy = measurement_sigma;
+            if (vm.count("d50-sigma")) {
+                const auto v = parse_list(d50_sigma, "d50-sigma", kD50SigmaRange);
+                if (v.size() != 1) throw UsageError{"fit: --d50-sigma takes one value for an LED layer design"};
+                t.d50_sigma = v.front();
+            }
+            extras.tolerance = t;
+        }
         LayerFitProblem lp;
         lp.design = layer_design_from_toml(doc, folders);
         lp.target = p.target;
         lp.objective = p.objective;
         lp.r9_weight = p.r9_weight;
+        lp.rg_weight = p.rg_weight;
         lp.tolerance_uv_prime = p.tolerance_uv_prime;
         lp.min_ra = p.min_ra;
         lp.min_r9 = p.min_r9;
         lp.fit_thickness = vm.count("fit-thickness") > 0;
-        return run_layer_fit(lp, f, recipe_out);
+        return run_layer_fit(lp, f, recipe_out, extras);
     }
-    if (vm.count("fit-thickness")) throw UsageError{"fit: --fit-thickness applies to LED layer designs"};
+    for (const char* o : {"fit-thickness", "loading-sigma", "thickness-sigma"})
+        if (vm.count(o)) throw UsageError{fmt::format("fit: --{} applies to LED layer designs", o)};
     const Recipe recipe = load_recipe(recipes.front(), folders);
     for (const auto& n : recipe.notes) print_note(n);
     p.blend = recipe.blend;

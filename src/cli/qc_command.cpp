@@ -82,6 +82,7 @@ other lamp was judged), 4 some lamps failed, 8 the report or the database could 
 
     if (!lot_id.empty()) run_provenance().lot_id = lot_id;
     const QcSpec spec = load_qc_spec(args.front());
+    for (const auto& n : spec.notes) print_note(n);
     const std::optional<Recipe> made_with = recipe.empty() ? std::nullopt : std::optional<Recipe>(load_recipe(recipe));
     if (made_with)
         for (const auto& n : made_with->notes) print_note(n);

@@ -1,5 +1,7 @@
 #include "lampwright/colour/assessment.hpp"
 
+#include "lampwright/core/interpolation.hpp"
+
 #include "lampwright/core/error.hpp"
 
 #include <fmt/format.h>
@@ -97,9 +99,10 @@ Assessment assess_finite(const Spectrum& s, const AssessOptions& options) {
     if (options.colour_fidelity && a.cct.valid) {
         // CIE 224:2017, 4.1: zero outside the data (not extended), within 380-780 nm.
         const bool covered = s.covers(kCesFirstNm) && s.covers(kCesLastNm);
-        const CesTristimuli ces = covered ? cie224_tristimuli(values.data()) : cie224_tristimuli(cie224_range_values(s).data());
+        const int iv = options.cie224_interval_nm;
+        const CesTristimuli ces = covered ? cie224_tristimuli(values.data(), iv) : cie224_tristimuli(cie224_range_values(s).data(), iv);
         try {
-            a.fidelity = colour_fidelity_from_tristimuli(ces, a.cct.cct_K);
+            a.fidelity = colour_fidelity_from_tristimuli(ces, a.cct.cct_K, true, iv);
         } catch (const Error& e) {
             a.warnings.push_back(std::string(e.what()) + "; Rf and Rg not computed");
         }
@@ -144,6 +147,11 @@ Assessment assess(const Spectrum& s, const AssessOptions& options) {
     add_efficacy(a, s);
     require_finite(a);
     return a;
+}
+
+Assessment assess_sampled(const SampledSpectrum& s, AssessOptions options) {
+    options.cie224_interval_nm = cie224_interval_for(s.wavelengths_nm);
+    return assess(resample_to_1nm(s), options);
 }
 
 }  // namespace lampwright

@@ -23,6 +23,10 @@ struct AssessOptions {
     bool spectral_features = true;
     // CIE 224:2017 Rf and the TM-30-20 figures (with the CCT of the 2-degree observer).
     bool colour_fidelity = true;
+    // Its interval: 1 nm, or 5 nm for data measured at 5 nm (cie224_interval_for on the data's own
+    // wavelengths; the 1 nm spectrum passed in must then hold the data's values at the 5 nm nodes,
+    // as every interpolant of resample_to_1nm does).
+    int cie224_interval_nm = kCie224IntervalNm;
 };
 
 struct Assessment {
@@ -47,6 +51,9 @@ struct Assessment {
 
 // Throws lampwright::Error when the spectrum has no visible power (no chromaticity exists).
 Assessment assess(const Spectrum& s, const AssessOptions& options = {});
+// A measured spectrum on its own wavelengths: resampled to 1 nm (resample_to_1nm) and assessed,
+// CIE 224 at the data's own interval (cie224_interval_for: 5 nm data at 5 nm with the 5 nm CES).
+Assessment assess_sampled(const SampledSpectrum& s, AssessOptions options = {});
 
 // The figures that follow from the CIE 13.3 sample tristimuli (cie133_tristimuli) and the radiant
 // integral alone: colorimetry with the 2-degree observer, CCT, Duv, colour rendering and LER; no

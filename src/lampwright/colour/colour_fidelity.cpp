@@ -20,27 +20,42 @@ constexpr int kBlocks = kCesTristimulusRows / 48;
 static_assert(kBlocks * 48 == kCesTristimulusRows && kBlocks * 48 >= 3 + 3 * kCesCount);
 constexpr int kCesOffset = kCesFirstNm - kColourFirstNm;  // 380 nm within the 360-830 nm colour range
 
-// CES reflectance x 10-degree colour-matching function products over 380-780 nm at 1 nm, built
-// once; block-major for weighted_sums_48_blocks. Stored as float (relative rounding 6e-8, far
-// below the 5-decimal CES and CMF tables) so the 540 kB table stays in the core's L2 cache.
-const std::vector<float>& weights() {
-    static const std::vector<float> w = [] {
-        std::vector<float> m(static_cast<std::size_t>(kCesTristimulusRows) * kCesSize, 0.0f);
-        const auto at = [&m](int row, int j) -> float& {
-            return m[(static_cast<std::size_t>(row / 48) * kCesSize + static_cast<std::size_t>(j)) * 48 + static_cast<std::size_t>(row % 48)];
-        };
-        const auto& cmf = colour_matching_functions(Observer::cie1964_10deg);
-        const auto& ces = cie224_colour_evaluation_samples();
-        for (int j = 0; j < kCesSize; ++j)
-            for (int k = 0; k < 3; ++k) {
-                const double c = cmf.xyz[k][static_cast<std::size_t>(j + kCesOffset)];
-                at(k, j) = static_cast<float>(c);
-                for (int i = 0; i < kCesCount; ++i)
-                    at(3 + 3 * i + k, j) = static_cast<float>(ces[static_cast<std::size_t>(i)][static_cast<std::size_t>(j)] * c);
-            }
-        return m;
-    }();
-    return w;
+constexpr int kCesCoarseSize = (kCesLastNm - kCesFirstNm) / kCie224CoarseIntervalNm + 1;  // 81 nodes at 5 nm
+
+void check_interval(int interval_nm) {
+    if (interval_nm != kCie224IntervalNm && interval_nm != kCie224CoarseIntervalNm)
+        throw Error(fmt::format("CIE 224 is computed at 1 nm or 5 nm, not {} nm", interval_nm));
+}
+
+// CES reflectance x 10-degree colour-matching function products over 380-780 nm at the interval
+// (1 nm: every node; 5 nm: every fifth, the 5 nm CES and CMF tables), built once; block-major for
+// weighted_sums_48_blocks. Stored as float (relative rounding 6e-8, far below the 5-decimal CES
+// and CMF tables) so the 540 kB table stays in the core's L2 cache.
+std::vector<float> build_weights(int step) {
+    const int n = (kCesSize - 1) / step + 1;
+    std::vector<float> m(static_cast<std::size_t>(kCesTristimulusRows) * static_cast<std::size_t>(n), 0.0f);
+    const auto at = [&m, n](int row, int j) -> float& {
+        return m[(static_cast<std::size_t>(row / 48) * static_cast<std::size_t>(n) + static_cast<std::size_t>(j)) * 48 + static_cast<std::size_t>(row % 48)];
+    };
+    const auto& cmf = colour_matching_functions(Observer::cie1964_10deg);
+    const auto& ces = cie224_colour_evaluation_samples();
+    for (int j = 0; j < n; ++j)
+        for (int k = 0; k < 3; ++k) {
+            const double c = cmf.xyz[k][static_cast<std::size_t>(j * step + kCesOffset)];
+            at(k, j) = static_cast<float>(c);
+            for (int i = 0; i < kCesCount; ++i)
+                at(3 + 3 * i + k, j) = static_cast<float>(ces[static_cast<std::size_t>(i)][static_cast<std::size_t>(j * step)] * c);
+        }
+    return m;
+}
+
+const std::vector<float>& weights(int step) {
+    if (step == kCie224CoarseIntervalNm) {
+        static const std::vector<float> w5 = build_weights(kCie224CoarseIntervalNm);
+        return w5;
+    }
+    static const std::vector<float> w1 = build_weights(kCie224IntervalNm);
+    return w1;
 }
 
 CesTristimuli scaled_to_white_100(const CesTristimuli& t) {
@@ -72,30 +87,35 @@ double daylight_share(double cct_K) {
 }
 
 // Daylight's tristimulus sums are linear in S0, S1, S2 (CIE 15:2004, 3.1).
-const std::array<CesTristimuli, 3>& daylight_component_tristimuli() {
-    static const std::array<CesTristimuli, 3> c = [] {
-        std::array<CesTristimuli, 3> out;
-        for (int k = 0; k < 3; ++k) {
-            const auto v = colour_range_values(daylight_components()[static_cast<std::size_t>(k)]);
-            out[static_cast<std::size_t>(k)] = cie224_tristimuli(v.data());
-        }
-        return out;
-    }();
-    return c;
+std::array<CesTristimuli, 3> component_tristimuli(int step) {
+    std::array<CesTristimuli, 3> out;
+    for (int k = 0; k < 3; ++k) {
+        const auto v = colour_range_values(daylight_components()[static_cast<std::size_t>(k)]);
+        out[static_cast<std::size_t>(k)] = cie224_tristimuli(v.data(), step);
+    }
+    return out;
+}
+const std::array<CesTristimuli, 3>& daylight_component_tristimuli(int step) {
+    if (step == kCie224CoarseIntervalNm) {
+        static const std::array<CesTristimuli, 3> c5 = component_tristimuli(kCie224CoarseIntervalNm);
+        return c5;
+    }
+    static const std::array<CesTristimuli, 3> c1 = component_tristimuli(kCie224IntervalNm);
+    return c1;
 }
 
-// The reference's tristimulus sums, white scaled to Y10 = 100 (CIE 224:2017, 4.3).
-CesTristimuli reference_tristimuli(double cct_K) {
+// The reference's tristimulus sums, white scaled to Y10 = 100 (CIE 224:2017, 4.3), at the interval.
+CesTristimuli reference_tristimuli(double cct_K, int step = kCie224IntervalNm) {
     const double w = daylight_share(cct_K);
     CesTristimuli planck{}, day{};
     if (w < 1) {
         const auto v = colour_range_values(planckian(cct_K));
-        planck = scaled_to_white_100(cie224_tristimuli(v.data()));
+        planck = scaled_to_white_100(cie224_tristimuli(v.data(), step));
     }
     if (w > 0) {
         // Unrounded M1, M2 (see daylight_weights); above 25000 K the daylight formula is extrapolated.
         const auto m = daylight_weights(daylight_chromaticity(cct_K, true), false);
-        const auto& c = daylight_component_tristimuli();
+        const auto& c = daylight_component_tristimuli(step);
         for (std::size_t k = 0; k < day.size(); ++k) day[k] = c[0][k] + m.m1 * c[1][k] + m.m2 * c[2][k];
         day = scaled_to_white_100(day);
     }
@@ -104,7 +124,7 @@ CesTristimuli reference_tristimuli(double cct_K) {
     return r;
 }
 
-JabSet reference_jab_direct(double cct_K) { return appearance(reference_tristimuli(cct_K)); }
+JabSet reference_jab_direct(double cct_K, int step = kCie224IntervalNm) { return appearance(reference_tristimuli(cct_K, step)); }
 
 // The reference's J'a'b' on every whole mired from 10 (100000 K) to 1000 (1000 K), built once.
 // They are smooth in mired except at 4000 K (250 mired) and 5000 K (200 mired), where the
@@ -154,9 +174,16 @@ JabSet reference_jab_tabulated(double cct_K) {
 
 double cie224_rf_from_difference(double delta_e) { return 10 * std::log(std::exp((100 - kCie224ScaleFactor * delta_e) / 10) + 1); }
 
-CesTristimuli cie224_tristimuli(const double* colour_range_values) {
+CesTristimuli cie224_tristimuli(const double* colour_range_values, int interval_nm) {
+    check_interval(interval_nm);
     CesTristimuli out;
-    weighted_sums_48_blocks(weights().data(), colour_range_values + kCesOffset, kCesSize, kBlocks, out.data());
+    if (interval_nm == kCie224IntervalNm) {
+        weighted_sums_48_blocks(weights(interval_nm).data(), colour_range_values + kCesOffset, kCesSize, kBlocks, out.data());
+        return out;
+    }
+    std::array<double, kCesCoarseSize> nodes;
+    for (int j = 0; j < kCesCoarseSize; ++j) nodes[static_cast<std::size_t>(j)] = colour_range_values[kCesOffset + j * interval_nm];
+    weighted_sums_48_blocks(weights(interval_nm).data(), nodes.data(), kCesCoarseSize, kBlocks, out.data());
     return out;
 }
 
@@ -189,15 +216,19 @@ Spectrum cie224_reference_illuminant(double cct_K) {
     return Spectrum{fmt::format("CIE 224 reference {:g} K", cct_K), kColourFirstNm, out};
 }
 
-ColourFidelity colour_fidelity_from_tristimuli(const CesTristimuli& test, double cct_K, bool tabulated_reference) {
+ColourFidelity colour_fidelity_from_tristimuli(const CesTristimuli& test, double cct_K, bool tabulated_reference, int interval_nm) {
     check_cct(cct_K);
+    check_interval(interval_nm);
     ColourFidelity f;
+    f.interval_nm = interval_nm;
     f.reference_cct_K = cct_K;
     f.reference = cie224_reference_kind(cct_K);
     f.daylight_weight = daylight_share(cct_K);
     const JabSet t = appearance(test);
     f.xy10 = chromaticity({test[0], test[1], test[2]});
-    const JabSet r = tabulated_reference ? reference_jab_tabulated(cct_K) : reference_jab_direct(cct_K);
+    const JabSet r = interval_nm != kCie224IntervalNm ? reference_jab_direct(cct_K, interval_nm)
+                     : tabulated_reference            ? reference_jab_tabulated(cct_K)
+                                                      : reference_jab_direct(cct_K);
 
     // CIE 224:2017 eqs. 8-10: CAM02-UCS differences, their mean, Rf and Rf per sample.
     std::array<double, kTm30HueBins> sum_de{}, ta{}, tb{}, ra{}, rb{};
@@ -263,9 +294,20 @@ std::vector<double> cie224_range_values(const Spectrum& s) {
     return v;
 }
 
-ColourFidelity colour_fidelity(const Spectrum& s, double cct_K) {
+ColourFidelity colour_fidelity(const Spectrum& s, double cct_K, int interval_nm) {
     const auto v = cie224_range_values(s);
-    return colour_fidelity_from_tristimuli(cie224_tristimuli(v.data()), cct_K);
+    return colour_fidelity_from_tristimuli(cie224_tristimuli(v.data(), interval_nm), cct_K, true, interval_nm);
+}
+
+int cie224_interval_for(const std::vector<double>& x) {
+    constexpr double step = kCie224CoarseIntervalNm;
+    if (x.size() < 2) return kCie224IntervalNm;
+    // The nodes must be whole multiples of 5 nm (so 380 and 780 nm are among them where covered).
+    const double r = std::fmod(x.front(), step);
+    if (r != 0) return kCie224IntervalNm;
+    for (std::size_t i = 0; i < x.size(); ++i)
+        if (x[i] != x.front() + step * static_cast<double>(i)) return kCie224IntervalNm;
+    return kCie224CoarseIntervalNm;
 }
 
 }  // namespace lampwright

@@ -25,9 +25,11 @@ inline constexpr double kCie224PlanckianBelowK = 4000.0;
 inline constexpr double kCie224DaylightAboveK = 5000.0;
 // ANSI/IES TM-30-20: 16 hue bins of 22.5 degrees by the samples' hue angle under the reference.
 inline constexpr int kTm30HueBins = 16;
-// The spectral interval of the computation: 1 nm (CIE 224:2017, 4.1 prefers 1 nm; inputs at
-// other steps are resampled to it first, Sprague, CIE 167:2005).
+// The spectral interval of the computation: 1 nm (CIE 224:2017, 4.1 prefers 1 nm), or 5 nm for
+// data measured on a 5 nm grid, with the 5 nm CES (the 1 nm table at every fifth node), as
+// CIE 224:2017, 4.1 allows. Data at any other step are resampled to 1 nm first (Sprague, CIE 167:2005).
 inline constexpr int kCie224IntervalNm = 1;
+inline constexpr int kCie224CoarseIntervalNm = 5;
 
 enum class FidelityReference { planckian, mix, daylight };
 
@@ -35,7 +37,12 @@ enum class FidelityReference { planckian, mix, daylight };
 // 3 + 3i .. 5 + 3i the source on CES i + 1; padded to whole blocks of 48.
 inline constexpr int kCesTristimulusRows = 336;
 using CesTristimuli = std::array<double, kCesTristimulusRows>;
-CesTristimuli cie224_tristimuli(const double* colour_range_values);  // kColourSize values, 360-830 nm
+// colour_range_values: kColourSize values, 360-830 nm at 1 nm. At interval_nm = 5 the sums run over
+// 380, 385, ..., 780 nm only (the 5 nm CES), so the values there must be the data's own samples.
+CesTristimuli cie224_tristimuli(const double* colour_range_values, int interval_nm = kCie224IntervalNm);
+// The interval CIE 224 is computed at for data on these wavelengths: 5 for a uniform 5 nm grid
+// whose nodes fall on 380, 385, ..., 780 nm; else 1.
+int cie224_interval_for(const std::vector<double>& wavelengths_nm);
 // A spectrum's values on 360-830 nm at 1 nm with zeros where it has no data (CIE 224:2017, 4.1:
 // missing values are zero, not extended as in CIE 15 colorimetry).
 std::vector<double> cie224_range_values(const Spectrum& s);
@@ -60,8 +67,10 @@ struct ColourFidelity {
 
 // CIE 224 / TM-30 figures of a source from its tristimulus sums and CCT (1000-100000 K). The
 // reference's J'a'b' come from a table over mired (tabulated_reference) or are computed directly.
-ColourFidelity colour_fidelity_from_tristimuli(const CesTristimuli& test, double cct_K, bool tabulated_reference = true);
-ColourFidelity colour_fidelity(const Spectrum& s, double cct_K);
+// At interval_nm = 5 the reference is computed directly at 5 nm (no table).
+ColourFidelity colour_fidelity_from_tristimuli(const CesTristimuli& test, double cct_K, bool tabulated_reference = true,
+                                              int interval_nm = kCie224IntervalNm);
+ColourFidelity colour_fidelity(const Spectrum& s, double cct_K, int interval_nm = kCie224IntervalNm);
 
 // The CIE 224 reference illuminant at cct_K on 360-830 nm at 1 nm, scaled to Y10 = 100 over 380-780 nm.
 Spectrum cie224_reference_illuminant(double cct_K);

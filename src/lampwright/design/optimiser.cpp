@@ -90,7 +90,7 @@ double objective_of(const FitProblem& p, const Assessment& a, double efficacy, c
     double change = 0;
     if (p.objective == FitObjective::closest_to_start)
         for (std::size_t i = 0; i < w.size(); ++i) change += std::abs(w[i] - w0[i]);
-    return objective_figure(p.objective, p.r9_weight, a, efficacy, change);
+    return objective_figure(p.objective, {p.r9_weight, p.rg_weight}, a, efficacy, change);
 }
 
 // Chromaticity constraint value: (distance / tolerance)^2, <= 1 inside.
@@ -546,19 +546,21 @@ void finish(const FitProblem& p, FitResult& r, const std::vector<double>& w_raw)
 
 }  // namespace
 
-double objective_figure(FitObjective o, double r9_weight, const Assessment& a, double efficacy, double change) {
+double objective_figure(FitObjective o, const ObjectiveWeights& k, const Assessment& a, double efficacy, double change) {
     switch (o) {
         case FitObjective::closest_to_start: return -change;
         case FitObjective::ler: return a.ler_lm_per_W;
         case FitObjective::efficacy: return efficacy;
         case FitObjective::rf: return a.fidelity ? a.fidelity->rf : -kPenalty;
+        case FitObjective::rg: return a.fidelity ? a.fidelity->rg : -kPenalty;
+        case FitObjective::rf_rg: return a.fidelity ? (1 - k.rg) * a.fidelity->rf + k.rg * a.fidelity->rg : -kPenalty;
         default: break;
     }
     if (!a.rendering) return -kPenalty;
     const double ra = a.rendering->ra, r9 = a.rendering->ri[8];
     if (o == FitObjective::ra) return ra;
     if (o == FitObjective::r9) return r9;
-    return (1 - r9_weight) * ra + r9_weight * r9;
+    return (1 - k.r9) * ra + k.r9 * r9;
 }
 
 double target_distance_ratio2(const Target& t, double tolerance_uv_prime, const Assessment& a) {
@@ -579,7 +581,9 @@ FitObjective parse_fit_objective(const std::string& name) {
     if (name == "ler") return FitObjective::ler;
     if (name == "efficacy") return FitObjective::efficacy;
     if (name == "rf") return FitObjective::rf;
-    throw Error(fmt::format("unknown objective '{}': use ra, r9, ra-r9, ler, efficacy, rf or change", name));
+    if (name == "rg") return FitObjective::rg;
+    if (name == "rf-rg") return FitObjective::rf_rg;
+    throw Error(fmt::format("unknown objective '{}': use ra, r9, ra-r9, ler, efficacy, rf, rg, rf-rg or change", name));
 }
 
 std::string fit_objective_name(FitObjective o) {
@@ -591,6 +595,8 @@ std::string fit_objective_name(FitObjective o) {
         case FitObjective::ler: return "maximum LER";
         case FitObjective::efficacy: return "maximum efficacy per W absorbed";
         case FitObjective::rf: return "maximum Rf (CIE 224)";
+        case FitObjective::rg: return "maximum Rg (TM-30-20)";
+        case FitObjective::rf_rg: return "maximum weighted Rf/Rg";
     }
     return "";
 }

@@ -34,8 +34,10 @@ enum class FitObjective {
     ler,               // maximise the luminous efficacy of radiation (lm/W of light)
     efficacy,          // maximise lm of phosphor light per W of absorbed excitation
     rf,                // maximise the CIE 224:2017 colour fidelity index Rf
+    rg,                // maximise the ANSI/IES TM-30-20 gamut index Rg (more saturated colours)
+    rf_rg,             // maximise (1 - k) Rf + k Rg, k = FitProblem::rg_weight
 };
-// "change", "ra", "r9", "ra-r9", "ler", "efficacy", "rf"; throws Error otherwise.
+// "change", "ra", "r9", "ra-r9", "ler", "efficacy", "rf", "rg", "rf-rg"; throws Error otherwise.
 FitObjective parse_fit_objective(const std::string& name);
 std::string fit_objective_name(FitObjective o);
 
@@ -47,6 +49,7 @@ struct FitProblem {
     Target target;
     FitObjective objective = FitObjective::closest_to_start;
     double r9_weight = 0.5;
+    double rg_weight = 0.5;
     // Chromaticity constraint: within this u'v' distance of the target, unless the target has a
     // MacAdam ellipse (then inside its n-step contour).
     double tolerance_uv_prime = kDefaultFitToleranceUvPrime;
@@ -61,7 +64,7 @@ struct FitProblem {
     std::optional<double> min_rcs_h1_percent, max_rcs_h1_percent;
     // Any constraint or the objective needs CIE 224 / TM-30 figures during the search.
     bool needs_fidelity() const {
-        return objective == FitObjective::rf || min_rf || min_rg || max_rg || min_rcs_h1_percent || max_rcs_h1_percent;
+        return objective == FitObjective::rf || objective == FitObjective::rg || objective == FitObjective::rf_rg || min_rf || min_rg || max_rg || min_rcs_h1_percent || max_rcs_h1_percent;
     }
 };
 
@@ -98,11 +101,17 @@ struct FitResult {
     int starts = 0;
 };
 
+// The weights k of the two mixed objectives.
+struct ObjectiveWeights {
+    double r9 = 0.5;  // (1 - k) Ra + k R9
+    double rg = 0.5;  // (1 - k) Rf + k Rg
+};
 // The figure an objective maximises, on assessed light: Ra, R9, (1 - k) Ra + k R9, LER, the
-// efficacy given (lm per W of absorbed excitation for a blend, per W of pump for a layer), or
-// minus `change` (sum of |fraction changes| from the start). Ra/R9 objectives without colour
-// rendering (no CCT) give a large negative penalty. Shared by the blend and layer fits.
-double objective_figure(FitObjective o, double r9_weight, const Assessment& a, double efficacy, double change);
+// efficacy given (lm per W of absorbed excitation for a blend, per W of pump for a layer), Rf, Rg,
+// (1 - k) Rf + k Rg, or minus `change` (sum of |fraction changes| from the start). Ra/R9 and
+// Rf/Rg objectives without colour rendering (no CCT) give a large negative penalty. Shared by the
+// blend and layer fits.
+double objective_figure(FitObjective o, const ObjectiveWeights& k, const Assessment& a, double efficacy, double change);
 // (distance from the target / tolerance)^2, <= 1 inside: in MacAdam steps of the target's ellipse
 // when it has one, else in u'v' against `tolerance_uv_prime`.
 double target_distance_ratio2(const Target& t, double tolerance_uv_prime, const Assessment& a);

@@ -179,6 +179,36 @@ const FluorescentLampColour& ansi_c78376_colour(const std::string& name) {
     throw Error(fmt::format("ANSI C78.376 has no lamp colour '{}'; the colours are {}", name, names));
 }
 
+const std::vector<Tm30DesignLevel>& tm30_design_levels() {
+    static const std::vector<Tm30DesignLevel> table = [] {
+        const CsvTable t = read_csv(embedded_file("targets/tm30_annex_e.csv"), "data/targets/tm30_annex_e.csv");
+        const std::size_t name = column(t, "level"), source = column(t, "source");
+        auto optional = [&](std::size_t i, const char* col) -> std::optional<double> {
+            if (t.rows[i][column(t, col)].empty()) return std::nullopt;
+            return number(t, i, col);
+        };
+        std::vector<Tm30DesignLevel> out;
+        for (std::size_t i = 0; i < t.rows.size(); ++i) {
+            if (t.rows[i][source].empty()) throw InputError(t.source, t.lines[i], "column 'source' is empty: name the source or say 'from memory'");
+            out.push_back({t.rows[i][name], optional(i, "min_rf"), optional(i, "min_rf_h1"), optional(i, "min_rcs_h1"), optional(i, "max_rcs_h1"),
+                           optional(i, "min_rg"), t.rows[i][source]});
+        }
+        return out;
+    }();
+    return table;
+}
+
+const Tm30DesignLevel& tm30_design_level(const std::string& name) {
+    std::string key;
+    for (char ch : name) key += static_cast<char>(std::toupper(static_cast<unsigned char>(ch)));
+    std::string names;
+    for (const auto& l : tm30_design_levels()) {
+        if (l.name == key) return l;
+        names += (names.empty() ? "" : ", ") + l.name;
+    }
+    throw Error(fmt::format("no TM-30-20 Annex E level '{}'; the levels offered are {} (Vividness levels are not offered)", name, names));
+}
+
 Target target_xy(double x, double y) {
     if (!(x > 0 && y > 0 && x + y < 1)) throw Error(fmt::format("chromaticity x = {:g}, y = {:g} is not a colour (need x, y > 0, x + y < 1)", x, y));
     Target t;

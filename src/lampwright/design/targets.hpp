@@ -57,6 +57,20 @@ const FluorescentLampColour& ansi_c78376_colour(const std::string& name);
 // The standard's tolerance: 4-step ellipses (ANSI C78.376, confirmed).
 inline constexpr double kAnsiC78376Steps = 4.0;
 
+// ANSI/IES TM-30-20 Annex E design-intent levels P1-P3 (Preference) and F1-F3 (Fidelity):
+// criteria on Rf, Rf,h1, Rcs,h1 (per cent) and Rg; every value from memory (data/targets/README.md).
+struct Tm30DesignLevel {
+    std::string name;  // "P1"
+    std::optional<double> min_rf, min_rf_h1, min_rcs_h1_percent, max_rcs_h1_percent, min_rg;
+    std::string source;  // "from memory: ..."
+};
+const std::vector<Tm30DesignLevel>& tm30_design_levels();
+// By name ("P1" or "p1"); throws Error listing the names.
+const Tm30DesignLevel& tm30_design_level(const std::string& name);
+// The caution printed wherever a level is used.
+inline constexpr const char* kTm30LevelCaution =
+    "TM-30-20 Annex E design-intent criteria are from memory in this tool: check them against the standard";
+
 // One-step ellipse for a colour shift or distance at an arbitrary centre: the ANSI C78.376 ellipse
 // whose centre is nearest, moved there (common practice, no source; ellipse values from memory).
 MacAdamEllipse nearest_step_ellipse(const Chromaticity& centre);

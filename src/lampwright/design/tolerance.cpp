@@ -3,6 +3,7 @@
 #include "lampwright/core/statistics.hpp"
 
 #include "lampwright/colour/colorimetry.hpp"
+#include "lampwright/colour/temperature.hpp"
 #include "lampwright/core/error.hpp"
 
 #include <fmt/format.h>
@@ -35,6 +36,44 @@ std::vector<double> per_component(const std::vector<double>& v, std::size_t n, c
 
 std::array<double, 3> xyz_array(const XYZ& c) { return {c.X, c.Y, c.Z}; }
 
+CesTristimuli ces_of(const Spectrum& s) { return cie224_tristimuli(cie224_range_values(s).data()); }
+
+// Where shift t (in grid units) falls in a table of `size` rows: Catmull-Rom cubic through rows
+// first .. first + 3, or, beyond the grid (more than 6 sigma), linear on the end interval (rows
+// first, first + 1 with c[2] = c[3] = 0).
+struct ShiftWeights {
+    std::size_t first = 0;
+    std::array<double, 4> c{};
+};
+ShiftWeights shift_weights(std::size_t size, double t) {
+    const long last = static_cast<long>(size) - 1;
+    long k = static_cast<long>(std::floor(t));
+    ShiftWeights w;
+    if (k >= 1 && k + 2 <= last) {
+        const double f = t - static_cast<double>(k), f2 = f * f, f3 = f2 * f;
+        w.first = static_cast<std::size_t>(k - 1);
+        w.c = {-0.5 * f3 + f2 - 0.5 * f, 1.5 * f3 - 2.5 * f2 + 1, -1.5 * f3 + 2 * f2 + 0.5 * f, 0.5 * f3 - 0.5 * f2};
+    } else {
+        k = std::clamp(k, 0L, last - 1);
+        const double f = t - static_cast<double>(k);
+        w.first = static_cast<std::size_t>(k);
+        w.c = {1 - f, f, 0, 0};
+    }
+    return w;
+}
+
+// sum_m w.c[m] * rows[w.first + m][j] for every j of a row.
+template <class Row>
+Row interpolate_rows(const std::vector<Row>& rows, const ShiftWeights& w) {
+    Row u{};
+    for (std::size_t m = 0; m < 4; ++m) {
+        if (w.c[m] == 0) continue;
+        const Row& r = rows[w.first + m];
+        for (std::size_t j = 0; j < u.size(); ++j) u[j] += w.c[m] * r[j];
+    }
+    return u;
+}
+
 
 }  // namespace
 
@@ -64,7 +103,7 @@ Phosphor shifted_phosphor(const Phosphor& p, double shift_nm) {
     return q;
 }
 
-ToleranceModel::ToleranceModel(const ToleranceProblem& p)
+ToleranceModel::ToleranceModel(const ToleranceProblem& p, bool with_fidelity)
     : relative_(p.weighing_relative), seed_(p.seed), grid_step_(kGridStepNm) {
     const std::size_t n = p.blend.components.size();
     if (n == 0) throw Error(fmt::format("blend '{}' has no components", p.blend.name));
@@ -120,22 +159,26 @@ ToleranceModel::ToleranceModel(const ToleranceProblem& p)
     {
         const BlendBasis zero = single(0, 0.0, 0.0);
         leak_ = xyz_array(lampwright::tristimulus(zero.light.front()));
+        if (with_fidelity) ces_leak_ = ces_of(zero.light.front());
     }
     for (std::size_t i = 0; i < n; ++i) {
         const double qe0 = basis.quantum_efficiency[i];
         const auto half = static_cast<int>(std::ceil((kGridSigmas * sp_[i] + kGridExtraNm) / grid_step_));
         grid_lo_.push_back(-half * grid_step_);
         std::vector<std::array<double, 4>> t;
+        std::vector<CesTristimuli> ct;
         for (int k = -half; k <= half; ++k) {
             try {
                 const BlendBasis one = single(i, k * grid_step_, qe0);
                 const auto u = xyz_array(lampwright::tristimulus(one.phosphor_light.front()));
                 t.push_back({u[0], u[1], u[2], visible_power(one.phosphor_light.front())});
+                if (with_fidelity) ct.push_back(ces_of(one.phosphor_light.front()));
             } catch (const Error& e) {
                 throw Error(fmt::format("component '{}' shifted by {:+.2f} nm: {}", p.blend.components[i].label, k * grid_step_, e.what()));
             }
         }
         table_.push_back(std::move(t));
+        if (with_fidelity) ces_table_.push_back(std::move(ct));
     }
 
     // M(W): the mercury lines that go with one W of visible phosphor light, from the full blend
@@ -147,6 +190,11 @@ ToleranceModel::ToleranceModel(const ToleranceProblem& p)
         const double v = visible_power(b.phosphor_light.front());
         auto m = xyz_array(lampwright::tristimulus(extra));
         for (std::size_t j = 0; j < 3; ++j) m[j] = v > 0 ? (m[j] - leak_[j]) / v : 0.0;
+        if (with_fidelity) {
+            CesTristimuli mc = ces_of(extra);
+            for (std::size_t j = 0; j < mc.size(); ++j) mc[j] = v > 0 ? (mc[j] - ces_leak_[j]) / v : 0.0;
+            m_ces_table_.push_back(mc);
+        }
         return m;
     };
     m_table_.push_back(lines_per_watt(p.blend));
@@ -156,6 +204,7 @@ ToleranceModel::ToleranceModel(const ToleranceProblem& p)
     } else if (sc_ > 0) {
         const double lo = std::max(0.1 * w0_, w0_ - kGridSigmas * sc_), hi = w0_ + kGridSigmas * sc_;
         m_table_.clear();
+        m_ces_table_.clear();
         for (int k = 0; k < kWeightPoints; ++k) {
             const double w = lo + (hi - lo) * k / (kWeightPoints - 1);
             BlendInput in = p.blend;
@@ -177,51 +226,76 @@ ToleranceDraw ToleranceModel::nominal_draw() const {
     return d;
 }
 
-XYZ ToleranceModel::tristimulus(const ToleranceDraw& d) const {
+std::vector<double> ToleranceModel::share_weights(const ToleranceDraw& d) const {
     const std::size_t n = nominal_.size();
     auto share_factor = [&](std::size_t i) {
         const double a = d.absorption_factor.empty() ? 1.0 : d.absorption_factor[i];
         const double g = d.d50_factor.empty() || !grain_[i] ? 1.0 : d.d50_factor[i];
         return a / g;  // g ~ a / (rho d50) for the grain model, g = a otherwise
     };
+    std::vector<double> w(n);
     double total = 0;
-    for (std::size_t i = 0; i < n; ++i) total += d.mass_fractions[i] * absorption_[i] * share_factor(i);
+    for (std::size_t i = 0; i < n; ++i) total += w[i] = d.mass_fractions[i] * absorption_[i] * share_factor(i);
+    for (std::size_t i = 0; i < n; ++i) w[i] = w[i] / total * d.qe_factor[i];
+    return w;
+}
+
+std::pair<std::size_t, double> ToleranceModel::weight_position(const ToleranceDraw& d) const {
+    if (weight_grid_.size() < 2) return {0, 0.0};
+    const double w = d.coating_weight_mg_per_cm2 > 0 ? d.coating_weight_mg_per_cm2 : w0_;
+    const double step = (weight_grid_.back() - weight_grid_.front()) / static_cast<double>(weight_grid_.size() - 1);
+    const double t = std::clamp((w - weight_grid_.front()) / step, 0.0, static_cast<double>(weight_grid_.size() - 1));
+    const auto k = std::min(static_cast<std::size_t>(t), weight_grid_.size() - 2);
+    return {k, t - static_cast<double>(k)};
+}
+
+XYZ ToleranceModel::tristimulus(const ToleranceDraw& d) const {
+    const std::vector<double> weight = share_weights(d);
     // The mercury lines per W of visible phosphor light at this lamp's coating weight.
     std::array<double, 3> m = m_table_.front();
     if (weight_grid_.size() > 1) {
-        const double w = d.coating_weight_mg_per_cm2 > 0 ? d.coating_weight_mg_per_cm2 : w0_;
-        const double step = (weight_grid_.back() - weight_grid_.front()) / static_cast<double>(weight_grid_.size() - 1);
-        const double t = std::clamp((w - weight_grid_.front()) / step, 0.0, static_cast<double>(weight_grid_.size() - 1));
-        const auto k = std::min(static_cast<std::size_t>(t), weight_grid_.size() - 2);
-        const double f = t - static_cast<double>(k);
+        const auto [k, f] = weight_position(d);
         for (std::size_t j = 0; j < 3; ++j) m[j] = (1 - f) * m_table_[k][j] + f * m_table_[k + 1][j];
     }
     std::array<double, 3> sum = leak_;
-    for (std::size_t i = 0; i < n; ++i) {
-        const double weight = d.mass_fractions[i] * absorption_[i] * share_factor(i) / total * d.qe_factor[i];
-        if (weight == 0) continue;
-        const auto& tab = table_[i];
-        const double t = (d.shift_nm[i] - grid_lo_[i]) / grid_step_;
-        const long last = static_cast<long>(tab.size()) - 1;
-        long k = static_cast<long>(std::floor(t));
-        std::array<double, 4> u{};
-        if (k >= 1 && k + 2 <= last) {
-            // Catmull-Rom cubic through tab[k-1 .. k+2].
-            const double f = t - static_cast<double>(k), f2 = f * f, f3 = f2 * f;
-            const double c0 = -0.5 * f3 + f2 - 0.5 * f, c1 = 1.5 * f3 - 2.5 * f2 + 1, c2 = -1.5 * f3 + 2 * f2 + 0.5 * f,
-                         c3 = 0.5 * f3 - 0.5 * f2;
-            const auto ku = static_cast<std::size_t>(k);
-            for (std::size_t j = 0; j < 4; ++j) u[j] = c0 * tab[ku - 1][j] + c1 * tab[ku][j] + c2 * tab[ku + 1][j] + c3 * tab[ku + 2][j];
-        } else {
-            // Beyond the grid (more than 6 sigma): linear on the end interval.
-            k = std::clamp(k, 0L, last - 1);
-            const double f = t - static_cast<double>(k);
-            const auto ku = static_cast<std::size_t>(k);
-            for (std::size_t j = 0; j < 4; ++j) u[j] = (1 - f) * tab[ku][j] + f * tab[ku + 1][j];
-        }
-        for (std::size_t j = 0; j < 3; ++j) sum[j] += weight * (u[j] + u[3] * m[j]);
+    for (std::size_t i = 0; i < weight.size(); ++i) {
+        if (weight[i] == 0) continue;
+        const auto u = interpolate_rows(table_[i], shift_weights(table_[i].size(), (d.shift_nm[i] - grid_lo_[i]) / grid_step_));
+        for (std::size_t j = 0; j < 3; ++j) sum[j] += weight[i] * (u[j] + u[3] * m[j]);
     }
     return {sum[0], sum[1], sum[2]};
+}
+
+CesTristimuli ToleranceModel::ces_tristimuli(const ToleranceDraw& d) const {
+    if (!has_fidelity()) throw Error("the tolerance model was built without the CIE 224 tables");
+    const std::vector<double> weight = share_weights(d);
+    CesTristimuli m = m_ces_table_.front();
+    if (weight_grid_.size() > 1) {
+        const auto [k, f] = weight_position(d);
+        for (std::size_t j = 0; j < m.size(); ++j) m[j] = (1 - f) * m_ces_table_[k][j] + f * m_ces_table_[k + 1][j];
+    }
+    CesTristimuli sum = ces_leak_;
+    for (std::size_t i = 0; i < weight.size(); ++i) {
+        if (weight[i] == 0) continue;
+        const ShiftWeights sw = shift_weights(table_[i].size(), (d.shift_nm[i] - grid_lo_[i]) / grid_step_);
+        const auto u = interpolate_rows(ces_table_[i], sw);
+        const double visible = interpolate_rows(table_[i], sw)[3];
+        for (std::size_t j = 0; j < sum.size(); ++j) sum[j] += weight[i] * (u[j] + visible * m[j]);
+    }
+    return sum;
+}
+
+std::optional<ColourFidelity> ToleranceModel::fidelity(const ToleranceDraw& d) const {
+    // The CCT (Ohno, CIE 1931 2-degree observer) from the fast tristimuli, as CIE 224:2017, 4.3 asks.
+    const XYZ c = tristimulus(d);
+    if (!(c.Y > 0)) return std::nullopt;
+    const CctResult t = correlated_colour_temperature(uv_1960(c));
+    if (!t.valid) return std::nullopt;
+    try {
+        return colour_fidelity_from_tristimuli(ces_tristimuli(d), t.cct_K);
+    } catch (const Error&) {
+        return std::nullopt;
+    }
 }
 
 Chromaticity ToleranceModel::chromaticity(const ToleranceDraw& d) const { return measured(lampwright::chromaticity(tristimulus(d)), d); }
@@ -292,10 +366,47 @@ BlendResult evaluate_draw_exactly(const BlendInput& blend, const ToleranceDraw& 
     return evaluate_blend(b);
 }
 
+namespace {
+
+// Rf and Rg of the first draws again (a new sampler with the same seed gives the same draws), so
+// the chromaticity loop stays as fast as it was.
+void add_fidelity_spread(const ToleranceProblem& p, const ToleranceModel& model, ToleranceResult& r) {
+    const double nan = std::numeric_limits<double>::quiet_NaN();
+    const auto f0 = model.fidelity(model.nominal_draw());
+    r.nominal_rf = f0 ? f0->rf : nan;
+    r.nominal_rg = f0 ? f0->rg : nan;
+    ToleranceSampler again(model, p.seed);
+    ToleranceDraw d;
+    std::vector<double> rf, rg;
+    const std::size_t nf = std::min(p.draws, p.fidelity_draws);
+    for (std::size_t k = 0; k < nf; ++k) {
+        again.next(d);
+        if (const auto f = model.fidelity(d)) {
+            rf.push_back(f->rf);
+            rg.push_back(f->rg);
+        }
+    }
+    r.fidelity_draws = rf.size();
+    const auto spread = [nan](std::vector<double>& v) {
+        if (v.empty()) return ToleranceResult::Spread{nan, nan, nan, nan};
+        ToleranceResult::Spread s;
+        s.mean = mean(v);
+        s.sd = v.size() > 1 ? sample_sd(v) : 0.0;
+        std::sort(v.begin(), v.end());
+        s.p05 = quantile_sorted(v, 0.05);
+        s.p95 = quantile_sorted(v, 0.95);
+        return s;
+    };
+    r.rf = spread(rf);
+    r.rg = spread(rg);
+}
+
+}  // namespace
+
 ToleranceResult run_tolerance(const ToleranceProblem& p, const ToleranceProgress& progress, bool keep_steps) {
     if (p.draws == 0) throw Error("a tolerance run needs at least one draw");
     if (!(p.steps > 0)) throw Error(fmt::format("the yield ellipse needs a positive number of steps, not {:g}", p.steps));
-    const ToleranceModel model(p);
+    const ToleranceModel model(p, p.fidelity_draws > 0);
     ToleranceSampler sampler(model, p.seed);
     ToleranceResult r;
     r.draws = p.draws;
@@ -451,6 +562,7 @@ ToleranceResult run_tolerance(const ToleranceProblem& p, const ToleranceProgress
     r.p95 = quantile_sorted(sorted, 0.95);
     r.p99 = quantile_sorted(sorted, 0.99);
     r.max_steps = sorted.back();
+    if (p.fidelity_draws > 0) add_fidelity_spread(p, model, r);
     return r;
 }
 

@@ -6,6 +6,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <limits>
 #include <numeric>
 
 namespace lampwright {
@@ -19,18 +20,35 @@ FitObjective objective_for(FrontKind k) {
         case FrontKind::ra_efficacy: return FitObjective::efficacy;
         case FrontKind::ra_ler: return FitObjective::ler;
         case FrontKind::ra_r9: return FitObjective::ra;
+        case FrontKind::rf_efficacy: return FitObjective::efficacy;
     }
     return FitObjective::efficacy;
+}
+
+// The objective that finds the top of the floor's range.
+FitObjective floor_objective_for(FrontKind k) {
+    switch (k) {
+        case FrontKind::ra_r9: return FitObjective::r9;
+        case FrontKind::rf_efficacy: return FitObjective::rf;
+        default: return FitObjective::ra;
+    }
 }
 
 double ra_of(const BlendResult& r) { return r.assessment.rendering ? r.assessment.rendering->ra : -1e3; }
 double r9_of(const BlendResult& r) { return r.assessment.rendering ? r.assessment.rendering->ri[8] : -1e3; }
 
-double floor_value(FrontKind k, const BlendResult& r) { return k == FrontKind::ra_r9 ? r9_of(r) : ra_of(r); }
+double rf_of(const BlendResult& r) { return r.assessment.fidelity ? r.assessment.fidelity->rf : -1e3; }
+
+double floor_value(FrontKind k, const BlendResult& r) {
+    if (k == FrontKind::ra_r9) return r9_of(r);
+    if (k == FrontKind::rf_efficacy) return rf_of(r);
+    return ra_of(r);
+}
 
 double objective_value(FrontKind k, const BlendResult& r) {
     switch (k) {
-        case FrontKind::ra_efficacy: return r.luminous_efficacy_absorbed;
+        case FrontKind::ra_efficacy:
+        case FrontKind::rf_efficacy: return r.luminous_efficacy_absorbed;
         case FrontKind::ra_ler: return r.assessment.ler_lm_per_W;
         case FrontKind::ra_r9: return ra_of(r);
     }
@@ -39,6 +57,7 @@ double objective_value(FrontKind k, const BlendResult& r) {
 
 void set_floor(FrontKind k, FitProblem& p, std::optional<double> v) {
     if (k == FrontKind::ra_r9) p.min_r9 = v;
+    else if (k == FrontKind::rf_efficacy) p.min_rf = v;
     else p.min_ra = v;
 }
 
@@ -51,6 +70,9 @@ FrontPoint point_from(FrontKind k, double floor, const FitResult& r) {
     pt.r9 = r9_of(r.result);
     pt.ler = r.result.assessment.ler_lm_per_W;
     pt.efficacy = r.result.luminous_efficacy_absorbed;
+    const auto& fid = r.result.assessment.fidelity;
+    pt.rf = fid ? fid->rf : std::numeric_limits<double>::quiet_NaN();
+    pt.rg = fid ? fid->rg : std::numeric_limits<double>::quiet_NaN();
     pt.xy = r.result.assessment.xy;
     pt.distance_uv_prime = r.distance_uv_prime;
     pt.mass_fractions = r.mass_fractions;
@@ -63,7 +85,8 @@ FrontKind parse_front_kind(const std::string& name) {
     if (name == "ra-efficacy") return FrontKind::ra_efficacy;
     if (name == "ra-ler") return FrontKind::ra_ler;
     if (name == "ra-r9") return FrontKind::ra_r9;
-    throw Error(fmt::format("unknown trade-off front '{}': use ra-efficacy, ra-ler or ra-r9", name));
+    if (name == "rf-efficacy") return FrontKind::rf_efficacy;
+    throw Error(fmt::format("unknown trade-off front '{}': use ra-efficacy, ra-ler, ra-r9 or rf-efficacy", name));
 }
 
 std::string front_kind_name(FrontKind k) {
@@ -71,20 +94,26 @@ std::string front_kind_name(FrontKind k) {
         case FrontKind::ra_efficacy: return "ra-efficacy";
         case FrontKind::ra_ler: return "ra-ler";
         case FrontKind::ra_r9: return "ra-r9";
+        case FrontKind::rf_efficacy: return "rf-efficacy";
     }
     return "";
 }
 
 std::string front_objective_label(FrontKind k) {
     switch (k) {
-        case FrontKind::ra_efficacy: return "efficacy";
+        case FrontKind::ra_efficacy:
+        case FrontKind::rf_efficacy: return "efficacy";
         case FrontKind::ra_ler: return "LER";
         case FrontKind::ra_r9: return "Ra";
     }
     return "";
 }
 
-std::string front_floor_label(FrontKind k) { return k == FrontKind::ra_r9 ? "R9" : "Ra"; }
+std::string front_floor_label(FrontKind k) {
+    if (k == FrontKind::ra_r9) return "R9";
+    if (k == FrontKind::rf_efficacy) return "Rf";
+    return "Ra";
+}
 
 TradeoffFront tradeoff_front(const FitProblem& problem, FrontKind kind, int points, const FitOptions& options) {
     if (points < 2 || points > 1000) throw Error(fmt::format("a trade-off front needs 2 to 1000 points, not {}", points));
@@ -92,7 +121,7 @@ TradeoffFront tradeoff_front(const FitProblem& problem, FrontKind kind, int poin
     f.kind = kind;
     f.objective_label = front_objective_label(kind);
     f.floor_label = front_floor_label(kind);
-    f.objective_unit = kind == FrontKind::ra_efficacy ? "lm/W absorbed" : kind == FrontKind::ra_ler ? "lm/W" : "";
+    f.objective_unit = kind == FrontKind::ra_efficacy || kind == FrontKind::rf_efficacy ? "lm/W absorbed" : kind == FrontKind::ra_ler ? "lm/W" : "";
 
     FitProblem base = problem;
     base.objective = objective_for(kind);
@@ -113,7 +142,7 @@ TradeoffFront tradeoff_front(const FitProblem& problem, FrontKind kind, int poin
     if (!best_objective.feasible)
         throw Error(fmt::format("no trade-off front: no blend meets the target and limits ({})", best_objective.message));
     FitProblem top = base;
-    top.objective = kind == FrontKind::ra_r9 ? FitObjective::r9 : FitObjective::ra;
+    top.objective = floor_objective_for(kind);
     const FitResult best_floor = run(top);
     f.floor_low = floor_value(kind, best_objective.result);
     f.floor_high = best_floor.feasible ? floor_value(kind, best_floor.result) - kTopMargin : f.floor_low;
@@ -166,22 +195,35 @@ TradeoffFront tradeoff_front(const FitProblem& problem, FrontKind kind, int poin
     return f;
 }
 
+std::vector<std::vector<std::size_t>> k_subsets(std::size_t n, int k, const std::string& what) {
+    if (n > 8) throw Error(fmt::format("choosing {}: at most 8 components, not {}", what, n));
+    if (k < 1 || static_cast<std::size_t>(k) > n)
+        throw Error(fmt::format("choosing {} of {} {}: the number to choose must lie between 1 and {}", k, n, what, n));
+    // Lexicographic order: a mask of n bits with k set, stepped by prev_permutation.
+    std::vector<std::vector<std::size_t>> out;
+    std::vector<bool> mask(n, false);
+    std::fill(mask.begin(), mask.begin() + k, true);
+    do {
+        std::vector<std::size_t> idx;
+        for (std::size_t i = 0; i < n; ++i)
+            if (mask[i]) idx.push_back(i);
+        out.push_back(std::move(idx));
+    } while (std::prev_permutation(mask.begin(), mask.end()));
+    return out;
+}
+
 SubsetChoice choose_components(const FitProblem& problem, int k, const FitOptions& options) {
     const std::size_t n = problem.blend.components.size();
-    if (n > 8) throw Error(fmt::format("choosing components: at most 8 components, not {}", n));
-    if (k < 1 || static_cast<std::size_t>(k) > n)
-        throw Error(fmt::format("choosing {} of {} components: the number to choose must lie between 1 and {}", k, n, n));
+    const auto subsets = k_subsets(n, k, "components");
     SubsetChoice out;
     out.k = k;
     const bool smaller_is_better = problem.objective == FitObjective::closest_to_start;
-    // Subsets in lexicographic order: mask of n bits with k set.
-    std::vector<bool> mask(n, false);
-    std::fill(mask.begin(), mask.begin() + k, true);
     std::optional<FitResult> best_fit;
-    do {
+    for (const auto& indices : subsets) {
         SubsetTrial t;
-        for (std::size_t i = 0; i < n; ++i)
-            if (mask[i]) t.indices.push_back(i);
+        t.indices = indices;
+        std::vector<bool> mask(n, false);
+        for (std::size_t i : indices) mask[i] = true;
         for (std::size_t i : t.indices) t.labels += (t.labels.empty() ? "" : " + ") + problem.blend.components[i].label;
         std::string left_out_min;
         for (std::size_t i = 0; i < n; ++i) {
@@ -231,7 +273,7 @@ SubsetChoice choose_components(const FitProblem& problem, int k, const FitOption
             t.message = e.what();
         }
         out.trials.push_back(t);
-    } while (std::prev_permutation(mask.begin(), mask.end()));
+    }
     out.found = best_fit.has_value();
     if (best_fit) out.result = std::move(*best_fit);
     return out;

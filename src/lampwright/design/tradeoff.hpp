@@ -1,8 +1,8 @@
 #pragma once
 // Trade-offs on top of the blend optimiser (optimiser.hpp):
 //   - the trade-off front between two figures by an epsilon-constraint sweep: maximise one figure
-//     (efficacy, LER or Ra) subject to a floor on the other (Ra or R9), for a sweep of floors,
-//     each point one solve() of the fit problem with min_ra / min_r9 set;
+//     (efficacy, LER or Ra) subject to a floor on the other (Ra, R9 or CIE 224 Rf), for a sweep of
+//     floors, each point one solve() of the fit problem with min_ra / min_r9 / min_rf set;
 //   - the best k of a recipe's n components: every k-subset solved, the best feasible kept.
 #include "lampwright/design/optimiser.hpp"
 
@@ -15,8 +15,9 @@ enum class FrontKind {
     ra_efficacy,  // maximise efficacy (lm per W absorbed) subject to Ra >= floor
     ra_ler,       // maximise LER subject to Ra >= floor
     ra_r9,        // maximise Ra subject to R9 >= floor
+    rf_efficacy,  // maximise efficacy (lm per W absorbed) subject to Rf >= floor (CIE 224:2017)
 };
-// "ra-efficacy", "ra-ler", "ra-r9"; throws Error otherwise.
+// "ra-efficacy", "ra-ler", "ra-r9", "rf-efficacy"; throws Error otherwise.
 FrontKind parse_front_kind(const std::string& name);
 std::string front_kind_name(FrontKind k);  // the same words
 // The figure maximised and the figure whose floor is swept, e.g. "efficacy" and "Ra".
@@ -24,10 +25,11 @@ std::string front_objective_label(FrontKind k);
 std::string front_floor_label(FrontKind k);
 
 struct FrontPoint {
-    double floor = 0;       // the epsilon: Ra >= floor (R9 >= floor for ra_r9)
+    double floor = 0;       // the epsilon: Ra >= floor (R9 >= floor for ra_r9, Rf for rf_efficacy)
     bool feasible = false;  // a blend meeting every constraint of this point was found
     double objective = 0;   // the figure maximised, from the re-checked blend
     double ra = 0, r9 = 0, ler = 0, efficacy = 0;  // of the blend (evaluate_blend)
+    double rf = 0, rg = 0;                          // CIE 224 Rf, TM-30-20 Rg (NaN without a CCT)
     Chromaticity xy;
     double distance_uv_prime = 0;
     std::vector<double> mass_fractions;  // per component of the problem
@@ -62,14 +64,19 @@ struct SubsetTrial {
     double objective_value = 0;        // as FitResult::objective_value
     std::string message;               // why it is infeasible, when it is
 };
-struct SubsetChoice {
+// The trials of a best-k-of-n search (blend or layer), for the reports.
+struct SubsetTrials {
     int k = 0;
     bool found = false;                // some subset is feasible
     std::size_t best = 0;              // index into trials
-    FitResult result;                  // the best subset's fit, fractions per component of the
-                                       // full problem (0 for the components left out)
     std::vector<SubsetTrial> trials;   // in lexicographic order of the indices
 };
+struct SubsetChoice : SubsetTrials {
+    FitResult result;                  // the best subset's fit, fractions per component of the
+                                       // full problem (0 for the components left out)
+};
+// Every k-subset of n in lexicographic order (1 <= k <= n <= 8, else Error naming `what`).
+std::vector<std::vector<std::size_t>> k_subsets(std::size_t n, int k, const std::string& what);
 // "Best" by the problem's objective: the largest objective_value, or for closest_to_start the
 // smallest change (measured on the subset, from the recipe's fractions of those components
 // renormalised). A subset that leaves out a component with a minimum fraction above zero is

@@ -1,5 +1,5 @@
 #pragma once
-// A phosphor conversion layer on a UV/violet LED (README "LED layer physics"):
+// A phosphor conversion layer on an LED pump, 360-470 nm (README "LED layer physics"):
 //   - absorption: alpha_i(l) = kappa a_i(l) c_i per phosphor (kappa: mass absorption coefficient
 //     of a strong absorber, a_i: relative absorption per unit mass, c_i: its mass concentration);
 //   - scattering: every phosphor's grains (d50, index against the silicone's) by anomalous
@@ -8,7 +8,8 @@
 //     Monte Carlo (reference) of the slab with Fresnel/TIR at the top and the package reflector
 //     below (led/layer_transfer.hpp);
 //   - temperature: QE scaled by each phosphor's thermal quenching, emission shifted by its
-//     peak shift per kelvin.
+//     peak shift per kelvin; the pump moved and widened per kelvin of junction temperature;
+//   - package: a flat top or a dome, the chip as a darker part of the package bottom.
 // Spectra on the 300-900 nm grid in W/nm for the pump power given (1 W by default).
 #include "lampwright/colour/assessment.hpp"
 #include "lampwright/phosphor/excitation.hpp"

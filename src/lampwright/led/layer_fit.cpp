@@ -55,7 +55,7 @@ Figures figures(Context& c, const std::vector<double>& z) {
     if (r.assessment.rendering) f.ra = r.assessment.rendering->ra, f.r9 = r.assessment.rendering->ri[8];
     double change = 0;
     for (std::size_t i = 0; i < d.components.size(); ++i) change += std::abs(d.components[i].loading - p.design.components[i].loading);
-    f.objective = objective_figure(p.objective, p.r9_weight, r.assessment, r.efficacy_lm_per_W_pump, change);
+    f.objective = objective_figure(p.objective, {p.r9_weight, p.rg_weight}, r.assessment, r.efficacy_lm_per_W_pump, change);
     return f;
 }
 
@@ -220,6 +220,37 @@ LayerFitResult fit_layer(const LayerFitProblem& p, int max_evaluations) {
                                          r.macadam_steps ? fmt::format(" ({:.2f} MacAdam steps, limit {:g})", *r.macadam_steps, p.target.ellipse_steps)
                                                          : fmt::format(" (tolerance {:g})", p.tolerance_uv_prime));
     return r;
+}
+
+LayerSubsetChoice choose_layer_components(const LayerFitProblem& problem, int k, int max_evaluations) {
+    LayerSubsetChoice out;
+    out.k = k;
+    for (const auto& indices : k_subsets(problem.design.components.size(), k, "layer components")) {
+        SubsetTrial t;
+        t.indices = indices;
+        LayerFitProblem q = problem;
+        q.design.components.clear();
+        for (std::size_t i : indices) {
+            q.design.components.push_back(problem.design.components[i]);
+            t.labels += (t.labels.empty() ? "" : " + ") + problem.design.components[i].label;
+        }
+        try {
+            LayerFitResult r = fit_layer(q, max_evaluations);
+            t.feasible = r.feasible;
+            t.objective_value = r.objective_value;
+            t.message = r.message;
+            if (r.feasible && (!out.found || r.objective_value > out.result.objective_value)) {
+                r.message = fmt::format("best {} of {} components: {}; {}", k, problem.design.components.size(), t.labels, r.message);
+                out.result = std::move(r);
+                out.found = true;
+                out.best = out.trials.size();
+            }
+        } catch (const Error& e) {
+            t.message = e.what();
+        }
+        out.trials.push_back(t);
+    }
+    return out;
 }
 
 }  // namespace lampwright

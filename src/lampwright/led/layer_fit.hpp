@@ -8,6 +8,7 @@
 // evaluate_layer. Problem and result types follow the blend optimiser's.
 #include "lampwright/led/layer.hpp"
 #include "lampwright/design/optimiser.hpp"
+#include "lampwright/design/tradeoff.hpp"
 
 namespace lampwright {
 
@@ -16,6 +17,7 @@ struct LayerFitProblem {
     Target target;
     FitObjective objective = FitObjective::closest_to_start;  // "efficacy" = lm per W of pump
     double r9_weight = 0.5;
+    double rg_weight = 0.5;
     // Chromaticity constraint: inside the target's n-step MacAdam ellipse when it has one, else
     // within this u'v' distance (as for blends: target_distance_ratio2).
     double tolerance_uv_prime = kDefaultFitToleranceUvPrime;
@@ -38,5 +40,13 @@ struct LayerFitResult {
 };
 
 LayerFitResult fit_layer(const LayerFitProblem& problem, int max_evaluations = 3000);
+
+// Best k of the design's n components (n <= 8): every k-subset fitted (fit_layer), the feasible
+// one with the largest objective kept (for the default objective: the smallest change of the
+// loadings). The result's design holds only the chosen components. Throws Error unless 1 <= k <= n.
+struct LayerSubsetChoice : SubsetTrials {
+    LayerFitResult result;
+};
+LayerSubsetChoice choose_layer_components(const LayerFitProblem& problem, int k, int max_evaluations = 3000);
 
 }  // namespace lampwright

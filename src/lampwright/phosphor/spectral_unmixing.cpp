@@ -415,8 +415,8 @@ BlendUnmixing finish(const SampledSpectrum& m, const Prepared& p, const std::vec
             if (s.x(static_cast<Eigen::Index>(i)) > 0)
                 r.components[i].mass_fraction_sd = std::sqrt(std::max(0.0, cov_w(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(i))));
     }
-    r.measured_assessment = assess(resample_to_1nm(m));
-    r.fit_assessment = assess(resample_to_1nm(r.reconstruction));
+    r.measured_assessment = assess_sampled(m);
+    r.fit_assessment = assess_sampled(r.reconstruction);
     return r;
 }
 

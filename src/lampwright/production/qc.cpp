@@ -95,7 +95,7 @@ QcSpec load_qc_spec(const std::string& path) {
     }
     if (const auto* l = doc.table(r, "limits", "")) {
         std::vector<std::string> known{"ra_min", "r9_min", "cct_min_K", "cct_max_K", "duv_min", "duv_max", "flux_min_lm", "flux_max_lm", "efficacy_min_lm_per_W",
-                                       "min_rf", "min_rg", "max_rg"};
+                                       "min_rf", "min_rg", "max_rg", "tm30_level"};
         for (int j = 1; j <= kTm30HueBins; ++j)
             for (const char* k : {"min_rf_h", "min_rcs_h", "max_rcs_h"}) known.push_back(fmt::format("{}{}", k, j));
         doc.only_keys(*l, known, "limits");
@@ -145,6 +145,32 @@ QcSpec load_qc_spec(const std::string& path) {
             if (s.rcs_h_min_percent[j] && s.rcs_h_max_percent[j] && *s.rcs_h_min_percent[j] > *s.rcs_h_max_percent[j])
                 doc.fail(l->get(lo_key), "limits",
                          fmt::format("{} ({:g}) must not be above {} ({:g})", lo_key, *s.rcs_h_min_percent[j], hi_key, *s.rcs_h_max_percent[j]));
+        }
+        if (l->contains("tm30_level")) {
+            const auto level = l->get("tm30_level")->value<std::string>();
+            if (!level) doc.fail(l->get("tm30_level"), "limits.tm30_level", "must be a string such as \"P1\"");
+            try {
+                const Tm30DesignLevel& d = tm30_design_level(*level);
+                s.tm30_level = d.name;
+                auto fill = [](std::optional<double>& v, const std::optional<double>& preset) {
+                    if (!v) v = preset;
+                };
+                fill(s.rf_min, d.min_rf);
+                fill(s.rg_min, d.min_rg);
+                fill(s.rf_h_min[0], d.min_rf_h1);
+                fill(s.rcs_h_min_percent[0], d.min_rcs_h1_percent);
+                fill(s.rcs_h_max_percent[0], d.max_rcs_h1_percent);
+                if (s.rg_min && s.rg_max && *s.rg_min >= *s.rg_max)
+                    doc.fail(l->get("max_rg"), "limits", fmt::format("max_rg ({:g}) must be above the min_rg ({:g}) of tm30_level {}", *s.rg_max, *s.rg_min, d.name));
+                if (s.rcs_h_min_percent[0] && s.rcs_h_max_percent[0] && *s.rcs_h_min_percent[0] > *s.rcs_h_max_percent[0])
+                    doc.fail(l->get("tm30_level"), "limits", fmt::format("min_rcs_h1 ({:g}) is above max_rcs_h1 ({:g}) with tm30_level {}", *s.rcs_h_min_percent[0],
+                                                                          *s.rcs_h_max_percent[0], d.name));
+                s.notes.push_back(fmt::format("{}: {} ({})", d.name, kTm30LevelCaution, d.source));
+            } catch (const InputError&) {
+                throw;
+            } catch (const Error& e) {
+                doc.fail(l->get("tm30_level"), "limits.tm30_level", e.what());
+            }
         }
         if (s.cct_min_K && s.cct_max_K && *s.cct_min_K >= *s.cct_max_K) doc.fail(l->get("cct_min_K"), "limits", fmt::format("cct_min_K ({:g}) must be below cct_max_K ({:g})", *s.cct_min_K, *s.cct_max_K));
         if (s.duv_min && s.duv_max && *s.duv_min >= *s.duv_max) doc.fail(l->get("duv_min"), "limits", fmt::format("duv_min ({:g}) must be below duv_max ({:g})", *s.duv_min, *s.duv_max));
@@ -399,7 +425,9 @@ QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigne
                 for (const auto& s : f.spectra) {
                     const Spectrum one_nm = resample_to_1nm(s);
                     file_sum.add(one_nm);
-                    LampResult lr = judge_lamp(spec, assess(one_nm, options));
+                    AssessOptions lamp_options = options;
+                    lamp_options.cie224_interval_nm = cie224_interval_for(s.wavelengths_nm);  // 5 nm data at 5 nm (CIE 224:2017, 4.1)
+                    LampResult lr = judge_lamp(spec, assess(one_nm, lamp_options));
                     // The file's warnings (a gap in the data, negative noise) hold for each of its lamps.
                     lr.assessment.warnings.insert(lr.assessment.warnings.begin(), f.warnings.begin(), f.warnings.end());
                     lr.file = sanitize_utf8(files[i]);  // shown and stored; the path itself may be in any encoding

@@ -36,6 +36,10 @@ struct QcSpec {
     // min_rf_hj) and a range on the local chroma shift Rcs,hj in per cent (keys min_rcs_hj,
     // max_rcs_hj), named like min_rf / min_rg / max_rg. A bin without samples fails its limits.
     std::array<std::optional<double>, kTm30HueBins> rf_h_min{}, rcs_h_min_percent{}, rcs_h_max_percent{};
+    // The TM-30-20 Annex E level named by [limits] tm30_level ("P1", ...; empty = none): its
+    // criteria fill the Rf, Rg, Rf,h1 and Rcs,h1 limits the file leaves unset.
+    std::string tm30_level;
+    std::vector<std::string> notes;  // for people: e.g. that the level's criteria are from memory
 };
 
 // Spec files (TOML):
@@ -48,6 +52,7 @@ struct QcSpec {
 //             flux_min_lm = 1200  flux_max_lm = 1400  efficacy_min_lm_per_W = 90   # absolute spectra only
 //             min_rf = 80  min_rg = 95  max_rg = 110                               # CIE 224 / TM-30-20
 //             min_rf_h1 = 75  min_rcs_h1 = -5  max_rcs_h1 = 15  (... _h16)         # TM-30-20 hue bins
+//             tm30_level = "P1"   # TM-30-20 Annex E preset (P1-P3, F1-F3; from memory); keys given override it
 QcSpec load_qc_spec(const std::string& path);
 
 struct LampResult {

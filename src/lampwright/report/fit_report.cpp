@@ -108,8 +108,8 @@ std::string front_text(const FitProblem& p, const TradeoffFront& f, double ms) {
     if (p.target.kind != Target::Kind::chromaticity) o << fmt::format(" (x = {:.4f}, y = {:.4f})", p.target.xy.x, p.target.xy.y);
     o << '\n';
     o << fmt::format("  sweep:      {}; {} evaluations, {:.0f} ms\n", f.message, f.evaluations, ms);
-    o << fmt::format("\n  {:>8} {:>9} {:>7} {:>7} {:>7} {:>9}  fractions ({})\n", "min " + f.floor_label, f.objective_label, "Ra", "R9",
-                     "LER", "efficacy", [&] {
+    o << fmt::format("\n  {:>8} {:>9} {:>7} {:>7} {:>6} {:>6} {:>7} {:>9}  fractions ({})\n", "min " + f.floor_label, f.objective_label, "Ra", "R9",
+                     "Rf", "Rg", "LER", "efficacy", [&] {
                          std::string l;
                          for (const auto& c : p.blend.components) l += (l.empty() ? "" : ", ") + c.label;
                          return l;
@@ -121,8 +121,9 @@ std::string front_text(const FitProblem& p, const TradeoffFront& f, double ms) {
         }
         std::string fr;
         for (double w : pt.mass_fractions) fr += fmt::format("{}{:.4f}", fr.empty() ? "" : " ", w);
-        o << fmt::format("  {:>8} {:>9} {:>7} {:>7} {:>7} {:>9}  {}{}\n", format_fixed(pt.floor, 2), format_fixed(pt.objective, 2), format_fixed(pt.ra, 2),
-                         format_fixed(pt.r9, 2), format_fixed(pt.ler, 1), format_fixed(pt.efficacy, 2), fr,
+        o << fmt::format("  {:>8} {:>9} {:>7} {:>7} {:>6} {:>6} {:>7} {:>9}  {}{}\n", format_fixed(pt.floor, 2), format_fixed(pt.objective, 2), format_fixed(pt.ra, 2),
+                         format_fixed(pt.r9, 2), format_fixed(pt.rf, 1, "-"), format_fixed(pt.rg, 1, "-"), format_fixed(pt.ler, 1),
+                         format_fixed(pt.efficacy, 2), fr,
                          pt.from_other_point ? "  *" : "");
     }
     if (std::any_of(f.points.begin(), f.points.end(), [](const FrontPoint& q) { return q.from_other_point; }))
@@ -155,6 +156,8 @@ nlohmann::ordered_json front_json(const FitProblem& p, const TradeoffFront& f, d
             q["R9"] = pt.r9;
             q["ler_lm_per_W"] = pt.ler;
             q["efficacy_lm_per_W_absorbed"] = pt.efficacy;
+            q["Rf"] = number_or_null(pt.rf);
+            q["Rg"] = number_or_null(pt.rg);
             q["x"] = pt.xy.x;
             q["y"] = pt.xy.y;
             q["delta_uv_prime"] = pt.distance_uv_prime;
@@ -168,7 +171,7 @@ nlohmann::ordered_json front_json(const FitProblem& p, const TradeoffFront& f, d
     return j;
 }
 
-std::string subsets_text(const SubsetChoice& c, std::size_t n) {
+std::string subsets_text(const SubsetTrials& c, std::size_t n) {
     std::ostringstream o;
     o << fmt::format("Best {} of {} components: {} subsets tried\n", c.k, n, c.trials.size());
     for (std::size_t i = 0; i < c.trials.size(); ++i) {
@@ -217,6 +220,11 @@ std::string tolerance_text(const ToleranceProblem& t, const ToleranceResult& r, 
     o << fmt::format("              RMS MacAdam steps: lamp from its batch mean {:.2f}, batch mean from the mean of the batch means {:.2f}; "
                      "worst batch mean {:.2f} steps from the target\n",
                      r.within_steps_rms, r.between_steps_rms, r.worst_batch_mean_steps);
+    if (r.fidelity_draws > 0)
+        o << fmt::format("  Rf, Rg:     Rf mean {:.1f} (sd {:.2f}; 5 % {:.1f}, 95 % {:.1f}), Rg mean {:.1f} (sd {:.2f}; 5 % {:.1f}, 95 % {:.1f}); "
+                         "nominal Rf {}, Rg {}\n              (CIE 224, TM-30-20; over the first {} draws; the measurement error not in them)\n",
+                         r.rf.mean, r.rf.sd, r.rf.p05, r.rf.p95, r.rg.mean, r.rg.sd, r.rg.p05, r.rg.p95, format_fixed(r.nominal_rf, 1, "-"),
+                         format_fixed(r.nominal_rg, 1, "-"), r.fidelity_draws);
     for (const auto& n : r.notes) o << "  note:       " << n << '\n';
     if (r.failed > 0)
         o << fmt::format("  failed:     {} draws gave no light (every QE drawn at zero): counted outside, left out of the figures above\n", r.failed);
@@ -225,7 +233,7 @@ std::string tolerance_text(const ToleranceProblem& t, const ToleranceResult& r, 
 
 std::string front_csv(const FitProblem& problem, const TradeoffFront& f) {
     std::vector<std::string> cols{fmt::format("min_{}", f.floor_label), "feasible", f.objective_label == "Ra" ? "objective_Ra" : "objective_" + f.objective_label,
-                                  "Ra", "R9", "ler_lm_per_W", "efficacy_lm_per_W_absorbed", "x", "y", "delta_uv_prime", "from_other_point"};
+                                  "Ra", "R9", "ler_lm_per_W", "efficacy_lm_per_W_absorbed", "x", "y", "delta_uv_prime", "from_other_point", "Rf", "Rg"};
     for (const auto& c : problem.blend.components) cols.push_back("fraction_" + c.label);
     std::string out = csv_line(cols) + "\n";
     for (const auto& p : f.points) {
@@ -236,6 +244,8 @@ std::string front_csv(const FitProblem& problem, const TradeoffFront& f) {
             v.push_back(fmt::format("{:.5f}", p.xy.y));
             v.push_back(fmt::format("{:.6f}", p.distance_uv_prime));
             v.push_back(p.from_other_point ? "true" : "false");
+            v.push_back(format_fixed(p.rf, 4, ""));
+            v.push_back(format_fixed(p.rg, 4, ""));
             for (double w : p.mass_fractions) v.push_back(fmt::format("{:.6f}", w));
         } else {
             for (std::size_t i = 2; i < cols.size(); ++i) v.push_back("");
@@ -249,7 +259,7 @@ std::string front_svg(const FitProblem& problem, const TradeoffFront& f) {
     SvgSeries line{"front", {}, {}, series_colour(0), false};
     for (const auto& p : f.points) {
         if (!p.feasible) continue;
-        line.x.push_back(f.kind == FrontKind::ra_r9 ? p.r9 : p.ra);
+        line.x.push_back(f.kind == FrontKind::ra_r9 ? p.r9 : f.kind == FrontKind::rf_efficacy ? p.rf : p.ra);
         line.y.push_back(p.objective);
     }
     SvgSeries dots = line;
@@ -257,7 +267,7 @@ std::string front_svg(const FitProblem& problem, const TradeoffFront& f) {
     dots.points = true;
     SvgAxes ax;
     ax.title = fmt::format("{}: {} against {} ({})", problem.blend.name, f.objective_label, f.floor_label, problem.target.description);
-    ax.x_label = f.floor_label + " (CIE 13.3)";
+    ax.x_label = f.floor_label + (f.kind == FrontKind::rf_efficacy ? " (CIE 224)" : " (CIE 13.3)");
     ax.y_label = f.objective_label + (f.objective_unit.empty() ? "" : " (" + f.objective_unit + ")");
     if (line.x.empty()) {
         ax.x_min = 0, ax.x_max = 100, ax.y_min = 0, ax.y_max = 1;
@@ -317,7 +327,10 @@ std::pair<std::vector<std::string>, std::vector<std::string>> fit_csv(const FitP
                               "tol_mean_steps", "tol_sd_steps", "tol_p50_steps", "tol_p90_steps", "tol_p95_steps", "tol_p99_steps",
                               "tol_max_steps", "tol_nominal_steps", "tol_failed", "tol_batch_size", "tol_batches", "tol_sd_x_within",
                               "tol_sd_y_within", "tol_sd_x_between", "tol_sd_y_between", "tol_within_batch_steps_rms",
-                              "tol_between_batch_steps_rms", "tol_worst_batch_mean_steps"})
+                              "tol_between_batch_steps_rms", "tol_worst_batch_mean_steps",
+                              // issue 13, appended: the Rf / Rg spread over the first fidelity draws
+                              "tol_fidelity_draws", "tol_mean_Rf", "tol_sd_Rf", "tol_p05_Rf", "tol_p95_Rf", "tol_mean_Rg", "tol_sd_Rg",
+                              "tol_p05_Rg", "tol_p95_Rg"})
             cols.push_back(k);
         if (tr) {
             vals.push_back(fmt::format("{}", tr->draws));
@@ -331,6 +344,9 @@ std::pair<std::vector<std::string>, std::vector<std::string>> fit_csv(const FitP
             for (double v : {tr->sd_x_within, tr->sd_y_within, tr->sd_x_between, tr->sd_y_between, tr->within_steps_rms, tr->between_steps_rms,
                              tr->worst_batch_mean_steps})
                 vals.push_back(fmt::format("{:.6g}", v));
+            vals.push_back(fmt::format("{}", tr->fidelity_draws));
+            for (double v : {tr->rf.mean, tr->rf.sd, tr->rf.p05, tr->rf.p95, tr->rg.mean, tr->rg.sd, tr->rg.p05, tr->rg.p95})
+                vals.push_back(std::isfinite(v) ? fmt::format("{:.6g}", v) : "");
         } else {
             vals.resize(cols.size());  // no tolerance run (the fit was infeasible): empty cells
         }
@@ -338,7 +354,7 @@ std::pair<std::vector<std::string>, std::vector<std::string>> fit_csv(const FitP
     return {cols, vals};
 }
 
-nlohmann::ordered_json subsets_json(const SubsetChoice& c) {
+nlohmann::ordered_json subsets_json(const SubsetTrials& c) {
     nlohmann::ordered_json a = nlohmann::ordered_json::array();
     for (std::size_t i = 0; i < c.trials.size(); ++i) {
         const auto& t = c.trials[i];
@@ -346,6 +362,10 @@ nlohmann::ordered_json subsets_json(const SubsetChoice& c) {
                      {"best", c.found && i == c.best}, {"message", t.message}});
     }
     return a;
+}
+
+nlohmann::ordered_json spread_json(const ToleranceResult::Spread& s) {
+    return {{"mean", number_or_null(s.mean)}, {"sd", number_or_null(s.sd)}, {"p05", number_or_null(s.p05)}, {"p95", number_or_null(s.p95)}};
 }
 
 nlohmann::ordered_json tolerance_json(const ToleranceProblem& tp, const ToleranceResult& tr, double ms, const std::string& ellipse_source) {
@@ -363,11 +383,18 @@ nlohmann::ordered_json tolerance_json(const ToleranceProblem& tp, const Toleranc
               {"batch_size", tr.batch_size}, {"batches", tr.batches}, {"sd_x_within", tr.sd_x_within}, {"sd_y_within", tr.sd_y_within},
               {"sd_x_between", tr.sd_x_between}, {"sd_y_between", tr.sd_y_between}, {"within_batch_steps_rms", tr.within_steps_rms},
               {"between_batch_steps_rms", tr.between_steps_rms}, {"worst_batch_mean_steps", tr.worst_batch_mean_steps},
-              {"sources", sources}, {"notes", tr.notes}, {"time_ms", ms}};
+              {"sources", sources}, {"notes", tr.notes}, {"time_ms", ms},
+              // issue 13: the Rf / Rg spread over the first fidelity_draws draws
+              {"fidelity_draws", tr.fidelity_draws}, {"nominal_Rf", number_or_null(tr.nominal_rf)}, {"nominal_Rg", number_or_null(tr.nominal_rg)},
+              {"Rf", spread_json(tr.rf)}, {"Rg", spread_json(tr.rg)}};
 }
 
 std::string sensitivity_text(const std::vector<SensitivityRow>& rows) {
-    std::string o = "\n  sensitivity: one percentage point more of (then renormalised)\n" +
+    return sensitivity_text(rows, "one percentage point more of (then renormalised)");
+}
+
+std::string sensitivity_text(const std::vector<SensitivityRow>& rows, const std::string& heading) {
+    std::string o = "\n  sensitivity: " + heading + "\n" +
                     fmt::format("  {:<40} {:>9} {:>9} {:>8} {:>9} {:>7}\n", "component", "du'", "dv'", "dCCT K", "dDuv", "dRa");
     for (const auto& s : rows)
         o += fmt::format("  {:<40} {:>9} {:>9} {:>8} {:>9} {:>7}\n", s.label, format_signed(s.d_u_prime, 5), format_signed(s.d_v_prime, 5),
@@ -420,6 +447,50 @@ nlohmann::ordered_json layer_fit_json(const LayerFitResult& r) {
     auto& l = j["fit_loadings"] = nlohmann::ordered_json::object();
     for (const auto& c : d.components) l[c.label] = c.loading;
     return j;
+}
+
+std::string layer_tolerance_text(const LayerToleranceProblem& t, const LayerToleranceResult& r, double ms, const std::string& ellipse_source) {
+    std::string o = fmt::format("\nProduction tolerance of layer '{}' (Monte Carlo on the full layer model: {} modules, seed {}, {:.0f} ms)\n",
+                                t.design.name, r.draws, r.seed, ms);
+    o += fmt::format("  variation:  per module: loading sigma {:g} %, thickness sigma {:g} %, lot d50 sigma {:g} %, measurement sigma {:g} in x and y\n",
+                     100 * t.loading_sigma, 100 * t.thickness_sigma, 100 * t.d50_sigma, t.measurement_sigma_xy);
+    o += "              (defaults from memory; --loading-sigma, --thickness-sigma, --d50-sigma, --measurement-sigma set them)\n";
+    o += fmt::format("  ellipse:    {}\n", ellipse_source);
+    o += fmt::format("  nominal:    x = {:.4f}, y = {:.4f}, {:.2f} steps from the target\n", r.nominal_xy.x, r.nominal_xy.y, r.nominal_steps);
+    o += fmt::format("  modules:    x {:.4f} (sd {:.4f}), y {:.4f} (sd {:.4f})\n", r.mean_x, r.sd_x, r.mean_y, r.sd_y);
+    o += fmt::format("  MacAdam steps from the target: mean {:.2f}, sd {:.2f}; median {:.2f}, 90 % {:.2f}, 95 % {:.2f}, max {:.2f}\n", r.mean_steps,
+                     r.sd_steps, r.p50, r.p90, r.p95, r.max_steps);
+    o += fmt::format("  inside the {:g}-step ellipse: {:.1f} % of modules (standard error {:.1f} %, {} of {})\n", r.steps_limit, 100 * r.yield,
+                     100 * r.yield_standard_error, r.inside, r.draws);
+    o += fmt::format("  pump leak:  {:.2f} % (sd {:.2f} %) of the output; efficacy {:.1f} (sd {:.1f}) lm per W pump\n", 100 * r.mean_leak, 100 * r.sd_leak,
+                     r.mean_efficacy, r.sd_efficacy);
+    if (r.failed > 0) o += fmt::format("  failed:     {} modules the model could not evaluate: counted outside\n", r.failed);
+    return o;
+}
+
+nlohmann::ordered_json layer_tolerance_json(const LayerToleranceProblem& t, const LayerToleranceResult& r, double ms, const std::string& ellipse_source) {
+    return {{"draws", r.draws}, {"seed", r.seed}, {"loading_sigma", t.loading_sigma}, {"thickness_sigma", t.thickness_sigma},
+            {"d50_sigma", t.d50_sigma}, {"measurement_sigma_xy", t.measurement_sigma_xy}, {"ellipse", ellipse_source},
+            {"steps_limit", r.steps_limit}, {"inside", r.inside}, {"failed", r.failed}, {"inside_share", r.yield},
+            {"inside_standard_error", r.yield_standard_error}, {"nominal_steps", r.nominal_steps}, {"mean_steps", r.mean_steps},
+            {"sd_steps", r.sd_steps}, {"p50_steps", r.p50}, {"p90_steps", r.p90}, {"p95_steps", r.p95}, {"max_steps", r.max_steps},
+            {"mean_x", r.mean_x}, {"mean_y", r.mean_y}, {"sd_x", r.sd_x}, {"sd_y", r.sd_y}, {"mean_pump_leak_fraction", r.mean_leak},
+            {"sd_pump_leak_fraction", r.sd_leak}, {"mean_efficacy_lm_per_W_pump", r.mean_efficacy}, {"sd_efficacy_lm_per_W_pump", r.sd_efficacy},
+            {"time_ms", ms}};
+}
+
+std::pair<std::vector<std::string>, std::vector<std::string>> layer_tolerance_csv(const LayerToleranceResult* r) {
+    std::vector<std::string> cols{"tol_draws", "tol_inside_share", "tol_inside_standard_error", "tol_mean_steps", "tol_sd_steps", "tol_p95_steps",
+                                  "tol_mean_pump_leak_fraction", "tol_mean_efficacy_lm_per_W_pump"};
+    std::vector<std::string> vals;
+    if (r) {
+        vals.push_back(fmt::format("{}", r->draws));
+        for (double v : {r->yield, r->yield_standard_error, r->mean_steps, r->sd_steps, r->p95, r->mean_leak, r->mean_efficacy})
+            vals.push_back(fmt::format("{:.6g}", v));
+    } else {
+        vals.resize(cols.size());
+    }
+    return {cols, vals};
 }
 
 }  // namespace lampwright

@@ -7,6 +7,7 @@
 #include "lampwright/design/tolerance.hpp"
 #include "lampwright/design/tradeoff.hpp"
 #include "lampwright/led/layer_fit.hpp"
+#include "lampwright/led/layer_tolerance.hpp"
 
 #include <nlohmann/json.hpp>
 
@@ -35,8 +36,8 @@ std::string front_csv(const FitProblem& problem, const TradeoffFront& front);
 // SVG chart: the objective against the floor figure (the floor figure on x).
 std::string front_svg(const FitProblem& problem, const TradeoffFront& front);
 
-std::string subsets_text(const SubsetChoice& c, std::size_t n);
-nlohmann::ordered_json subsets_json(const SubsetChoice& c);
+std::string subsets_text(const SubsetTrials& c, std::size_t n);
+nlohmann::ordered_json subsets_json(const SubsetTrials& c);
 
 std::string tolerance_text(const ToleranceProblem& t, const ToleranceResult& r, double ms, const std::string& ellipse_source);
 nlohmann::ordered_json tolerance_json(const ToleranceProblem& t, const ToleranceResult& r, double ms, const std::string& ellipse_source);
@@ -46,5 +47,12 @@ nlohmann::ordered_json tolerance_json(const ToleranceProblem& t, const Tolerance
 std::string layer_fit_text(const LayerFitProblem& problem, const LayerFitResult& r);
 std::pair<std::vector<std::string>, std::vector<std::string>> layer_fit_csv(const LayerFitResult& r);
 nlohmann::ordered_json layer_fit_json(const LayerFitResult& r);
+// The production spread of a fitted layer (led/layer_tolerance.hpp).
+std::string layer_tolerance_text(const LayerToleranceProblem& t, const LayerToleranceResult& r, double ms, const std::string& ellipse_source);
+nlohmann::ordered_json layer_tolerance_json(const LayerToleranceProblem& t, const LayerToleranceResult& r, double ms, const std::string& ellipse_source);
+// CSV columns appended to the layer fit row (empty cells without a run).
+std::pair<std::vector<std::string>, std::vector<std::string>> layer_tolerance_csv(const LayerToleranceResult* r);
+// The sensitivity table; `heading` says what one step is.
+std::string sensitivity_text(const std::vector<SensitivityRow>& rows, const std::string& heading);
 
 }  // namespace lampwright

@@ -109,6 +109,7 @@ std::string limits_text(const QcSpec& s) {
         else if (lo) l.push_back(fmt::format("Rcs,h{} ≥ {:g} %", j + 1, *lo));
         else if (hi) l.push_back(fmt::format("Rcs,h{} ≤ {:g} %", j + 1, *hi));
     }
+    if (!s.tm30_level.empty()) l.push_back(fmt::format("(TM-30-20 Annex E level {}, from memory: check the standard)", s.tm30_level));
     return l.empty() ? "none besides the chromaticity region" : join(l, ", ");
 }
 
@@ -526,6 +527,7 @@ nlohmann::ordered_json qc_json(const QcRun& run) {
         bins.push_back({{"bin", j + 1}, {"min_rf", opt_json(s.rf_h_min[j])}, {"min_rcs", opt_json(s.rcs_h_min_percent[j])},
                         {"max_rcs", opt_json(s.rcs_h_max_percent[j])}});
     spec["limits"]["hue_bins"] = std::move(bins);
+    spec["limits"]["tm30_level"] = s.tm30_level.empty() ? J(nullptr) : J(s.tm30_level);
     J j;
     j["spec"] = spec;
     j["count"] = st.count;
