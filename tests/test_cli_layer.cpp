@@ -120,6 +120,29 @@ TEST_CASE("cli layer: the removed path factors are refused naming the file, the 
     CHECK(r.err.find("scattering") != std::string::npos);
 }
 
+TEST_CASE("cli layer: the blue example's JSON carries the package fields, and a 480 nm pump is refused naming file and line") {
+    // docs/output-schemas.md (issue 14 fields); the project's bad-input contract (common practice, no source).
+    const std::string blue = LAMPWRIGHT_SOURCE_DIR "/examples/layers/module450_4000K.toml";
+    const auto json = run_cli_args({"layer", blue, "-f", "json"});
+    REQUIRE(json.exit_code == 0);
+    const auto j = nlohmann::json::parse(json.out);
+    CHECK(j.at("top") == "flat");
+    CHECK(j.at("junction_temperature_C").get<double>() == doctest::Approx(95));
+    CHECK(j.at("pump_peak_nm_25C").get<double>() == doctest::Approx(450));
+    CHECK(j.at("chip_loss_W").get<double>() > 0);
+    CHECK(j.at("chip_loss_W").get<double>() < j.at("package_loss_W").get<double>());
+    CHECK(j.at("blue_share").get<double>() > j.at("uv_share").get<double>());
+    CHECK(json.err.find("365-405 nm excitation only") != std::string::npos);  // the QE data's range, said
+    const TempDir dir;
+    const std::string bad = dir.write("d.toml", "name = 'x'\n[pump]\npeak_nm = 480\nfwhm_nm = 20\n[layer]\nthickness_um = 50\n"
+                                                "[[component]]\nphosphor = 'CASN'\nloading = 0.05\n");
+    const auto r = run_cli_args({"layer", bad});
+    CHECK(r.exit_code != 0);
+    CHECK(r.err.find(bad + ":3") != std::string::npos);
+    CHECK(r.err.find("360-470 nm") != std::string::npos);
+    CHECK(r.out.empty());
+}
+
 TEST_CASE("cli compare: layer designs show pump, thickness, leak and the colour shift; --format json and csv agree with layer") {
     // The compare figures of a layer are those `layer` reports for the same design (one model,
     // one evaluation; common practice, no source); a blend recipe has none of the layer figures.

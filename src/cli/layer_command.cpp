@@ -1,4 +1,4 @@
-// lampwright layer: the light of a phosphor conversion layer on a UV/violet LED.
+// lampwright layer: the light of a phosphor conversion layer on an LED pump.
 #include "cli_common.hpp"
 
 #include "lampwright/report/assessment_report.hpp"
@@ -18,10 +18,11 @@ namespace lampwright::cli {
 int run_layer(int argc, char** argv) {
     po::options_description opts(std::string(R"(Usage: lampwright layer [options] DESIGN.toml
 
-Models a phosphor conversion layer on a UV/violet LED: absorption and scattering by the grains,
+Models a phosphor conversion layer on a near-UV, violet or blue LED (360-470 nm): absorption and scattering by the grains,
 Fresnel reflection and total internal reflection at the top, the package reflector below,
 conversion and re-absorption between phosphors (a two-flux model solved as one linear system, or
-a photon Monte Carlo with --method monte-carlo), thermal quenching and peak shift. Prints the
+a photon Monte Carlo with --method monte-carlo), a flat top or a dome, chip absorption, thermal
+quenching and peak shift, the pump's shift and broadening with junction temperature. Prints the
 output at 25 degC and at the operating temperature, the colour shift between them in MacAdam
 steps, pump leakage, conversion efficiency, the energy and photon balance, and every 'assess'
 figure. See README, "LED layer physics".
@@ -77,12 +78,15 @@ local codes and licensed practice.
             auto vals = layer_values(rep);
             for (auto& c : fidelity_summary_columns()) cols.push_back(std::move(c));
             for (auto& v : fidelity_summary_values(rep.operating.assessment)) vals.push_back(std::move(v));
+            for (auto& c : layer_package_columns()) cols.push_back(std::move(c));
+            for (auto& v : layer_package_values(rep)) vals.push_back(std::move(v));
             std::cout << csv_line(cols) << '\n' << csv_line(vals) << '\n';
             break;
         }
         case Format::json: {
             auto j = layer_json(rep);
             add_fidelity_summary_json(j, rep.operating.assessment);
+            add_layer_package_json(j, rep);
             std::cout << dump_json(j) << '\n';
             break;
         }

@@ -27,7 +27,7 @@ Commands:
   fit        solve a recipe's mass fractions for a target white
   unmix      decompose measured spectra into phosphors and discharge lines, back to mass fractions
   calibrate  fit the blend model's absorption factors and line fractions on trial lamps
-  layer      model a phosphor conversion layer on a UV/violet LED
+  layer      model a phosphor conversion layer on an LED pump (360-470 nm)
   compare    layer designs, recipes and spectra side by side
   qc         judge a lot of measured lamps against a specification
   history    recorded lots, their statistics and control charts

@@ -20,11 +20,51 @@ constexpr int kGridSize = kEmissionGridSize;
 // QE data are relative to the phosphor data's reference temperature; the layer's room temperature is it.
 static_assert(kRoomTemperatureC == kThermalReferenceC);
 constexpr double kUvVioletLimitNm = 420.0;
+// The excitation range of the phosphor files' LED quantum efficiency (key at_365_405nm).
+constexpr double kQeDataMinNm = 365.0, kQeDataMaxNm = 405.0;
+// The bands of the UV and blue-light shares (IEC 62471's UV hazards below 400 nm; its blue-light
+// hazard function is largest over 400-500 nm; common practice, no source).
+constexpr double kUvLimitNm = 400.0, kBlueLimitNm = 500.0;
 
 double grid_nm(std::size_t k) { return kEmissionFirstNm + static_cast<double>(k); }
 
-// Pump photons (sum 1) from the Gaussian model or the measured pump power.
-Spectrum pump_photon_shape(const LayerDesign& d) { return d.pump_spectrum ? photons_from_power(*d.pump_spectrum) : pump_photons(d.pump); }
+// Half-maximum width of a measured spectrum (linear between grid points), nm.
+double measured_fwhm(const Spectrum& s) {
+    const auto& v = s.values;
+    const std::size_t ip = static_cast<std::size_t>(std::max_element(v.begin(), v.end()) - v.begin());
+    const double half = v[ip] / 2;
+    std::size_t lo = ip, hi = ip;
+    while (lo > 0 && v[lo - 1] > half) --lo;
+    while (hi + 1 < v.size() && v[hi + 1] > half) ++hi;
+    const double left = lo > 0 ? static_cast<double>(lo) - (v[lo] - half) / (v[lo] - v[lo - 1]) : 0.0;
+    const double right = hi + 1 < v.size() ? static_cast<double>(hi) + (v[hi] - half) / (v[hi] - v[hi + 1]) : static_cast<double>(hi);
+    return right - left;
+}
+
+double measured_peak_nm(const Spectrum& s) {
+    const auto& v = s.values;
+    return s.first_nm + static_cast<double>(std::max_element(v.begin(), v.end()) - v.begin());
+}
+
+// The measured pump moved by `shift` and stretched by `scale` about its peak l_p:
+// P'(l) = P(l_p + (l - l_p - shift) / scale), linear between its points, on the emission grid.
+Spectrum moved_pump(const Spectrum& measured, double shift, double scale) {
+    Spectrum out = emission_grid("pump");
+    const double lp = measured_peak_nm(measured);
+    const double last = measured.first_nm + static_cast<double>(measured.values.size() - 1);
+    for (std::size_t k = 0; k < out.values.size(); ++k) {
+        const double src = lp + (out.first_nm + static_cast<double>(k) - lp - shift) / scale;
+        if (src < measured.first_nm || src > last) continue;
+        const double pos = src - measured.first_nm;
+        const auto i = static_cast<std::size_t>(pos);
+        const double f = pos - static_cast<double>(i);
+        out.values[k] = i + 1 < measured.values.size() ? (1 - f) * measured.values[i] + f * measured.values[i + 1] : measured.values[i];
+    }
+    return out;
+}
+
+// Pump photons (sum 1) at the junction temperature of an evaluation at t_C.
+Spectrum pump_photon_shape(const LayerDesign& d, double t_C) { return pump_photons_at(d, junction_temperature(d, t_C)); }
 
 // Mixture density from the loadings (volumes add): 1/rho = sum w_i / rho_i + w_b / rho_b.
 double layer_density(const LayerDesign& d) {
@@ -39,6 +79,39 @@ double layer_density(const LayerDesign& d) {
 }
 
 }  // namespace
+
+double junction_temperature(const LayerDesign& d, double t_C) {
+    const double tj = d.junction_temperature_C.value_or(d.temperature_C);
+    if (d.temperature_C == kRoomTemperatureC) return tj + (t_C - kRoomTemperatureC);
+    return kRoomTemperatureC + (t_C - kRoomTemperatureC) * (tj - kRoomTemperatureC) / (d.temperature_C - kRoomTemperatureC);
+}
+
+namespace {
+// The narrowest pump kept when a negative width change meets a large cooling (nm).
+constexpr double kMinPumpFwhmNm = 1.0;
+}  // namespace
+
+Excitation pump_at(const LayerDesign& d, double junction_C) {
+    const double dt = junction_C - kRoomTemperatureC;
+    if (d.pump_spectrum) {
+        const double f0 = measured_fwhm(*d.pump_spectrum);
+        const double f = std::max(kMinPumpFwhmNm, f0 + d.pump_fwhm_change_nm_per_K * dt);
+        return Excitation::led(measured_peak_nm(*d.pump_spectrum) + d.pump_peak_shift_nm_per_K * dt, f);
+    }
+    return Excitation::led(d.pump.peak_nm + d.pump_peak_shift_nm_per_K * dt, std::max(kMinPumpFwhmNm, d.pump.fwhm_nm + d.pump_fwhm_change_nm_per_K * dt));
+}
+
+Spectrum pump_photons_at(const LayerDesign& d, double junction_C) {
+    const double dt = junction_C - kRoomTemperatureC;
+    if (d.pump_spectrum) {
+        // At the reference temperature the measured pump as given (no resampling).
+        if (dt == 0 || (d.pump_peak_shift_nm_per_K == 0 && d.pump_fwhm_change_nm_per_K == 0)) return photons_from_power(*d.pump_spectrum);
+        const double f0 = measured_fwhm(*d.pump_spectrum);
+        const double scale = f0 > 0 ? pump_at(d, junction_C).fwhm_nm / f0 : 1.0;
+        return photons_from_power(moved_pump(*d.pump_spectrum, d.pump_peak_shift_nm_per_K * dt, scale));
+    }
+    return pump_photons(pump_at(d, junction_C));
+}
 
 std::vector<double> absorption_profile(const Phosphor& p) {
     // Stokes rule, smoothly: at wavelength l the absorption is weighted by the share of the
@@ -87,7 +160,13 @@ LayerMedium layer_medium(const LayerDesign& d, double t_C, std::vector<std::stri
     m.outside_index = d.outside_index;
     m.asymmetry = d.scattering_asymmetry;
     m.reflector_reflectance = d.reflector_reflectance;
-    m.pump = pump_photon_shape(d).values;
+    m.chip_area_fraction = d.chip_area_fraction;
+    m.chip_reflectance = d.chip_reflectance;
+    m.dome = d.top == LayerDesign::Top::dome;
+    m.dome_index = d.dome_index.value_or(d.binder_index);
+    m.pump = pump_photon_shape(d, t_C).values;
+    // Emission, Stokes cut and QE follow the pump at this junction temperature.
+    const Excitation pump = pump_at(d, junction_temperature(d, t_C));
     m.scattering.assign(kGridSize, 0.0);
     for (const auto& c : d.components) {
         const Phosphor& p = c.phosphor;
@@ -98,8 +177,14 @@ LayerMedium layer_medium(const LayerDesign& d, double t_C, std::vector<std::stri
         for (std::size_t k = 0; k < kGridSize; ++k) a.absorption[k] = d.mass_absorption_cm2_per_g * prof[k] * c.loading * rho;
         // Emission (photons, sum 1) at temperature; QE scaled by the quenching curve.
         const double shift = p.peak_shift_nm_per_K * (t_C - kRoomTemperatureC);
-        a.emission = emission_for_excitation(p, d.pump, shift).values;
-        const double qe25 = c.quantum_efficiency ? *c.quantum_efficiency : quantum_efficiency_for(p, d.pump);
+        a.emission = emission_for_excitation(p, pump, shift).values;
+        const double qe25 = c.quantum_efficiency ? *c.quantum_efficiency : quantum_efficiency_for(p, pump);
+        // The library's LED QE is stated for 365-405 nm excitation: said so, not extrapolated,
+        // when the pump (at 25 degC) lies outside (a blue pump).
+        if (!c.quantum_efficiency && (d.pump.peak_nm < kQeDataMinNm || d.pump.peak_nm > kQeDataMaxNm))
+            add_warning(warnings, fmt::format("{} has quantum efficiency data for 365-405 nm excitation only: {:g} used for the {:g} nm pump "
+                                              "(give quantum_efficiency in the component to set it)",
+                                              p.id, qe25, d.pump.peak_nm));
         a.quantum_efficiency = std::min(1.0, qe25 * thermal_factor(p, t_C) / thermal_factor(p, kRoomTemperatureC));
         m.components.push_back(std::move(a));
         // Scattering by the grains at their volume fraction f = loading x rho_layer / rho_grain.
@@ -130,7 +215,11 @@ LayerResult evaluate_layer(const LayerDesign& d, std::optional<double> temperatu
     r.method = mc ? "monte-carlo" : "two-flux";
     r.photons = mc ? solver.photons : 0;
     r.seed = mc ? solver.seed : 0;
-    const Spectrum pump_spectrum = pump_photon_shape(d);
+    const Spectrum pump_spectrum = pump_photon_shape(d, t_C);
+    r.junction_temperature_C = junction_temperature(d, t_C);
+    const Excitation pump_now = pump_at(d, r.junction_temperature_C);
+    r.pump_peak_nm = pump_now.peak_nm;
+    r.pump_fwhm_nm = pump_now.fwhm_nm;
     // Photons in units of h c = 1 (1/nm per photon): pump photons per W of pump.
     const double scale = d.pump_power_W / mean_inverse_wavelength(pump_spectrum);
     r.converted_spectrum = emission_grid(d.name + " converted");
@@ -163,12 +252,22 @@ LayerResult evaluate_layer(const LayerDesign& d, std::optional<double> temperatu
     }
     r.photons_package = tr.package_photons;
     r.package_loss_W = tr.package_energy * scale;
+    r.photons_chip = tr.chip_photons;
+    r.chip_loss_W = tr.chip_energy * scale;
     r.pump_power_W = d.pump_power_W;
     r.converted_W = integrate_1nm(r.converted_spectrum.values);
     r.spectrum = r.converted_spectrum;
     r.spectrum.name = d.name;
     for (std::size_t k = 0; k < kGridSize; ++k) r.spectrum.values[k] += r.leaked_pump_spectrum.values[k];
     const double out_W = r.converted_W + r.leaked_pump_W;
+    double uv = 0, blue = 0;
+    for (std::size_t k = 0; k < kGridSize; ++k) {
+        const double w = r.spectrum.values[k];
+        if (grid_nm(k) < kUvLimitNm) uv += w;
+        else if (grid_nm(k) < kBlueLimitNm) blue += w;
+    }
+    r.uv_share = out_W > 0 ? uv / out_W : 0.0;
+    r.blue_share = out_W > 0 ? blue / out_W : 0.0;
     r.pump_leak_fraction = out_W > 0 ? r.leaked_pump_W / out_W : 0.0;
     r.converted_efficiency = r.converted_W / d.pump_power_W;
     r.total_efficiency = out_W / d.pump_power_W;
@@ -177,8 +276,10 @@ LayerResult evaluate_layer(const LayerDesign& d, std::optional<double> temperatu
     // A phosphor without quenching data is held constant: say so, once per phosphor (issue 11:
     // never a silent assumption); likewise assumed grain data. After assess(), so every output
     // that prints the assessment's warnings (text notes, JSON `warnings`, stderr) carries them.
-    for (const auto& c : d.components)
+    for (const auto& c : d.components) {
         if (auto w = missing_thermal_data_warning(c.phosphor, t_C)) add_warning(&r.assessment.warnings, std::move(*w));
+        if (auto w = missing_peak_shift_warning(c.phosphor, t_C)) add_warning(&r.assessment.warnings, std::move(*w));
+    }
     for (auto& w : warnings) add_warning(&r.assessment.warnings, std::move(w));
     return r;
 }

@@ -1,5 +1,5 @@
 #pragma once
-// A phosphor conversion layer on a UV/violet LED (README "LED layer physics"):
+// A phosphor conversion layer on an LED pump, 360-470 nm (README "LED layer physics"):
 //   - absorption: alpha_i(l) = kappa a_i(l) c_i per phosphor (kappa: mass absorption coefficient
 //     of a strong absorber, a_i: relative absorption per unit mass, c_i: its mass concentration);
 //   - scattering: every phosphor's grains (d50, index against the silicone's) by anomalous
@@ -8,7 +8,8 @@
 //     Monte Carlo (reference) of the slab with Fresnel/TIR at the top and the package reflector
 //     below (led/layer_transfer.hpp);
 //   - temperature: QE scaled by each phosphor's thermal quenching, emission shifted by its
-//     peak shift per kelvin.
+//     peak shift per kelvin; the pump moved and widened per kelvin of junction temperature;
+//   - package: a flat top or a dome, the chip as a darker part of the package bottom.
 // Spectra on the 300-900 nm grid in W/nm for the pump power given (1 W by default).
 #include "lampwright/colour/assessment.hpp"
 #include "lampwright/phosphor/excitation.hpp"
@@ -39,6 +40,21 @@ inline constexpr double kReflectorReflectance = 0.9;
 inline constexpr double kAssumedD50_um = 15.0;
 inline constexpr double kAssumedGrainIndex = 1.8;
 inline constexpr double kAssumedDensity_g_per_cm3 = 4.0;
+// The LED pump's drift with junction temperature (README "LED layer physics", item 8): an InGaN
+// LED's peak moves to longer wavelengths as the band gap narrows, roughly +0.03-0.05 nm/K for blue
+// and violet chips, and its band widens (from memory; the thermal part of a bulk LED's width,
+// 1.8 kT (Schubert, Light-Emitting Diodes, 2nd ed. 2006, ch. 5; from memory), alone gives
+// 0.025 nm/K at 450 nm). Used unless the design gives its own ([pump] peak_shift_nm_per_K,
+// fwhm_change_nm_per_K).
+inline constexpr double kPumpPeakShift_nm_per_K = 0.04;
+inline constexpr double kPumpFwhmChange_nm_per_K = 0.03;
+// The pumps a design may name (peak at 25 degC): near-UV, violet and blue InGaN LEDs.
+inline constexpr double kPumpMinNm = 360.0;
+inline constexpr double kPumpMaxNm = 470.0;
+// A bare LED chip's diffuse reflectance for light returned to it, used when a design gives a chip
+// area but no chip reflectance (from memory, low confidence: GaN on patterned sapphire with a
+// mirror below, about 0.7-0.9).
+inline constexpr double kChipReflectance = 0.8;
 
 struct LayerComponent {
     std::string label;
@@ -64,7 +80,34 @@ struct LayerDesign {
     double reflector_reflectance = kReflectorReflectance;
     double temperature_C = kRoomTemperatureC;
     std::vector<LayerComponent> components;
+    // The pump's peak shift and FWHM change per kelvin of junction temperature above 25 degC
+    // (a measured pump spectrum is moved and stretched about its peak by the same amounts).
+    double pump_peak_shift_nm_per_K = kPumpPeakShift_nm_per_K;
+    double pump_fwhm_change_nm_per_K = kPumpFwhmChange_nm_per_K;
+    // The junction temperature at the operating point ([operating] junction_temperature_C); none:
+    // the junction is at the operating temperature.
+    std::optional<double> junction_temperature_C;
+    // Package ([package]): the share of the bottom the chip covers and its reflectance; the bottom
+    // reflects f R_chip + (1 - f) R_reflector. f = 0 (the default): the reflector's reflectance
+    // stands for the whole bottom, chip included, as before chip absorption was modelled.
+    double chip_area_fraction = 0;
+    double chip_reflectance = kChipReflectance;
+    // The top: a flat layer facing the outside medium, or a hemispherical dome of index
+    // dome_index (default: the binder's) around it, which the light meets at normal incidence.
+    enum class Top { flat, dome } top = Top::flat;
+    std::optional<double> dome_index;
 };
+
+// The junction temperature when the layer is at `temperature_C`: the design's junction
+// temperature at its operating temperature, 25 degC at 25 degC, linear between (and beyond);
+// when the operating temperature is 25 degC, the design's junction rise above the layer is kept.
+double junction_temperature(const LayerDesign& d, double temperature_C);
+// The pump at a junction temperature: the Gaussian of the design with its peak moved by
+// peak_shift x (T_j - 25) and its FWHM by fwhm_change x (T_j - 25), or the measured pump moved
+// and stretched about its peak alike; photons on the emission grid, sum 1.
+Spectrum pump_photons_at(const LayerDesign& d, double junction_C);
+// Peak and FWHM of that pump (nm; for a measured pump, of the moved spectrum).
+Excitation pump_at(const LayerDesign& d, double junction_C);
 
 // How the transport is solved (not part of a design file: chosen on the command line).
 struct LayerSolver {
@@ -99,6 +142,13 @@ struct LayerResult {
     std::int64_t photons = 0;         // Monte Carlo photons (0 for two-flux)
     std::uint64_t seed = 0;           // Monte Carlo seed
     double leaked_uv_violet_W = 0;       // leaked power below 420 nm
+    // Package and pump at this evaluation (appended outputs, docs/output-schemas.md):
+    double junction_temperature_C = kRoomTemperatureC;
+    double pump_peak_nm = 0, pump_fwhm_nm = 0;  // the pump at that junction temperature
+    double chip_loss_W = 0, photons_chip = 0;   // the part of the package loss absorbed by the chip
+    // Shares of the output power below 400 nm (UV) and in 400-500 nm (blue), the bands of the
+    // IEC 62471 UV and blue-light hazards (plain power shares, not hazard-weighted).
+    double uv_share = 0, blue_share = 0;
     double pump_leak_fraction = 0;       // leaked pump power / total output power
     // Two efficiencies, kept apart because leaked pump light is output but not converted light: a
     // thin layer that lets 99.8 % of the pump through has a total efficiency near 1 and a converted

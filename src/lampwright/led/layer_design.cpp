@@ -8,7 +8,9 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <cmath>
 #include <filesystem>
+#include <utility>
 
 namespace lampwright {
 
@@ -30,7 +32,7 @@ bool is_layer_design(const TomlDoc& doc) { return doc.root().get("layer") != nul
 LayerDesign layer_design_from_toml(const TomlDoc& doc, const std::vector<std::string>& extra_folders,
                                    const std::vector<std::string>& extra_root_keys) {
     const auto& r = doc.root();
-    std::vector<std::string> known{"name", "pump", "layer", "operating", "phosphor_folders", "component"};
+    std::vector<std::string> known{"name", "pump", "layer", "operating", "package", "phosphor_folders", "component"};
     known.insert(known.end(), extra_root_keys.begin(), extra_root_keys.end());
     doc.only_keys(r, known, "");
     LayerDesign d;
@@ -38,7 +40,8 @@ LayerDesign layer_design_from_toml(const TomlDoc& doc, const std::vector<std::st
 
     const auto* pump = doc.table(r, "pump", "");
     if (!pump) doc.fail(&r, "", "missing [pump] (peak_nm and fwhm_nm, or spectrum)");
-    doc.only_keys(*pump, {"peak_nm", "fwhm_nm", "power_W", "spectrum"}, "pump");
+    doc.only_keys(*pump, {"peak_nm", "fwhm_nm", "power_W", "spectrum", "peak_shift_nm_per_K", "fwhm_change_nm_per_K"}, "pump");
+    const std::string range = fmt::format("the LED pump range {:g}-{:g} nm (near-UV, violet and blue InGaN LEDs)", kPumpMinNm, kPumpMaxNm);
     if (auto file = doc.string(*pump, "spectrum", "pump")) {
         // A measured pump replaces the Gaussian: a peak or width beside it would be silently unused.
         for (const char* k : {"peak_nm", "fwhm_nm"})
@@ -49,13 +52,12 @@ LayerDesign layer_design_from_toml(const TomlDoc& doc, const std::vector<std::st
         const auto& v = d.pump_spectrum->values;
         const auto peak = static_cast<double>(std::max_element(v.begin(), v.end()) - v.begin()) + d.pump_spectrum->first_nm;
         d.pump = Excitation::led(peak, 0);
-        if (peak < 340 || peak > 430) doc.fail(pump->get("spectrum"), "pump.spectrum", fmt::format("peaks at {:g} nm, outside the UV/violet range 340-430 nm", peak));
+        if (peak < kPumpMinNm || peak > kPumpMaxNm) doc.fail(pump->get("spectrum"), "pump.spectrum", fmt::format("peaks at {:g} nm, outside {}", peak, range));
     } else {
         const double peak = doc.require_number(*pump, "peak_nm", "pump");
         const double fwhm = doc.require_number(*pump, "fwhm_nm", "pump");
         if (peak < 1.0) doc.fail(pump->get("peak_nm"), "pump.peak_nm", fmt::format("{:g} looks like micrometres; give nanometres", peak));
-        if (peak < 340 || peak > 430)
-            doc.fail(pump->get("peak_nm"), "pump.peak_nm", fmt::format("{:g} nm is outside the UV/violet LED range 340-430 nm", peak));
+        if (peak < kPumpMinNm || peak > kPumpMaxNm) doc.fail(pump->get("peak_nm"), "pump.peak_nm", fmt::format("{:g} nm is outside {}", peak, range));
         if (!(fwhm > 0) || fwhm > 60) doc.fail(pump->get("fwhm_nm"), "pump.fwhm_nm", fmt::format("must lie in (0, 60] nm, not {:g}", fwhm));
         d.pump = Excitation::led(peak, fwhm);
     }
@@ -64,6 +66,13 @@ LayerDesign layer_design_from_toml(const TomlDoc& doc, const std::vector<std::st
         if (*p > 1000) doc.fail(pump->get("power_W"), "pump.power_W", fmt::format("{:g} W is not an LED pump (mW given as W?)", *p));
         d.pump_power_W = *p;
     }
+    // Drift with junction temperature, nm/K; bounds well beyond any InGaN LED (their sign is free:
+    // a user may model a pump that is cooled or a band that narrows).
+    for (auto [key, out] : {std::pair{"peak_shift_nm_per_K", &d.pump_peak_shift_nm_per_K}, std::pair{"fwhm_change_nm_per_K", &d.pump_fwhm_change_nm_per_K}})
+        if (auto v = doc.number(*pump, key, "pump")) {
+            if (!(std::abs(*v) <= 1.0)) doc.fail(pump->get(key), key_path("pump", key), fmt::format("must lie in [-1, 1] nm/K, not {:g}", *v));
+            *out = *v;
+        }
 
     const auto* layer = doc.table(r, "layer", "");
     if (!layer) doc.fail(&r, "", "missing [layer] with thickness_um");
@@ -97,11 +106,34 @@ LayerDesign layer_design_from_toml(const TomlDoc& doc, const std::vector<std::st
     in_range("reflector_reflectance", 0.0, 1.0, d.reflector_reflectance, "a fraction");
 
     if (const auto* op = doc.table(r, "operating", "")) {
-        doc.only_keys(*op, {"temperature_C"}, "operating");
+        doc.only_keys(*op, {"temperature_C", "junction_temperature_C"}, "operating");
         if (auto t = doc.number(*op, "temperature_C", "operating")) {
             if (*t < -60 || *t > 300) doc.fail(op->get("temperature_C"), "operating.temperature_C", fmt::format("{:g} degC is outside -60..300 (kelvin given?)", *t));
             d.temperature_C = *t;
         }
+        if (auto t = doc.number(*op, "junction_temperature_C", "operating")) {
+            if (*t < -60 || *t > 300)
+                doc.fail(op->get("junction_temperature_C"), "operating.junction_temperature_C", fmt::format("{:g} degC is outside -60..300 (kelvin given?)", *t));
+            d.junction_temperature_C = *t;
+        }
+    }
+
+    if (const auto* pk = doc.table(r, "package", "")) {
+        doc.only_keys(*pk, {"top", "dome_index", "chip_area_fraction", "chip_reflectance"}, "package");
+        if (auto top = doc.string(*pk, "top", "package")) {
+            if (*top == "dome") d.top = LayerDesign::Top::dome;
+            else if (*top != "flat") doc.fail(pk->get("top"), "package.top", fmt::format("must be \"flat\" or \"dome\", not \"{}\"", *top));
+        }
+        if (auto v = doc.number(*pk, "dome_index", "package")) {
+            if (d.top != LayerDesign::Top::dome) doc.fail(pk->get("dome_index"), "package.dome_index", "needs top = \"dome\"");
+            if (!(*v >= 1.0 && *v <= 2.5)) doc.fail(pk->get("dome_index"), "package.dome_index", fmt::format("must lie in [1, 2.5] (a refractive index), not {:g}", *v));
+            d.dome_index = *v;
+        }
+        for (auto [key, out] : {std::pair{"chip_area_fraction", &d.chip_area_fraction}, std::pair{"chip_reflectance", &d.chip_reflectance}})
+            if (auto v = doc.number(*pk, key, "package")) {
+                if (!(*v >= 0 && *v <= 1)) doc.fail(pk->get(key), key_path("package", key), fmt::format("must lie in [0, 1] (a fraction), not {:g}", *v));
+                *out = *v;
+            }
     }
 
     std::vector<std::string> folders;
@@ -173,11 +205,16 @@ LayerDesign load_layer_design(const std::string& path, const std::vector<std::st
 std::string layer_design_to_toml(const LayerDesign& d) {
     std::string o = fmt::format("name = {}\n\n[pump]\n", toml_quote(d.name));
     o += fmt::format("peak_nm = {:g}\nfwhm_nm = {:g}\npower_W = {:g}\n", d.pump.peak_nm, d.pump.fwhm_nm, d.pump_power_W);
+    o += fmt::format("peak_shift_nm_per_K = {:g}\nfwhm_change_nm_per_K = {:g}\n", d.pump_peak_shift_nm_per_K, d.pump_fwhm_change_nm_per_K);
     o += fmt::format("\n[layer]\nthickness_um = {:.3f}\nbinder_density_g_per_cm3 = {:g}\nmass_absorption_cm2_per_g = {:g}\n"
                      "binder_index = {:g}\noutside_index = {:g}\nscattering_asymmetry = {:g}\nreflector_reflectance = {:g}\n",
                      d.thickness_um, d.binder_density_g_per_cm3, d.mass_absorption_cm2_per_g, d.binder_index, d.outside_index,
                      d.scattering_asymmetry, d.reflector_reflectance);
     o += fmt::format("\n[operating]\ntemperature_C = {:g}\n", d.temperature_C);
+    if (d.junction_temperature_C) o += fmt::format("junction_temperature_C = {:g}\n", *d.junction_temperature_C);
+    o += fmt::format("\n[package]\ntop = \"{}\"\n", d.top == LayerDesign::Top::dome ? "dome" : "flat");
+    if (d.dome_index) o += fmt::format("dome_index = {:g}\n", *d.dome_index);
+    o += fmt::format("chip_area_fraction = {:g}\nchip_reflectance = {:g}\n", d.chip_area_fraction, d.chip_reflectance);
     for (const auto& c : d.components) {
         o += "\n[[component]]\n";
         o += fmt::format("phosphor = {}\n", toml_quote(c.phosphor.id));

@@ -52,6 +52,28 @@ double diffuse_interface_reflectance(double n1, double n2) {
     return (1 - q) + 2 * q * inside;
 }
 
+double dome_reflectance(double cos_i, double n1, double n2, double n3) {
+    const double r = fresnel_reflectance(cos_i, n1, n2);
+    const double r0 = fresnel_reflectance(1.0, n2, n3);
+    return r + (1 - r) * (1 - r) * r0 / (1 - r0 * r);
+}
+
+double diffuse_dome_reflectance(double n1, double n2, double n3) {
+    using Gauss = boost::math::quadrature::gauss<double, 48>;
+    const double r0 = fresnel_reflectance(1.0, n2, n3);
+    const double plain = diffuse_interface_reflectance(n1, n2);
+    if (r0 == 0) return plain;
+    // The dome's return adds 2 int T^2 R0 / (1 - R0 R) mu dmu over the directions that cross the
+    // interface; from the denser side integrated over the crossing direction as above.
+    const auto added = [&](double mu_i) {
+        const double t = 1 - fresnel_reflectance(mu_i, n1, n2);
+        return t * t * r0 / (1 - r0 * (1 - t));
+    };
+    if (n1 <= n2) return plain + 2 * Gauss::integrate([&](double mu) { return added(mu) * mu; }, 0.0, 1.0);
+    const double q = (n2 / n1) * (n2 / n1);
+    return plain + 2 * q * Gauss::integrate([&](double mu_t) { return added(std::sqrt(1 - q * (1 - mu_t * mu_t))) * mu_t; }, 0.0, 1.0);
+}
+
 TwoFluxSlab::TwoFluxSlab(const TwoFluxLayer& layer) : l_(layer) {
     if (l_.sublayers < 1 || l_.sublayers > kMaxSublayers) throw Error("a two-flux layer needs 1 to 128 sublayers");
     // K = 2 mu_a, S = mu_s (1 - g): hemispheric mean (Meador and Weaver 1980, Table 1).

@@ -33,6 +33,17 @@ double fresnel_reflectance(double cos_i, double n1, double n2);
 // Reflectance of the n1 | n2 interface for Lambertian light incident from the n1 side:
 // 2 int_0^1 R(mu) mu dmu (48-point Gauss-Legendre in mu below the critical cosine, closed beyond).
 double diffuse_interface_reflectance(double n1, double n2);
+// The same interface n1 | n2 with a hemispherical dome of index n2 above it whose surface (to the
+// outside, index n3) the light meets at normal incidence (a small source at the dome's centre;
+// Moreno, Bermudez and Avendano-Alejo, "Light-emitting diode spherical packages", arXiv:1110.0537, the hemispherical package): of the
+// light crossing at angle theta, R0 = ((n2 - n3)/(n2 + n3))^2 is reflected at the dome surface
+// straight back along its ray, meets the interface again at theta and crosses it with T(theta) =
+// 1 - R(theta). Reflectance towards n1 for light at cos theta = cos_i, summed over the bounces:
+// R(theta) + T(theta)^2 R0 / (1 - R0 R(theta)); the rest, T (1 - R0) / (1 - R0 R), leaves.
+double dome_reflectance(double cos_i, double n1, double n2, double n3);
+// Its cosine mean for Lambertian light from the n1 side, 2 int_0^1 dome_reflectance(mu) mu dmu;
+// exactly diffuse_interface_reflectance(n1, n2) when n2 = n3 (R0 = 0).
+double diffuse_dome_reflectance(double n1, double n2, double n3);
 
 // The layer for one wavelength: per-cm coefficients, thickness, boundaries.
 struct TwoFluxLayer {

@@ -25,11 +25,30 @@ void check_medium(const LayerMedium& m) {
     for (const auto& c : m.components)
         if (c.absorption.size() != n || c.emission.size() != n) throw Error("layer medium: every phosphor must share the grid");
     if (!(m.thickness_cm >= 0) || !(m.binder_index >= 1) || !(m.outside_index >= 1) || !(m.asymmetry > -1 && m.asymmetry < 1) ||
-        !(m.reflector_reflectance >= 0 && m.reflector_reflectance <= 1))
-        throw Error("layer medium: thickness >= 0, indices >= 1, -1 < g < 1 and reflectance in [0, 1] expected");
+        !(m.reflector_reflectance >= 0 && m.reflector_reflectance <= 1) || !(m.chip_area_fraction >= 0 && m.chip_area_fraction <= 1) ||
+        !(m.chip_reflectance >= 0 && m.chip_reflectance <= 1) || !(m.dome_index >= 1))
+        throw Error("layer medium: thickness >= 0, indices >= 1, -1 < g < 1, reflectances and the chip's share in [0, 1] expected");
 }
 
 }  // namespace
+
+double bottom_reflectance(const LayerMedium& m) {
+    return m.chip_area_fraction * m.chip_reflectance + (1 - m.chip_area_fraction) * m.reflector_reflectance;
+}
+
+double chip_share_of_bottom_loss(const LayerMedium& m) {
+    const double chip = m.chip_area_fraction * (1 - m.chip_reflectance);
+    const double all = 1 - bottom_reflectance(m);
+    return all > 0 ? chip / all : 0.0;
+}
+
+double top_diffuse_reflectance(const LayerMedium& m) {
+    return m.dome ? diffuse_dome_reflectance(m.binder_index, m.dome_index, m.outside_index) : diffuse_interface_reflectance(m.binder_index, m.outside_index);
+}
+
+double top_normal_reflectance(const LayerMedium& m) {
+    return m.dome ? dome_reflectance(1.0, m.binder_index, m.dome_index, m.outside_index) : fresnel_reflectance(1.0, m.binder_index, m.outside_index);
+}
 
 double TransferResult::leaked_photons() const {
     double s = 0;
@@ -49,9 +68,9 @@ TransferResult transfer_two_flux(const LayerMedium& med, int generations) {
     TwoFluxLayer base;
     base.asymmetry = med.asymmetry;
     base.thickness_cm = med.thickness_cm;
-    base.top_reflectance = diffuse_interface_reflectance(med.binder_index, med.outside_index);
-    base.top_normal_reflectance = fresnel_reflectance(1.0, med.binder_index, med.outside_index);
-    base.bottom_reflectance = med.reflector_reflectance;
+    base.top_reflectance = top_diffuse_reflectance(med);
+    base.top_normal_reflectance = top_normal_reflectance(med);
+    base.bottom_reflectance = bottom_reflectance(med);
     base.sublayers = med.sublayers;
 
     // Per wavelength: the response to light emitted in each sublayer (escape, package, absorption
@@ -226,6 +245,10 @@ TransferResult transfer_two_flux(const LayerMedium& med, int generations) {
             }
         }
     }
+    // The bottom is diffuse and uniform: the chip takes its area's share of every loss there.
+    const double chip = chip_share_of_bottom_loss(med);
+    r.chip_photons = chip * r.package_photons;
+    r.chip_energy = chip * r.package_energy;
     return r;
 }
 
@@ -267,7 +290,13 @@ TransferResult transfer_monte_carlo(const LayerMedium& med, std::int64_t photons
     std::mt19937_64 rng(seed);
     const auto uniform = [&rng] { return static_cast<double>(rng() >> 11) * 0x1.0p-53; };
     const double t = med.thickness_cm, g = med.asymmetry;
-    const double n1 = med.binder_index, n2 = med.outside_index;
+    const double n1 = med.binder_index, n2 = med.dome ? med.dome_index : med.outside_index;
+    // The dome surface's normal-incidence reflectance (0 for a flat top).
+    const double r_dome = med.dome ? fresnel_reflectance(1.0, med.dome_index, med.outside_index) : 0.0;
+    // The bottom, one draw: reflected (chip or reflector) below R_b, absorbed by the chip in
+    // [R_b, R_b + f (1 - R_c)), by the reflector above (with f = 0 exactly the draws before).
+    const double r_bottom = bottom_reflectance(med);
+    const double chip_absorbs = r_bottom + med.chip_area_fraction * (1 - med.chip_reflectance);
     const double pi2 = 2 * std::numbers::pi;
     // Henyey-Greenstein: cos theta = (1 + g^2 - ((1 - g^2) / (1 - g + 2 g u))^2) / (2 g).
     const auto hg_cos = [g](double u) {
@@ -291,6 +320,22 @@ TransferResult transfer_monte_carlo(const LayerMedium& med, std::int64_t photons
                     mu = -mu;
                     continue;
                 }
+                if (r_dome > 0) {
+                    // In the dome: to its surface at normal incidence; R0 comes back along the ray
+                    // and meets the interface at the same angle, from the dome side.
+                    const double mu_d = std::sqrt(std::max(0.0, 1 - (n1 / n2) * (n1 / n2) * (1 - mu * mu)));
+                    bool back = false;
+                    while (uniform() < r_dome) {
+                        if (uniform() < fresnel_reflectance(mu_d, n2, n1)) continue;  // up to the dome surface again
+                        back = true;
+                        break;
+                    }
+                    if (back) {
+                        z = t;
+                        mu = -mu;
+                        continue;
+                    }
+                }
                 if (is_pump) {
                     r.leaked[k] += 1;
                 } else {
@@ -301,7 +346,8 @@ TransferResult transfer_monte_carlo(const LayerMedium& med, std::int64_t photons
                 break;
             }
             if (z_next <= 0 && mu < 0) {
-                if (uniform() < med.reflector_reflectance) {
+                const double u = uniform();
+                if (u < r_bottom) {
                     z = 0;
                     mu = std::sqrt(uniform());  // Lambertian: cos theta distributed as sqrt(u)
                     if (mu <= 0) mu = 1e-12;
@@ -309,6 +355,10 @@ TransferResult transfer_monte_carlo(const LayerMedium& med, std::int64_t photons
                 }
                 r.package_photons += 1;
                 r.package_energy += 1 / grid_nm(k);
+                if (u < chip_absorbs) {
+                    r.chip_photons += 1;
+                    r.chip_energy += 1 / grid_nm(k);
+                }
                 break;
             }
             if (!(mt > 0)) {  // no interaction and moving parallel to the faces cannot happen: mu != 0
@@ -350,6 +400,8 @@ TransferResult transfer_monte_carlo(const LayerMedium& med, std::int64_t photons
     }
     r.package_photons *= inv;
     r.package_energy *= inv;
+    r.chip_photons *= inv;
+    r.chip_energy *= inv;
     return r;
 }
 

@@ -132,6 +132,11 @@ std::optional<std::string> missing_thermal_data_warning(const Phosphor& p, doubl
     return fmt::format("no quenching data for {}: treated as constant with temperature", p.id);
 }
 
+std::optional<std::string> missing_peak_shift_warning(const Phosphor& p, double temperature_C) {
+    if (p.emission_model != "bands" || p.peak_shift_given || temperature_C == kThermalReferenceC) return std::nullopt;
+    return fmt::format("no peak-shift data for {}: its bands held at their 25 degC position", p.id);
+}
+
 EmissionSummary emission_summary(const Phosphor& p) {
     const Spectrum power = power_from_photons(emission_photons(p));
     const auto f = spectral_features(power, chromaticity(tristimulus(power)));
@@ -278,7 +283,9 @@ Phosphor parse_phosphor(const std::string& text, const std::string& origin) {
         if (t->get("quenching")) doc.pairs(*t, "quenching", "thermal", p.quench_C, p.quench_rel);
         for (double v : p.quench_rel)
             if (v < 0 || v > 1.5) doc.fail(t->get("quenching"), "thermal.quenching", "relative QE values must lie in 0..1.5");
-        p.peak_shift_nm_per_K = doc.number(*t, "peak_shift_nm_per_K", "thermal").value_or(0.0);
+        const auto shift = doc.number(*t, "peak_shift_nm_per_K", "thermal");
+        p.peak_shift_nm_per_K = shift.value_or(0.0);
+        p.peak_shift_given = shift.has_value();
         p.thermal_source = doc.string(*t, "source", "thermal").value_or("");
     }
     return p;

@@ -69,6 +69,7 @@ struct Phosphor {
 
     std::vector<double> quench_C, quench_rel;  // relative QE vs temperature (deg C)
     double peak_shift_nm_per_K = 0;
+    bool peak_shift_given = false;  // the file states peak_shift_nm_per_K (0 included)
     std::string thermal_source;
 };
 
@@ -89,6 +90,9 @@ inline constexpr double kThermalReferenceC = 25.0;
 // quenching data for <id>: treated as constant with temperature"; nullopt when it has data or the
 // temperature is the reference temperature (then nothing is assumed).
 std::optional<std::string> missing_thermal_data_warning(const Phosphor& p, double temperature_C);
+// Likewise for a band emitter (model "bands") whose file states no peak shift, used away from the
+// reference temperature: "no peak-shift data for <id>: its bands held at their 25 degC position".
+std::optional<std::string> missing_peak_shift_warning(const Phosphor& p, double temperature_C);
 
 // Peak wavelength (nm) and FWHM (nm) of the modelled power spectrum, for listings.
 struct EmissionSummary {

@@ -52,6 +52,33 @@ nlohmann::ordered_json layer_json(const LayerEvaluation& rep) {
     return j;
 }
 
+std::vector<std::string> layer_package_columns() {
+    return {"junction_temperature_C", "pump_peak_nm", "pump_fwhm_nm", "top", "chip_area_fraction", "chip_loss_W", "photons_chip", "uv_share", "blue_share",
+            "pump_peak_nm_25C"};
+}
+
+namespace {
+const char* top_name(const LayerDesign& d) { return d.top == LayerDesign::Top::dome ? "dome" : "flat"; }
+}  // namespace
+
+std::vector<std::string> layer_package_values(const LayerEvaluation& rep) {
+    const auto& r = rep.operating;
+    std::vector<std::string> v;
+    for (double x : {r.junction_temperature_C, r.pump_peak_nm, r.pump_fwhm_nm}) v.push_back(format_fixed(x, 6));
+    v.push_back(top_name(rep.design));
+    for (double x : {rep.design.chip_area_fraction, r.chip_loss_W, r.photons_chip, r.uv_share, r.blue_share, rep.room.pump_peak_nm}) v.push_back(format_fixed(x, 6));
+    return v;
+}
+
+void add_layer_package_json(nlohmann::ordered_json& j, const LayerEvaluation& rep) {
+    const auto cols = layer_package_columns();
+    const auto vals = layer_package_values(rep);
+    for (std::size_t i = 0; i < cols.size(); ++i) {
+        if (cols[i] == "top") j[cols[i]] = vals[i];
+        else j[cols[i]] = std::stod(vals[i]);
+    }
+}
+
 std::string layer_text(const LayerEvaluation& rep) {
     const auto& d = rep.design;
     const auto& r = rep.operating;
@@ -69,6 +96,11 @@ std::string layer_text(const LayerEvaluation& rep) {
     // Lines of at most 100 columns.
     o += fmt::format("  efficiency: converted {:.3f} W/W, total {:.3f} W/W (leaked pump included)\n", r.converted_efficiency, r.total_efficiency);
     o += fmt::format("  efficacy:   {:.1f} lm per W of pump\n", r.efficacy_lm_per_W_pump);
+    o += fmt::format("  output shares: UV (below 400 nm) {:.2f} %, blue (400-500 nm) {:.2f} % of the power\n", 100 * r.uv_share, 100 * r.blue_share);
+    o += fmt::format("  pump at junction {:g} degC: peak {:.1f} nm, FWHM {:.1f} nm (25 degC: {:.1f} nm, {:.1f} nm)\n", r.junction_temperature_C,
+                     r.pump_peak_nm, r.pump_fwhm_nm, rep.room.pump_peak_nm, rep.room.pump_fwhm_nm);
+    o += fmt::format("  package: {} top, chip {:.0f} % of the bottom, chip absorbs {:.4f} W of the package loss\n", top_name(d),
+                     100 * d.chip_area_fraction, r.chip_loss_W);
     o += fmt::format("  energy: pump {:.4f} W = leaked {:.4f} + converted {:.4f}\n", r.pump_power_W, r.leaked_pump_W, r.converted_W);
     o += fmt::format("          + losses: Stokes {:.4f}, quantum {:.4f}, package {:.4f}\n", r.stokes_loss_W, r.quantum_loss_W, r.package_loss_W);
     o += fmt::format("  photons: 1 = leaked {:.4f} + escaping {:.4f} + lost {:.4f} + package {:.4f}\n", r.pump_photons_leaked,
