@@ -3,12 +3,14 @@
 #include "lampwright/colour/cie_tables.hpp"
 #include "lampwright/core/error.hpp"
 #include "lampwright/colour/illuminants.hpp"
+#include "lampwright/colour/precomputed_tables.hpp"
 #include "lampwright/core/spectral_weights.hpp"
 
 #include <fmt/format.h>
 
 #include <algorithm>
 #include <cmath>
+#include <span>
 #include <vector>
 
 namespace lampwright {
@@ -44,29 +46,25 @@ Tristimuli scaled(const Tristimuli& t, double f) {
 constexpr double kMiredFirst = 1e6 / kCie133DaylightFromK - 2.0;
 constexpr double kMiredLast = 1000.0 + 2.0;
 
-const std::vector<Tristimuli>& planck_reference_table() {
-    static const std::vector<Tristimuli> table = [] {
-        std::vector<Tristimuli> t;
-        for (double m = kMiredFirst; m <= kMiredLast + 1e-9; m += 1.0) {
-            const auto p = colour_range_values(planckian(1e6 / m));
-            const Tristimuli r = weights().apply(p.data());
-            t.push_back(scaled(r, 1.0 / r[1]));
-        }
-        return t;
-    }();
+// 48 values a mired from kMiredFirst (generated at build time, see precomputed_tables.hpp).
+std::span<const double> planck_reference_table() {
+    static std::vector<double> store;
+    static const std::span<const double> table =
+        precomputed::computed_unless_generated(precomputed::cie133_planck_reference(), store, compute_cie133_planck_reference_table);
     return table;
 }
 
 Tristimuli planck_reference(double cct_K) {
-    const auto& table = planck_reference_table();
+    const auto table = planck_reference_table();
+    constexpr std::size_t kRow = std::tuple_size_v<Tristimuli>;
     const double pos = 1e6 / cct_K - kMiredFirst;
-    const int i = std::clamp(static_cast<int>(std::floor(pos)), 1, static_cast<int>(table.size()) - 3);
+    const int i = std::clamp(static_cast<int>(std::floor(pos)), 1, static_cast<int>(table.size() / kRow) - 3);
     const double x = pos - i;  // nodes at -1, 0, 1, 2 relative to i
     const double w0 = -x * (x - 1) * (x - 2) / 6, w1 = (x + 1) * (x - 1) * (x - 2) / 2;
     const double w2 = -(x + 1) * x * (x - 2) / 2, w3 = (x + 1) * x * (x - 1) / 6;
+    const double* r0 = table.data() + (i - 1) * kRow;
     Tristimuli r;
-    for (std::size_t k = 0; k < r.size(); ++k)
-        r[k] = w0 * table[i - 1][k] + w1 * table[i][k] + w2 * table[i + 1][k] + w3 * table[i + 2][k];
+    for (std::size_t k = 0; k < r.size(); ++k) r[k] = w0 * r0[k] + w1 * r0[kRow + k] + w2 * r0[2 * kRow + k] + w3 * r0[3 * kRow + k];
     return r;
 }
 
@@ -106,6 +104,17 @@ double von_kries_d(CieUV p) { return (1.708 * p.v + 0.404 - 1.481 * p.u) / p.v; 
 }  // namespace
 
 SampleTristimuli cie133_tristimuli(const double* colour_range_values) { return weights().apply(colour_range_values); }
+
+std::vector<double> compute_cie133_planck_reference_table() {
+    std::vector<double> t;
+    for (double m = kMiredFirst; m <= kMiredLast + 1e-9; m += 1.0) {
+        const auto p = colour_range_values(planckian(1e6 / m));
+        const Tristimuli r = weights().apply(p.data());
+        const Tristimuli white_1 = scaled(r, 1.0 / r[1]);
+        t.insert(t.end(), white_1.begin(), white_1.end());
+    }
+    return t;
+}
 
 ColourRendering colour_rendering_from_tristimuli(const SampleTristimuli& test, double cct_K) {
     if (!(cct_K > 0)) throw Error("colour rendering needs a valid CCT");
