@@ -48,8 +48,8 @@ TEST_CASE("generated tables: their sizes follow from the grids") {
     CHECK(std::abs(static_cast<double>(ohno.size() / 3) - (std::log(100.0) / std::log(1.001) + 5)) <= 1.0);
     // Robertson: 0-100 mired by 10 (11 lines), 125-1000 by 25 (36 lines), five values each.
     CHECK(precomputed::robertson_lines().size() == 47 * 5);
-    // CIE 13.3: 198-1002 mired (805 rows of 48).
-    CHECK(precomputed::cie133_planck_reference().size() == 805 * 48);
+    // CIE 13.3: 198-1002 mired (805 rows: white u, v, c, d and W*, U*, V* of 14 samples).
+    CHECK(precomputed::cie133_planck_reference().size() == 805 * 46);
     // CIE 224: 10-1000 mired (991 rows of 99 samples x 3).
     CHECK(precomputed::cie224_reference_jab().size() == 991 * 297);
 }
