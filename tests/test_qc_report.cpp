@@ -399,8 +399,8 @@ TEST_CASE("qc report: the drift section holds the share chart (recipe and lot pe
 TEST_CASE("qc report: a lot of 6,000 lamps gets a density plot, stays under 2.5 MB and still names every failing lamp") {
     // 150 copies of the 40 demo lamps under new names (the demo lot's three failures, lamps 20,
     // 37 and 40, fail in every copy: 450 failing lamps). One point and one table row per lamp
-    // gave about 540 bytes a lamp (27 MB for 50,000), i.e. 3.2 MB here; the limit is a stated
-    // size goal (common practice, no source).
+    // gave about 590 bytes a lamp (5.9 MB for 10,000 lamps, 29 MB for 50,000), i.e. about 3.5 MB
+    // here; the limit is a stated size goal (common practice, no source).
     const QcRun& demo = demo_run();
     QcRun run;
     run.spec = demo.spec;
