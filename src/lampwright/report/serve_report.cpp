@@ -1,0 +1,210 @@
+#include "lampwright/report/serve_report.hpp"
+
+#include "lampwright/colour/colorimetry.hpp"
+#include "lampwright/colour/temperature.hpp"
+#include "lampwright/report/assessment_report.hpp"
+#include "lampwright/report/blend_report.hpp"
+#include "lampwright/report/qc_report.hpp"
+#include "lampwright/report/svg_plot.hpp"
+
+#include <fmt/format.h>
+
+#include <algorithm>
+#include <array>
+#include <cmath>
+
+namespace lampwright {
+
+namespace {
+
+// Okabe and Ito's colour-blind-safe set (Okabe & Ito 2008, "Color Universal Design"), black left
+// out for the stack: components take them in order; grey is the mercury lines / leaked pump.
+constexpr std::array<const char*, 7> kStackColours{"#E69F00", "#56B4E9", "#009E73", "#F0E442", "#0072B2", "#D55E00", "#CC79A7"};
+constexpr const char* kLinesColour = "#999999";
+
+// The visible window of the spectrum chart, nm (CIE 15:2004 visible range, from 360 nm so a
+// violet LED pump shows).
+constexpr int kChartFirstNm = 360, kChartLastNm = 780, kChartStepNm = 2;
+
+double value_at(const Spectrum& s, int nm) { return s.covers(nm) ? s.values[static_cast<std::size_t>(nm - s.first_nm)] : 0.0; }
+
+// The target's tolerance region as a QC region (qc_report's tolerance_region_uv draws all three).
+QcSpec region_spec(const Target& t, double tolerance_uv_prime) {
+    QcSpec s;
+    s.centre = t.xy;
+    if (t.ellipse) {
+        s.region = QcSpec::Region::ellipse;
+        s.step_ellipse = *t.ellipse;
+        s.max_steps = t.ellipse_steps;
+    } else if (t.ansi_class) {
+        s.region = QcSpec::Region::ansi_quadrangle;
+        s.ansi_class = t.ansi_class;
+    } else {
+        s.region = QcSpec::Region::circle;
+        s.max_duv_prime = tolerance_uv_prime;
+    }
+    return s;
+}
+
+}  // namespace
+
+std::string blend_stack_svg(const BlendInput& in, const BlendResult& r) {
+    // Each component's part: its photon share times its light per unit share (blend.hpp,
+    // BlendBasis), scaled so the parts add up to the phosphors' light of evaluate_blend; the rest
+    // of the total is the mercury lines or the leaked pump.
+    const BlendBasis basis = blend_basis(in);
+    const std::vector<double> shares = photon_shares(basis, normalised_mass_fractions(in));
+    std::vector<int> nm;
+    for (int l = kChartFirstNm; l <= kChartLastNm; l += kChartStepNm) nm.push_back(l);
+    std::vector<std::vector<double>> parts(shares.size(), std::vector<double>(nm.size()));
+    double parts_sum = 0, phosphor_sum = 0;
+    for (std::size_t k = 0; k < nm.size(); ++k) {
+        for (std::size_t i = 0; i < shares.size(); ++i) parts_sum += parts[i][k] = shares[i] * value_at(basis.phosphor_light[i], nm[k]);
+        phosphor_sum += value_at(r.phosphor_spectrum, nm[k]);
+    }
+    const double scale = parts_sum > 0 ? phosphor_sum / parts_sum : 0.0;
+    double y_max = 0;
+    std::vector<double> xs(nm.begin(), nm.end()), total(nm.size()), base(nm.size(), 0.0);
+    for (std::size_t k = 0; k < nm.size(); ++k) {
+        total[k] = value_at(r.spectrum, nm[k]);
+        y_max = std::max(y_max, value_at(r.phosphor_spectrum, nm[k]));
+    }
+    // Scaled to the phosphors' bands: a mercury line may reach far above them and is clipped.
+    y_max = y_max > 0 ? 1.15 * y_max : 1.0;
+    SvgOverlay ov;
+    ov.id = "spectrum-chart";
+    ov.legend_width = 190;
+    std::string legend;
+    const SvgPlotArea area = svg_plot_area(700 + ov.legend_width, 340, ov.legend_width);
+    auto add_band = [&](const std::vector<double>& top_part, const std::string& colour, const std::string& label, std::size_t index) {
+        SvgPolygon p;
+        for (std::size_t k = 0; k < nm.size(); ++k) p.x.push_back(xs[k]), p.y.push_back(base[k] + top_part[k]);
+        for (std::size_t k = nm.size(); k-- > 0;) p.x.push_back(xs[k]), p.y.push_back(base[k]);
+        for (std::size_t k = 0; k < nm.size(); ++k) base[k] += top_part[k];
+        p.fill = colour;
+        p.stroke = colour;
+        p.stroke_width = 0.5;
+        p.fill_opacity = 0.85;
+        p.title = label;
+        ov.polygons.push_back(std::move(p));
+        const int y = area.top + 14 + 18 * static_cast<int>(index);
+        legend += fmt::format(R"(<rect x="{}" y="{}" width="12" height="12" fill="{}"/><text x="{}" y="{}" font-size="11">{}</text>)", area.right + 12,
+                              y - 10, colour, area.right + 30, y, xml_escape(label.size() > 26 ? label.substr(0, 25) + "…" : label));
+    };
+    for (std::size_t i = 0; i < parts.size(); ++i) {
+        for (double& v : parts[i]) v *= scale;
+        add_band(parts[i], kStackColours[i % kStackColours.size()], in.components[i].label, i);
+    }
+    std::vector<double> rest(nm.size());
+    for (std::size_t k = 0; k < nm.size(); ++k) rest[k] = std::max(0.0, total[k] - base[k]);
+    if (std::any_of(rest.begin(), rest.end(), [&](double v) { return v > 1e-6 * y_max; }))
+        add_band(rest, kLinesColour, in.excitation.kind == Excitation::Kind::mercury ? "mercury lines" : "leaked pump", parts.size());
+    ov.pixel_svg = legend;
+    SvgAxes axes{"Spectrum by component", "wavelength (nm)", "spectral power (W/nm per W absorbed)", static_cast<double>(kChartFirstNm),
+                 static_cast<double>(kChartLastNm), 0.0, y_max, 700 + ov.legend_width, 340};
+    return svg_chart(axes, {SvgSeries{"", xs, total, "#000000", false}}, ov);
+}
+
+std::string target_uv_svg(const Target& t, double tolerance_uv_prime, const Assessment& blend) {
+    const std::vector<UV> region = tolerance_region_uv(region_spec(t, tolerance_uv_prime), 48);
+    const UV aim = uv_1976_from_xy(t.xy);
+    // The window: the region with a margin, widened to hold the blend (up to 0.03 away, beyond it
+    // the point is clipped and the readout says where it is). Equal scales in u' and v'.
+    double r = 0.004;
+    for (const auto& p : region) r = std::max({r, 1.4 * std::abs(p.u - aim.u), 1.4 * std::abs(p.v - aim.v)});
+    const UV b = blend.uv_prime;
+    if (std::isfinite(b.u) && std::isfinite(b.v)) r = std::max(r, std::min(0.03, 1.2 * std::max(std::abs(b.u - aim.u), std::abs(b.v - aim.v))));
+    constexpr int kWidth = 460, kHeight = 460;
+    const SvgPlotArea area = svg_plot_area(kWidth, kHeight);
+    const double pw = area.right - area.left, ph = area.bottom - area.top, per_px = 2 * r / std::min(pw, ph);
+    const double u_min = aim.u - pw * per_px / 2, u_max = aim.u + pw * per_px / 2, v_min = aim.v - ph * per_px / 2, v_max = aim.v + ph * per_px / 2;
+
+    SvgOverlay ov;
+    ov.id = "uv-chart";
+    // Isotherms: lines of constant CCT from Duv -0.02 to +0.02 (CIE 15:2004 9.5: CCT is defined
+    // within |Duv| <= 0.05), every 100 K below 4000 K, every 250 K up to 7000 K, then every 500 K.
+    // An isotherm is straight in CIE 1960 (u, v) (the locus normal; CIE 15:2004 9.5), and so in
+    // u'v' (v' = 1.5 v): its two ends suffice.
+    for (double T = 1500; T <= 12000; T += T < 4000 ? 100 : T < 7000 ? 250 : 500) {
+        const UV mid = uv_1976_from_xy(xy_from_cct_duv(T, 0.0));
+        if (!(mid.u > u_min && mid.u < u_max && std::abs(mid.v - aim.v) < 3 * r)) continue;
+        SvgPolygon iso;
+        iso.closed = false;
+        for (double d : {-0.02, 0.02}) {
+            const UV p = uv_1976_from_xy(xy_from_cct_duv(T, d));
+            iso.x.push_back(p.u), iso.y.push_back(p.v);
+        }
+        iso.stroke = "#777777";
+        iso.dash = "3 3";
+        iso.stroke_width = 0.8;
+        iso.css_class = "isotherm";
+        iso.title = fmt::format("isotherm {:.0f} K", T);
+        const UV top = uv_1976_from_xy(xy_from_cct_duv(T, 0.012));
+        ov.texts.push_back({top.u, top.v, fmt::format("{:.0f} K", T), "middle", "#555555", 0, -3});
+        ov.polygons.push_back(std::move(iso));
+    }
+    SvgPolygon reg;
+    for (const auto& p : region) reg.x.push_back(p.u), reg.y.push_back(p.v);
+    if (!reg.x.empty()) reg.x.pop_back(), reg.y.pop_back();
+    reg.id = "tolerance-region";
+    reg.stroke = "#0072B2";
+    reg.fill = "#56B4E9";
+    reg.fill_opacity = 0.25;
+    reg.stroke_width = 1.5;
+    reg.title = t.ellipse ? fmt::format("{:g}-step MacAdam ellipse", t.ellipse_steps)
+                : t.ansi_class ? "ANSI C78.377 quadrangle"
+                               : fmt::format("within {:g} in u'v'", tolerance_uv_prime);
+    ov.polygons.push_back(std::move(reg));
+    ov.markers.push_back({aim.u, aim.v, SvgMarker::Shape::plus, 6, "target-marker", "", "#0072B2", "target: " + t.description});
+    if (std::isfinite(b.u) && std::isfinite(b.v))
+        ov.markers.push_back({b.u, b.v, SvgMarker::Shape::diamond, 6, "blend-marker", "", "#D55E00",
+                              fmt::format("blend: u' {:.4f}, v' {:.4f}", b.u, b.v)});
+    return svg_uv_diagram("CIE 1976 u'v' around the target", {}, u_min, u_max, v_min, v_max, kWidth, kHeight, ov);
+}
+
+nlohmann::ordered_json target_json(const Target& t, double tolerance_uv_prime, const Assessment& blend) {
+    const UV aim = uv_1976_from_xy(t.xy);
+    nlohmann::ordered_json j;
+    j["description"] = t.description;
+    j["x"] = t.xy.x;
+    j["y"] = t.xy.y;
+    j["u_prime"] = aim.u;
+    j["v_prime"] = aim.v;
+    j["tolerance"] = t.ellipse ? fmt::format("{:g}-step MacAdam ellipse", t.ellipse_steps) : fmt::format("{:g} in u'v'", tolerance_uv_prime);
+    j["distance_uv_prime"] = std::hypot(blend.uv_prime.u - aim.u, blend.uv_prime.v - aim.v);
+    j["macadam_steps"] = t.ellipse ? nlohmann::ordered_json(macadam_steps(*t.ellipse, blend.xy)) : nlohmann::ordered_json(nullptr);
+    j["inside_ansi_quadrangle"] = t.ansi_class ? nlohmann::ordered_json(inside_ansi_c78377(*t.ansi_class, blend.xy)) : nlohmann::ordered_json(nullptr);
+    j["within_tolerance"] = target_distance_ratio2(t, tolerance_uv_prime, blend) <= 1.0;
+    return j;
+}
+
+nlohmann::ordered_json targets_catalogue_json() {
+    nlohmann::ordered_json j;
+    auto& ansi = j["ansi_c78377"] = nlohmann::ordered_json::array();
+    for (const auto& c : ansi_c78377_classes())
+        ansi.push_back({{"nominal_K", c.nominal_K}, {"cct_K", c.cct_K}, {"cct_tolerance_K", c.cct_tolerance_K}, {"duv_centre", c.duv_centre},
+                        {"x", c.centre.x}, {"y", c.centre.y}});
+    auto& lamps = j["ansi_c78376"] = nlohmann::ordered_json::array();
+    for (const auto& c : ansi_c78376_colours())
+        lamps.push_back({{"name", c.name}, {"x", c.ellipse.centre.x}, {"y", c.ellipse.centre.y}, {"a", c.ellipse.a}, {"b", c.ellipse.b},
+                         {"theta_deg", c.ellipse.theta_deg}, {"source", c.source}});
+    j["default_steps"] = kAnsiC78376Steps;
+    j["default_tolerance_uv_prime"] = kDefaultFitToleranceUvPrime;
+    auto& obj = j["objectives"] = nlohmann::ordered_json::array();
+    // The keys of fit --maximize (parse_fit_objective), "change" the default.
+    for (const char* key : {"change", "ra", "r9", "ra-r9", "ler", "efficacy", "rf"})
+        obj.push_back({{"key", key}, {"label", fit_objective_name(parse_fit_objective(key))}});
+    return j;
+}
+
+nlohmann::ordered_json serve_evaluation_json(const BlendInput& in, const BlendResult& r, const Target& t, double tolerance_uv_prime) {
+    nlohmann::ordered_json j;
+    j["blend"] = blend_document_json(r, in);
+    j["target"] = target_json(t, tolerance_uv_prime, r.assessment);
+    j["charts"] = {{"spectrum_svg", blend_stack_svg(in, r)},
+                   {"uv_svg", target_uv_svg(t, tolerance_uv_prime, r.assessment)},
+                   {"cvg_svg", colour_vector_graphic_svg(r.assessment, "cvg-chart")}};
+    return j;
+}
+
+}  // namespace lampwright
