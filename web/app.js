@@ -81,7 +81,11 @@ async function sendEvaluation() {
   const startedAt = page.inputAt;
   try {
     const data = await api("POST", "/api/evaluate", evaluationRequest());
+    const answeredAt = performance.now();
     render(data);
+    document.body.dataset.renderMs = (performance.now() - answeredAt).toFixed(1);
+    document.body.dataset.answerMs = (answeredAt - startedAt).toFixed(1);
+    document.body.dataset.serverMs = data.ms.toFixed(1);
     page.lastRedrawMs = performance.now() - startedAt;
     page.evaluations += 1;
     document.body.dataset.evaluations = String(page.evaluations);

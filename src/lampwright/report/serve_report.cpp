@@ -139,8 +139,11 @@ std::string target_uv_svg(const Target& t, double tolerance_uv_prime, const Asse
         iso.stroke_width = 0.8;
         iso.css_class = "isotherm";
         iso.title = fmt::format("isotherm {:.0f} K", T);
-        const UV top = uv_1976_from_xy(xy_from_cct_duv(T, 0.012));
-        ov.texts.push_back({top.u, top.v, fmt::format("{:.0f} K", T), "middle", "#555555", 0, -3});
+        // Labels on every 500 K only (the locus carries its own CCT ticks); the rest as tooltips.
+        if (std::fmod(T, 500.0) == 0) {
+            const UV top = uv_1976_from_xy(xy_from_cct_duv(T, 0.012));
+            ov.texts.push_back({top.u, top.v, fmt::format("{:.0f} K", T), "middle", "#555555", 0, -3});
+        }
         ov.polygons.push_back(std::move(iso));
     }
     SvgPolygon reg;
