@@ -118,6 +118,9 @@ struct Server::Impl {
     ServerConfig config;
     httplib::Server http;
     int bound_port = 0;
+    // run() and stop() may race (stop from a signal thread or a test right after start):
+    // a stop before the listening loop has begun must still end it.
+    std::atomic<bool> run_entered{false}, run_finished{false}, stopping{false};
     PhosphorLibrary library;
 
     std::mutex state_mutex;  // guards base and the jobs
@@ -496,11 +499,24 @@ int Server::bind() {
     return i.bound_port;
 }
 
-void Server::run() { impl_->http.listen_after_bind(); }
+void Server::run() {
+    auto& i = *impl_;
+    i.run_entered = true;
+    if (!i.stopping) i.http.listen_after_bind();
+    i.run_finished = true;
+}
 
 void Server::stop() {
-    if (impl_) impl_->http.stop();
+    if (!impl_) return;
+    auto& i = *impl_;
+    i.stopping = true;
+    // Wait (at most 2 s) for a run() already entered to be listening, so that stop() reaches it.
+    for (int k = 0; k < 2000 && i.run_entered && !i.run_finished && !i.http.is_running(); ++k)
+        std::this_thread::sleep_for(std::chrono::milliseconds(1));
+    i.http.stop();
 }
+
+bool Server::running() const { return impl_->http.is_running(); }
 
 int Server::port() const { return impl_->bound_port; }
 

@@ -46,7 +46,9 @@ public:
     int bind();
     // Serves until stop() (call after bind, usually on a thread of its own).
     void run();
+    // Ends run() (from any thread; also when run() has not begun listening yet).
     void stop();
+    bool running() const;  // run() is listening
     int port() const;
 
 private:
