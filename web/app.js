@@ -3,7 +3,9 @@
 "use strict";
 
 const page = {
-  components: [],    // [{id, mass_fraction}] as the sliders stand
+  kind: "blend",     // "blend" (mass fractions) or "layer" (loadings and thickness)
+  components: [],    // [{id, value}] as the sliders stand: mass fraction, or loading for a layer
+  thickness: 0,      // layer thickness, um (layers only)
   phosphors: [],     // the library (phosphors --format json)
   catalogue: null,   // targets and objectives
   undo: [],          // earlier component lists
@@ -59,11 +61,14 @@ function targetRequest() {
 }
 
 function evaluationRequest() {
-  return {
-    components: page.components.map((c) => ({ id: c.id, mass_fraction: c.mass_fraction })),
+  const key = page.kind === "layer" ? "loading" : "mass_fraction";
+  const req = {
+    components: page.components.map((c) => ({ id: c.id, [key]: c.value })),
     target: targetRequest(),
     tolerance_uv_prime: Number($("target-tol").value),
   };
+  if (page.kind === "layer") req.thickness_um = page.thickness;
+  return req;
 }
 
 // Debounced and coalesced: at most one request in flight; a burst of slider moves sends the last.
@@ -122,7 +127,8 @@ function setReadout(id, text, dataset) {
 }
 
 function render(data) {
-  const b = data.blend;
+  const b = data.blend || data.layer;
+  const layer = !data.blend;
   $("spectrum-svg").innerHTML = data.charts.spectrum_svg;
   $("uv-svg").innerHTML = data.charts.uv_svg;
   $("cvg-svg").innerHTML = data.charts.cvg_svg || "<p>No TM-30 figures (no CCT).</p>";
@@ -141,23 +147,37 @@ function render(data) {
   setReadout("readout-rf", "Rf " + fmt(b.Rf, 1), { rf: b.Rf });
   setReadout("readout-rg", "Rg " + fmt(b.Rg, 1), { rg: b.Rg });
   setReadout("readout-ler", fmt(b.ler_lm_per_W, 1, "lm/W of light"), { ler: b.ler_lm_per_W });
-  setReadout("readout-efficacy", fmt(b.efficacy_lm_per_W_absorbed, 1, "lm per W absorbed"), { efficacy: b.efficacy_lm_per_W_absorbed });
-  setReadout("readout-qy", fmt(b.quantum_yield, 3));
-  setReadout("readout-radiant", fmt(b.radiant_efficiency, 3, "W/W"));
+  if (layer) {
+    setReadout("readout-efficacy", fmt(b.efficacy_lm_per_W_pump, 1, "lm per W of pump"), { efficacy: b.efficacy_lm_per_W_pump });
+    $("qy-label").textContent = "total efficiency";
+    setReadout("readout-qy", fmt(b.total_efficiency, 3, "W/W"));
+    $("radiant-label").textContent = "converted efficiency";
+    setReadout("readout-radiant", fmt(b.converted_efficiency, 3, "W/W"));
+  } else {
+    setReadout("readout-efficacy", fmt(b.efficacy_lm_per_W_absorbed, 1, "lm per W absorbed"), { efficacy: b.efficacy_lm_per_W_absorbed });
+    $("qy-label").textContent = "quantum yield";
+    setReadout("readout-qy", fmt(b.quantum_yield, 3));
+    $("radiant-label").textContent = "radiant efficiency";
+    setReadout("readout-radiant", fmt(b.radiant_efficiency, 3, "W/W"));
+  }
   drawRenderingBars(b);
   // The normalised fractions as the model used them.
   for (const c of b.components) {
     const el = document.querySelector('.comp[data-id="' + CSS.escape(c.id) + '"] .share');
-    if (el) el.textContent = (100 * c.mass_fraction).toFixed(2) + " %, " + (100 * c.photon_share).toFixed(1) + " % of photons";
+    if (!el) continue;
+    if (layer) el.textContent = "QE " + c.quantum_efficiency.toFixed(2) + ", " + c.photons_escaping.toFixed(3) + " photons out per pump photon";
+    else el.textContent = (100 * c.mass_fraction).toFixed(2) + " %, " + (100 * c.photon_share).toFixed(1) + " % of photons";
   }
   const ul = $("warnings");
   ul.replaceChildren();
-  for (const w of b.warnings) {
+  const warnings = b.warnings.slice();
+  if (b.caution) warnings.push("CAUTION: " + b.caution);
+  for (const w of warnings) {
     const li = document.createElement("li");
     li.textContent = w;
     ul.appendChild(li);
   }
-  if (!b.warnings.length) {
+  if (!warnings.length) {
     const li = document.createElement("li");
     li.textContent = "none";
     ul.appendChild(li);
@@ -207,75 +227,101 @@ function drawRenderingBars(b) {
 // ---- components ---------------------------------------------------------------------------
 
 function pushUndo() {
-  page.undo.push(page.components.map((c) => ({ ...c })));
+  page.undo.push({ components: page.components.map((c) => ({ ...c })), thickness: page.thickness, kind: page.kind });
   if (page.undo.length > 100) page.undo.shift();
   $("undo-button").disabled = false;
 }
 
-function renderComponents() {
-  const box = $("components");
-  box.replaceChildren();
-  page.components.forEach((c, i) => {
-    const row = document.createElement("div");
-    row.className = "comp";
-    row.dataset.id = c.id;
-    const name = document.createElement("div");
-    name.className = "name";
+// One row: name, the model's figures for it, a slider and a number field (and a remove button).
+function sliderRow(opts) {
+  const row = document.createElement("div");
+  row.className = "comp";
+  row.dataset.id = opts.id;
+  const name = document.createElement("div");
+  name.className = "name";
+  if (opts.colour) {
     const sw = document.createElement("span");
     sw.className = "swatch";
-    sw.style.background = STACK[i % STACK.length];
-    name.append(sw, document.createTextNode(c.id));
-    const share = document.createElement("div");
-    share.className = "share";
-    const line = document.createElement("div");
-    line.className = "row";
-    const range = document.createElement("input");
-    range.type = "range";
-    range.min = "0";
-    range.max = "1";
-    range.step = "0.001";
-    range.className = "frac-range";
-    range.setAttribute("aria-label", "mass fraction of " + c.id);
-    const num = document.createElement("input");
-    num.type = "number";
-    num.min = "0";
-    num.max = "1";
-    num.step = "0.0001";
-    num.className = "frac-number";
-    num.setAttribute("aria-label", "mass fraction of " + c.id + " (number)");
-    range.value = num.value = String(c.mass_fraction);
+    sw.style.background = opts.colour;
+    name.appendChild(sw);
+  }
+  name.appendChild(document.createTextNode(opts.label));
+  const share = document.createElement("div");
+  share.className = "share";
+  const line = document.createElement("div");
+  line.className = "row";
+  const range = document.createElement("input");
+  range.type = "range";
+  const num = document.createElement("input");
+  num.type = "number";
+  for (const el of [range, num]) {
+    el.min = String(opts.min);
+    el.max = String(opts.max);
+    el.step = String(opts.step);
+    el.value = String(opts.value);
+  }
+  range.className = "frac-range";
+  num.className = "frac-number";
+  range.setAttribute("aria-label", opts.aria);
+  num.setAttribute("aria-label", opts.aria + " (number)");
+  let undoPushed = false;
+  const onInput = (src, other) => () => {
+    const v = Number(src.value);
+    if (!Number.isFinite(v) || v < opts.min) return;
+    if (!undoPushed) {
+      pushUndo();
+      undoPushed = true;
+    }
+    opts.set(v);
+    other.value = src.value;
+    scheduleEvaluation();
+  };
+  range.addEventListener("input", onInput(range, num));
+  num.addEventListener("input", onInput(num, range));
+  const settle = () => { undoPushed = false; };
+  range.addEventListener("change", settle);
+  num.addEventListener("change", settle);
+  line.append(range, num);
+  if (opts.remove) {
     const remove = document.createElement("button");
     remove.type = "button";
     remove.className = "remove";
     remove.textContent = "×";
-    remove.title = "remove " + c.id;
-    let undoPushed = false;
-    const onInput = (src, other) => () => {
-      const v = Number(src.value);
-      if (!Number.isFinite(v) || v < 0) return;
-      if (!undoPushed) {
+    remove.title = "remove " + opts.id;
+    remove.addEventListener("click", opts.remove);
+    line.appendChild(remove);
+  }
+  row.append(name, share, line);
+  return row;
+}
+
+function renderComponents() {
+  const layer = page.kind === "layer";
+  $("components-heading").textContent = layer ? "Components (loading: phosphor mass fraction of the layer)"
+                                              : "Components (mass fraction, any scale; shown normalised)";
+  const box = $("components");
+  box.replaceChildren();
+  page.components.forEach((c, i) => {
+    box.appendChild(sliderRow({
+      id: c.id, label: c.id, colour: layer ? null : STACK[i % STACK.length], value: c.value,
+      min: 0, max: layer ? 0.5 : 1, step: layer ? 0.0005 : 0.001,
+      aria: (layer ? "loading of " : "mass fraction of ") + c.id,
+      set: (v) => { c.value = v; },
+      remove: () => {
         pushUndo();
-        undoPushed = true;
-      }
-      c.mass_fraction = v;
-      other.value = src.value;
-      scheduleEvaluation();
-    };
-    range.addEventListener("input", onInput(range, num));
-    num.addEventListener("input", onInput(num, range));
-    const settle = () => { undoPushed = false; };
-    range.addEventListener("change", settle);
-    num.addEventListener("change", settle);
-    remove.addEventListener("click", () => {
-      pushUndo();
-      page.components.splice(i, 1);
-      renderComponents();
-      scheduleEvaluation();
-    });
-    line.append(range, num, remove);
-    row.append(name, share, line);
-    box.appendChild(row);
+        page.components.splice(i, 1);
+        renderComponents();
+        scheduleEvaluation();
+      },
+    }));
   });
+  if (layer)
+    box.appendChild(sliderRow({
+      id: "thickness", label: "layer thickness (µm)", value: page.thickness, min: 5, max: 1000, step: 1,
+      aria: "layer thickness in micrometres", set: (v) => { page.thickness = v; },
+    }));
+  for (const el of document.querySelectorAll(".blend-only")) el.hidden = layer;
+  for (const el of document.querySelectorAll(".layer-only")) el.hidden = !layer;
 }
 
 function showPhosphor(id) {
@@ -296,10 +342,17 @@ function showPhosphor(id) {
   }
 }
 
-function setComponents(list) {
-  page.components = list.map((c) => ({ id: c.id, mass_fraction: c.mass_fraction }));
+function setComponents(list, thickness) {
+  page.components = list.map((c) => ({ id: c.id, value: page.kind === "layer" ? c.loading : c.mass_fraction }));
+  if (thickness !== undefined) page.thickness = thickness;
   renderComponents();
   scheduleEvaluation();
+}
+
+function setRecipe(recipe) {
+  page.kind = recipe.kind;
+  $("recipe-name").textContent = recipe.name + " (" + recipe.excitation + ")";
+  setComponents(recipe.components, recipe.thickness_um);
 }
 
 // ---- fit ----------------------------------------------------------------------------------
@@ -308,8 +361,10 @@ async function startFit() {
   const body = evaluationRequest();
   body.objective = $("fit-objective").value;
   body.r9_weight = Number($("fit-r9-weight").value);
-  for (const [key, id] of [["min_ra", "fit-min-ra"], ["min_r9", "fit-min-r9"], ["min_ler", "fit-min-ler"], ["min_rf", "fit-min-rf"],
-    ["min_rg", "fit-min-rg"], ["max_rg", "fit-max-rg"]]) {
+  const keys = [["min_ra", "fit-min-ra"], ["min_r9", "fit-min-r9"]];
+  if (page.kind === "blend") keys.push(["min_ler", "fit-min-ler"], ["min_rf", "fit-min-rf"], ["min_rg", "fit-min-rg"], ["max_rg", "fit-max-rg"]);
+  else body.fit_thickness = $("fit-thickness").checked;
+  for (const [key, id] of keys) {
     const v = numberOrNull(id);
     if (v !== null) body[key] = v;
   }
@@ -363,7 +418,7 @@ async function pollFit(job) {
   document.body.dataset.fitState = r.feasible ? "feasible" : "infeasible";
   if (r.feasible) {
     pushUndo();
-    setComponents(r.components);
+    setComponents(r.components, r.thickness_um);
   }
 }
 
@@ -398,9 +453,9 @@ async function loadRecipe(file) {
   try {
     const text = await file.text();
     const recipe = await api("POST", "/api/recipe/load", { toml: text });
-    pushUndo();
-    $("recipe-name").textContent = recipe.name + " (" + recipe.excitation + ")";
-    setComponents(recipe.components);
+    page.undo = [];  // the earlier states belong to the recipe the server no longer holds
+    $("undo-button").disabled = true;
+    setRecipe(recipe);
   } catch (e) {
     showError(e);
   }
@@ -419,7 +474,6 @@ async function start() {
   const s = await api("GET", "/api/state");
   page.phosphors = s.phosphors;
   page.catalogue = s.targets;
-  $("recipe-name").textContent = s.recipe.name + " (" + s.recipe.excitation + ")";
   $("cautions").textContent = s.cautions;
   for (const c of s.targets.ansi_c78377) $("target-ansi").add(new Option(c.nominal_K + " K", String(c.nominal_K)));
   for (const c of s.targets.ansi_c78376) $("target-flamp").add(new Option(c.name, c.name));
@@ -437,7 +491,7 @@ async function start() {
     const id = $("phosphor-select").value;
     if (page.components.some((c) => c.id === id)) return setStatus(id + " is already in the blend", true);
     pushUndo();
-    page.components.push({ id, mass_fraction: 0.1 });
+    page.components.push({ id, value: page.kind === "layer" ? 0.02 : 0.1 });
     renderComponents();
     scheduleEvaluation();
   });
@@ -449,14 +503,15 @@ async function start() {
     const prev = page.undo.pop();
     $("undo-button").disabled = page.undo.length === 0;
     if (prev) {
-      page.components = prev;
+      page.components = prev.components;
+      page.thickness = prev.thickness;
       renderComponents();
       scheduleEvaluation();
     }
   });
   $("save-button").addEventListener("click", saveRecipe);
   $("load-input").addEventListener("change", (e) => { if (e.target.files.length) loadRecipe(e.target.files[0]); e.target.value = ""; });
-  setComponents(s.recipe.components);
+  setRecipe(s.recipe);
 }
 
 start().catch(showError);

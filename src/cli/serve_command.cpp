@@ -24,9 +24,10 @@ bool is_loopback(const std::string& host) { return host == "127.0.0.1" || host =
 }  // namespace
 
 int run_serve(int argc, char** argv) {
-    po::options_description opts(std::string(R"(Usage: lampwright serve [RECIPE.toml] [--port N] [--host 127.0.0.1] [--phosphors DIR]
+    po::options_description opts(std::string(R"(Usage: lampwright serve [RECIPE.toml | DESIGN.toml] [--port N] [--host 127.0.0.1] [--phosphors DIR]
 
-Serves the interactive formulation page on this machine: move a component's mass fraction and see
+Serves the interactive formulation page on this machine: move a component's mass fraction (or, for
+an LED layer design, a phosphor's loading and the layer thickness) and see
 the spectrum, the chromaticity against the target, Ra and R1-R14, Rf/Rg and the colour vector
 graphic at once; fit, undo, save and load recipes (the same TOML that 'blend' reads). The page and
 its API are answered only on the address and port printed at the start (see README, "Interactive
@@ -54,10 +55,12 @@ formulation page"; the API in docs/serve-api.md). Ctrl-C stops the server.
     config.cautions = kSafetyNotice;
     if (!recipes.empty()) {
         const TomlDoc doc = TomlDoc::from_file(recipes.front());
-        if (is_layer_design(doc))
-            throw InputError(recipes.front(), 0, "an LED layer design: the page works on blend recipes (use 'lampwright layer' and 'fit' for designs)");
-        config.recipe = load_recipe(recipes.front(), folders);
-        for (const auto& n : config.recipe->notes) print_note(n);
+        if (is_layer_design(doc)) {
+            config.design = layer_design_from_toml(doc, folders);
+        } else {
+            config.recipe = load_recipe(recipes.front(), folders);
+            for (const auto& n : config.recipe->notes) print_note(n);
+        }
     }
 
     // SIGINT and SIGTERM are taken by a thread of their own (sigwait), so stopping the server

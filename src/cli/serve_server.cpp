@@ -8,6 +8,8 @@
 #include "lampwright/design/targets.hpp"
 #include "lampwright/io/toml_access.hpp"
 #include "lampwright/led/layer_design.hpp"
+#include "lampwright/led/layer_fit.hpp"
+#include "lampwright/report/layer_report.hpp"
 #include "lampwright/report/blend_report.hpp"
 #include "lampwright/report/fit_report.hpp"
 #include "lampwright/report/serve_report.hpp"
@@ -19,6 +21,7 @@
 #include <atomic>
 #include <chrono>
 #include <cmath>
+#include <functional>
 #include <map>
 #include <mutex>
 #include <thread>
@@ -125,6 +128,7 @@ struct Server::Impl {
 
     std::mutex state_mutex;  // guards base and the jobs
     BlendInput base;         // the recipe the page edits (excitation, settings, component data)
+    std::optional<LayerDesign> layer;  // or the LED layer design it edits (then `base` is unused)
     std::vector<std::string> notes;
     std::map<int, std::shared_ptr<FitJob>> jobs;
     int next_job = 1;
@@ -135,7 +139,9 @@ struct Server::Impl {
 
     explicit Impl(ServerConfig c) : config(std::move(c)) {
         library = config.phosphor_folders.empty() ? PhosphorLibrary::builtin() : PhosphorLibrary::with_folders(config.phosphor_folders);
-        if (config.recipe) {
+        if (config.design) {
+            layer = config.design;
+        } else if (config.recipe) {
             base = config.recipe->blend;
             notes = config.recipe->notes;
         } else {
@@ -213,18 +219,74 @@ struct Server::Impl {
         return b;
     }
 
+    std::optional<LayerDesign> layer_base() {
+        std::lock_guard lock(state_mutex);
+        return layer;
+    }
+
+    // The same for an LED layer: [{"id", "loading"}] (phosphor mass fraction of the layer, 0-0.95)
+    // and "thickness_um" (default: the design's).
+    LayerDesign layer_of(const json& body, const LayerDesign& start, std::vector<std::string>* ids = nullptr, double zero_as = 0) {
+        const json& comps = member(body, "components");
+        if (!comps.is_array()) throw ApiError{400, "'components' must be an array of {\"id\", \"loading\"}"};
+        if (comps.size() > kMaxComponents) throw ApiError{400, fmt::format("at most {} components", kMaxComponents)};
+        LayerDesign d = start;
+        d.thickness_um = number(body, "thickness_um", 1, 5000, start.thickness_um);
+        d.components.clear();
+        for (const auto& c : comps) {
+            const std::string id = text(c, "id", kMaxIdLength);
+            double w = number(c, "loading", 0, 0.95);
+            if (ids) ids->push_back(id);
+            if (!(w > 0)) {
+                if (!(zero_as > 0)) continue;
+                w = zero_as;
+            }
+            LayerComponent lc;
+            const auto it = std::find_if(start.components.begin(), start.components.end(), [&](const LayerComponent& k) { return k.label == id; });
+            if (it != start.components.end()) {
+                lc = *it;
+            } else if (const Phosphor* p = library.try_find(id)) {
+                lc.phosphor = *p;
+                lc.label = p->id;
+            } else {
+                throw ApiError{400, fmt::format("unknown phosphor '{}' (GET /api/state lists the library)", id)};
+            }
+            for (const auto& other : d.components)
+                if (other.label == lc.label) throw ApiError{400, fmt::format("'{}' is listed twice", id)};
+            lc.loading = w;
+            d.components.push_back(std::move(lc));
+        }
+        if (d.components.empty()) throw ApiError{422, "no component has a loading above zero"};
+        return d;
+    }
+
     json recipe_json() {
         std::lock_guard lock(state_mutex);
         json j;
-        j["name"] = base.name;
-        j["excitation"] = base.excitation.describe();
-        auto& comps = j["components"] = json::array();
-        for (const auto& c : base.components)
-            comps.push_back({{"id", c.label},
-                             {"phosphor", c.phosphor.id},
-                             {"mass_fraction", c.mass_fraction},
-                             {"min_fraction", c.min_fraction ? json(*c.min_fraction) : json(nullptr)},
-                             {"max_fraction", c.max_fraction ? json(*c.max_fraction) : json(nullptr)}});
+        json comps = json::array();
+        if (layer) {
+            j["kind"] = "layer";
+            j["name"] = layer->name;
+            j["excitation"] = layer->pump.describe();
+            j["thickness_um"] = layer->thickness_um;
+            for (const auto& c : layer->components)
+                comps.push_back({{"id", c.label},
+                                 {"phosphor", c.phosphor.id},
+                                 {"loading", c.loading},
+                                 {"min_loading", c.min_loading ? json(*c.min_loading) : json(nullptr)},
+                                 {"max_loading", c.max_loading ? json(*c.max_loading) : json(nullptr)}});
+        } else {
+            j["kind"] = "blend";
+            j["name"] = base.name;
+            j["excitation"] = base.excitation.describe();
+            for (const auto& c : base.components)
+                comps.push_back({{"id", c.label},
+                                 {"phosphor", c.phosphor.id},
+                                 {"mass_fraction", c.mass_fraction},
+                                 {"min_fraction", c.min_fraction ? json(*c.min_fraction) : json(nullptr)},
+                                 {"max_fraction", c.max_fraction ? json(*c.max_fraction) : json(nullptr)}});
+        }
+        j["components"] = std::move(comps);
         j["notes"] = notes;
         return j;
     }
@@ -238,13 +300,13 @@ struct Server::Impl {
                 std::lock_guard lock(state_mutex);
                 b = base;
             }
-            if (!b.components.empty()) {
-                const BlendResult r = evaluate_blend(b);
-                if (r.assessment.cct.valid) {
-                    double d = 1e300;
-                    for (const auto& c : ansi_c78377_classes())
-                        if (std::abs(1e6 / c.cct_K - 1e6 / r.assessment.cct.cct_K) < d) d = std::abs(1e6 / c.cct_K - 1e6 / r.assessment.cct.cct_K), best = c.nominal_K;
-                }
+            std::optional<CctResult> cct;
+            if (const auto d = layer_base()) cct = evaluate_layer_design(*d).operating.assessment.cct;
+            else if (!b.components.empty()) cct = evaluate_blend(b).assessment.cct;
+            if (cct && cct->valid) {
+                double d = 1e300;
+                for (const auto& c : ansi_c78377_classes())
+                    if (std::abs(1e6 / c.cct_K - 1e6 / cct->cct_K) < d) d = std::abs(1e6 / c.cct_K - 1e6 / cct->cct_K), best = c.nominal_K;
             }
         } catch (const Error&) {
         }
@@ -263,9 +325,22 @@ struct Server::Impl {
 
     json evaluate(const json& body) {
         const auto t0 = std::chrono::steady_clock::now();
-        const BlendInput b = blend_of(body);
         const Target t = target_of(member(body, "target"));
         const double tol = number(body, "tolerance_uv_prime", 1e-5, 0.05, kDefaultFitToleranceUvPrime);
+        auto elapsed = [&] { return std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - t0).count(); };
+        if (const auto start = layer_base()) {
+            const LayerDesign d = layer_of(body, *start);
+            LayerEvaluation e;
+            try {
+                e = evaluate_layer_design(d);
+            } catch (const Error& x) {
+                throw ApiError{422, x.what()};
+            }
+            json j = serve_layer_evaluation_json(e, t, tol);
+            j["ms"] = elapsed();
+            return j;
+        }
+        const BlendInput b = blend_of(body);
         BlendResult r;
         try {
             r = evaluate_blend(b);
@@ -273,31 +348,85 @@ struct Server::Impl {
             throw ApiError{422, e.what()};
         }
         json j = serve_evaluation_json(b, r, t, tol);
-        j["ms"] = std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - t0).count();
+        j["ms"] = elapsed();
         return j;
     }
 
-    json start_fit(const json& body) {
+    // The fit of a request as work for a job thread: blend recipes through solve (the objectives
+    // and constraints of `fit`), LED layers through fit_layer (its loadings, and the thickness
+    // with "fit_thickness": true; Ra and R9 floors).
+    std::function<json(const FitProgress&)> fit_work(const json& body) {
         std::vector<std::string> ids;
-        FitProblem p;
-        // A component at zero starts the search at a trace, so the fit may bring it in.
-        p.blend = blend_of(body, &ids, 1e-3);
-        p.target = target_of(member(body, "target"));
+        const Target target = target_of(member(body, "target"));
+        FitObjective objective{};
         try {
-            p.objective = parse_fit_objective(text(body, "objective", 16, std::string("change")));
+            objective = parse_fit_objective(text(body, "objective", 16, std::string("change")));
         } catch (const Error& e) {
             throw ApiError{400, e.what()};
         }
-        p.r9_weight = number(body, "r9_weight", 0, 1, 0.5);
-        p.tolerance_uv_prime = number(body, "tolerance_uv_prime", 1e-5, 0.05, kDefaultFitToleranceUvPrime);
+        const double r9_weight = number(body, "r9_weight", 0, 1, 0.5);
+        const double tolerance = number(body, "tolerance_uv_prime", 1e-5, 0.05, kDefaultFitToleranceUvPrime);
         // The ranges of fit's --min-* options (fit_command.cpp).
-        p.min_ra = optional_number(body, "min_ra", -100, 100);
-        p.min_r9 = optional_number(body, "min_r9", -300, 100);
+        const auto min_ra = optional_number(body, "min_ra", -100, 100);
+        const auto min_r9 = optional_number(body, "min_r9", -300, 100);
+        if (const auto start = layer_base()) {
+            for (const char* key : {"min_ler", "min_rf", "min_rg", "max_rg"})
+                if (!member(body, key).is_null()) throw ApiError{400, fmt::format("'{}' applies to blend recipes, not to LED layer designs", key)};
+            LayerFitProblem lp;
+            // A component at zero starts the search at a trace, so the fit may bring it in.
+            lp.design = layer_of(body, *start, &ids, 1e-3);
+            lp.target = target;
+            lp.objective = objective;
+            lp.r9_weight = r9_weight;
+            lp.tolerance_uv_prime = tolerance;
+            lp.min_ra = min_ra;
+            lp.min_r9 = min_r9;
+            const json& ft = member(body, "fit_thickness");
+            if (!ft.is_null() && !ft.is_boolean()) throw ApiError{400, "'fit_thickness' must be true or false"};
+            lp.fit_thickness = ft.is_boolean() && ft.get<bool>();
+            return [lp, ids](const FitProgress& progress) {
+                const LayerFitResult r = fit_layer(lp, 3000, progress);
+                json result = layer_fit_json(r);
+                // The keys the page reads for both kinds of fit.
+                result["feasible"] = r.feasible;
+                result["message"] = r.message;
+                result["method"] = "NLopt COBYLA on the log loadings";
+                result["evaluations"] = r.evaluations;
+                auto& comps = result["components"] = json::array();
+                for (std::size_t i = 0; i < ids.size() && i < r.design.components.size(); ++i)
+                    comps.push_back({{"id", ids[i]}, {"loading", r.design.components[i].loading}});
+                result["thickness_um"] = r.design.thickness_um;
+                return result;
+            };
+        }
+        FitProblem p;
+        p.blend = blend_of(body, &ids, 1e-3);
+        p.target = target;
+        p.objective = objective;
+        p.r9_weight = r9_weight;
+        p.tolerance_uv_prime = tolerance;
+        p.min_ra = min_ra;
+        p.min_r9 = min_r9;
         p.min_ler = optional_number(body, "min_ler", 0, 683);
         p.min_rf = optional_number(body, "min_rf", 0, 100);
         p.min_rg = optional_number(body, "min_rg", 1e-6, 200);
         p.max_rg = optional_number(body, "max_rg", 1e-6, 200);
+        return [p, ids](const FitProgress& progress) {
+            FitOptions options;
+            options.progress = progress;
+            const auto t0 = std::chrono::steady_clock::now();
+            const FitResult r = solve(p, options);
+            json result = fit_json(p, r, std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - t0).count());
+            auto& comps = result["components"] = json::array();
+            // Every page component is in the problem (those at zero from a trace), in order.
+            for (std::size_t i = 0; i < ids.size() && i < r.mass_fractions.size(); ++i)
+                comps.push_back({{"id", ids[i]}, {"mass_fraction", r.mass_fractions[i]}});
+            return result;
+        };
+    }
 
+    json start_fit(const json& body) {
+        auto work = fit_work(body);
         auto job = std::make_shared<FitJob>();
         int id = 0;
         {
@@ -315,24 +444,16 @@ struct Server::Impl {
             id = next_job++;
             jobs[id] = job;
         }
-        job->worker = std::thread([job, p, ids] {
-            FitOptions options;
-            options.progress = [job](int done, int total) {
+        job->worker = std::thread([job, work] {
+            const FitProgress progress = [job](int done, int total) {
                 job->done = done;
                 job->total = total;
                 return !job->cancel.load();
             };
-            const auto t0 = std::chrono::steady_clock::now();
             std::string state;
             json result;
             try {
-                const FitResult r = solve(p, options);
-                const double ms = std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - t0).count();
-                result = fit_json(p, r, ms);
-                auto& comps = result["components"] = json::array();
-                // Every page component is in the problem (those at zero from a trace), in order.
-                for (std::size_t i = 0; i < ids.size() && i < r.mass_fractions.size(); ++i)
-                    comps.push_back({{"id", ids[i]}, {"mass_fraction", r.mass_fractions[i]}});
+                result = work(progress);
                 state = "done";
             } catch (const FitCancelled&) {
                 state = "cancelled";
@@ -369,6 +490,11 @@ struct Server::Impl {
     }
 
     json export_recipe(const json& body) {
+        if (const auto start = layer_base()) {
+            LayerDesign d = layer_of(body, *start);
+            d.name = text(body, "name", 200, d.name);
+            return {{"toml", "# Saved from the lampwright serve page.\n" + layer_design_to_toml(d)}};
+        }
         BlendInput b = blend_of(body);
         b.name = text(body, "name", 200, b.name);
         return {{"toml", recipe_to_toml(b, {"Saved from the lampwright serve page."})}};
@@ -388,10 +514,18 @@ struct Server::Impl {
                 if (const auto* t = c.as_table(); t && t->contains("spectrum"))
                     doc.fail(t->get("spectrum"), "component.spectrum",
                              "names a file on disk, which a recipe loaded in the page may not (start lampwright serve with the file instead)");
-        if (is_layer_design(doc)) doc.fail(nullptr, "layer", "an LED layer design: the page works on blend recipes");
-        Recipe r = recipe_from_toml(doc, config.phosphor_folders);
-        {
+        if (const auto* pump = root.get_as<toml::table>("pump"); pump && pump->contains("spectrum"))
+            doc.fail(pump->get("spectrum"), "pump.spectrum",
+                     "names a file on disk, which a design loaded in the page may not (start lampwright serve with the file instead)");
+        if (is_layer_design(doc)) {
+            LayerDesign d = layer_design_from_toml(doc, config.phosphor_folders);
             std::lock_guard lock(state_mutex);
+            layer = std::move(d);
+            notes.clear();
+        } else {
+            Recipe r = recipe_from_toml(doc, config.phosphor_folders);
+            std::lock_guard lock(state_mutex);
+            layer.reset();
             base = r.blend;
             notes = r.notes;
         }
@@ -409,7 +543,7 @@ struct Server::Impl {
         } catch (const InputError& e) {
             res.status = 422;
             res.set_content(dump_json(input_error_json(e), -1), kJson);
-        } catch (const json::exception& e) {
+        } catch (const json::parse_error& e) {
             res.status = 400;
             res.set_content(dump_json(error_json(std::string("the request is not valid JSON: ") + e.what()), -1), kJson);
         } catch (const std::exception& e) {

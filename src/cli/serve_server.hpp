@@ -9,6 +9,7 @@
 // the page itself; bodies are limited in size and requests in rate; no path on the file system is
 // taken from a request (a recipe comes as text through the recipe parser, and may not name files).
 #include "lampwright/core/embedded_data.hpp"
+#include "lampwright/led/layer.hpp"
 #include "lampwright/phosphor/recipe.hpp"
 
 #include <cstddef>
@@ -29,6 +30,7 @@ struct ServerConfig {
     std::string host = "127.0.0.1";
     int port = 0;                                // 0: any free port (ServerHandle::port tells which)
     std::optional<Recipe> recipe;                // the recipe the page opens with (none: an empty blend)
+    std::optional<LayerDesign> design;           // or an LED layer design (loadings and thickness)
     std::vector<std::string> phosphor_folders;   // --phosphors: the library the page offers
     std::size_t max_body_bytes = 1 << 20;        // larger bodies get 413
     int max_requests_per_second = 200;           // beyond: 429 (a debounced page sends a few a second)

@@ -155,7 +155,7 @@ def main():
         # One slider move, checked against the command line on the same fractions.
         after = move("Y2O3:Eu3+", 0.5, True)
         assert (after["u"], after["v"]) != (start["u"], start["v"]), "the u'v' readout did not change"
-        fractions = driver.execute_script("return page.components.map(c => [c.id, c.mass_fraction])")
+        fractions = driver.execute_script("return page.components.map(c => [c.id, c.value])")
         text = 'name = "T8 tri-band 4000 K (line 2)"\nexcitation_nm = 253.7\n'
         for pid, w in fractions:
             text += '\n[[component]]\nphosphor = "%s"\nmass_fraction = %r\n' % (pid, w)

@@ -37,6 +37,8 @@ struct LayerFitResult {
     int evaluations = 0;
 };
 
-LayerFitResult fit_layer(const LayerFitProblem& problem, int max_evaluations = 3000);
+// `progress` (optimiser.hpp) is asked before each start of the search onto the target; false stops
+// the fit with FitCancelled.
+LayerFitResult fit_layer(const LayerFitProblem& problem, int max_evaluations = 3000, const FitProgress& progress = {});
 
 }  // namespace lampwright

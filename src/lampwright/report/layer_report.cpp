@@ -52,6 +52,12 @@ nlohmann::ordered_json layer_json(const LayerEvaluation& rep) {
     return j;
 }
 
+nlohmann::ordered_json layer_document_json(const LayerEvaluation& rep) {
+    auto j = layer_json(rep);
+    add_fidelity_summary_json(j, rep.operating.assessment);
+    return j;
+}
+
 std::string layer_text(const LayerEvaluation& rep) {
     const auto& d = rep.design;
     const auto& r = rep.operating;

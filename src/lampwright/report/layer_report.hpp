@@ -13,6 +13,9 @@ namespace lampwright {
 std::vector<std::string> layer_columns();
 std::vector<std::string> layer_values(const LayerEvaluation& r);
 nlohmann::ordered_json layer_json(const LayerEvaluation& r);
+// The whole document of `layer --format json`: layer_json with Rf and Rg at the end (also the
+// "layer" object of lampwright serve's evaluations).
+nlohmann::ordered_json layer_document_json(const LayerEvaluation& r);
 std::string layer_text(const LayerEvaluation& r);
 // The photobiological caution, or "" when the leak is negligible or the pump is not UV/violet.
 std::string layer_caution(const LayerEvaluation& r);

@@ -4,6 +4,7 @@
 #include "lampwright/colour/temperature.hpp"
 #include "lampwright/report/assessment_report.hpp"
 #include "lampwright/report/blend_report.hpp"
+#include "lampwright/report/layer_report.hpp"
 #include "lampwright/report/qc_report.hpp"
 #include "lampwright/report/svg_plot.hpp"
 
@@ -48,61 +49,90 @@ QcSpec region_spec(const Target& t, double tolerance_uv_prime) {
 
 }  // namespace
 
+namespace {
+
+// The parts of a light stacked as filled bands (Okabe-Ito colours in order, the last part grey
+// when `last_grey`), the total as a black line; y scaled to `y_max` (a mercury line above it is clipped).
+std::string stacked_spectrum_svg(const std::vector<std::string>& labels, const std::vector<std::vector<double>>& parts,
+                                 const std::vector<double>& total, double y_max, bool last_grey, const std::string& y_label) {
+    std::vector<double> xs, base(total.size(), 0.0);
+    for (int l = kChartFirstNm; l <= kChartLastNm; l += kChartStepNm) xs.push_back(l);
+    SvgOverlay ov;
+    ov.id = "spectrum-chart";
+    ov.legend_width = 190;
+    constexpr int kWidth = 700, kHeight = 340;
+    const SvgPlotArea area = svg_plot_area(kWidth + ov.legend_width, kHeight, ov.legend_width);
+    std::string legend;
+    for (std::size_t i = 0; i < parts.size(); ++i) {
+        const std::string colour = last_grey && i + 1 == parts.size() ? kLinesColour : kStackColours[i % kStackColours.size()];
+        SvgPolygon p;
+        for (std::size_t k = 0; k < xs.size(); ++k) p.x.push_back(xs[k]), p.y.push_back(base[k] + parts[i][k]);
+        for (std::size_t k = xs.size(); k-- > 0;) p.x.push_back(xs[k]), p.y.push_back(base[k]);
+        for (std::size_t k = 0; k < xs.size(); ++k) base[k] += parts[i][k];
+        p.fill = colour;
+        p.stroke = colour;
+        p.stroke_width = 0.5;
+        p.fill_opacity = 0.85;
+        p.title = labels[i];
+        ov.polygons.push_back(std::move(p));
+        const int y = area.top + 14 + 18 * static_cast<int>(i);
+        const std::string& label = labels[i];
+        legend += fmt::format(R"(<rect x="{}" y="{}" width="12" height="12" fill="{}"/><text x="{}" y="{}" font-size="11">{}</text>)", area.right + 12,
+                              y - 10, colour, area.right + 30, y, xml_escape(label.size() > 26 ? label.substr(0, 25) + "…" : label));
+    }
+    ov.pixel_svg = legend;
+    SvgAxes axes{"Spectrum by component", "wavelength (nm)", y_label, static_cast<double>(kChartFirstNm), static_cast<double>(kChartLastNm), 0.0,
+                 y_max > 0 ? y_max : 1.0, kWidth + ov.legend_width, kHeight};
+    return svg_chart(axes, {SvgSeries{"", xs, total, "#000000", false}}, ov);
+}
+
+std::vector<double> on_chart_grid(const Spectrum& s) {
+    std::vector<double> v;
+    for (int l = kChartFirstNm; l <= kChartLastNm; l += kChartStepNm) v.push_back(value_at(s, l));
+    return v;
+}
+
+}  // namespace
+
 std::string blend_stack_svg(const BlendInput& in, const BlendResult& r) {
     // Each component's part: its photon share times its light per unit share (blend.hpp,
     // BlendBasis), scaled so the parts add up to the phosphors' light of evaluate_blend; the rest
     // of the total is the mercury lines or the leaked pump.
     const BlendBasis basis = blend_basis(in);
     const std::vector<double> shares = photon_shares(basis, normalised_mass_fractions(in));
-    std::vector<int> nm;
-    for (int l = kChartFirstNm; l <= kChartLastNm; l += kChartStepNm) nm.push_back(l);
-    std::vector<std::vector<double>> parts(shares.size(), std::vector<double>(nm.size()));
+    const std::vector<double> total = on_chart_grid(r.spectrum), phosphors = on_chart_grid(r.phosphor_spectrum);
+    std::vector<std::vector<double>> parts;
+    std::vector<std::string> labels;
     double parts_sum = 0, phosphor_sum = 0;
-    for (std::size_t k = 0; k < nm.size(); ++k) {
-        for (std::size_t i = 0; i < shares.size(); ++i) parts_sum += parts[i][k] = shares[i] * value_at(basis.phosphor_light[i], nm[k]);
-        phosphor_sum += value_at(r.phosphor_spectrum, nm[k]);
+    for (std::size_t i = 0; i < shares.size(); ++i) {
+        parts.push_back(on_chart_grid(basis.phosphor_light[i]));
+        for (double& v : parts.back()) parts_sum += v *= shares[i];
+        labels.push_back(in.components[i].label);
     }
+    for (double v : phosphors) phosphor_sum += v;
     const double scale = parts_sum > 0 ? phosphor_sum / parts_sum : 0.0;
-    double y_max = 0;
-    std::vector<double> xs(nm.begin(), nm.end()), total(nm.size()), base(nm.size(), 0.0);
-    for (std::size_t k = 0; k < nm.size(); ++k) {
-        total[k] = value_at(r.spectrum, nm[k]);
-        y_max = std::max(y_max, value_at(r.phosphor_spectrum, nm[k]));
-    }
+    for (auto& p : parts)
+        for (double& v : p) v *= scale;
     // Scaled to the phosphors' bands: a mercury line may reach far above them and is clipped.
-    y_max = y_max > 0 ? 1.15 * y_max : 1.0;
-    SvgOverlay ov;
-    ov.id = "spectrum-chart";
-    ov.legend_width = 190;
-    std::string legend;
-    const SvgPlotArea area = svg_plot_area(700 + ov.legend_width, 340, ov.legend_width);
-    auto add_band = [&](const std::vector<double>& top_part, const std::string& colour, const std::string& label, std::size_t index) {
-        SvgPolygon p;
-        for (std::size_t k = 0; k < nm.size(); ++k) p.x.push_back(xs[k]), p.y.push_back(base[k] + top_part[k]);
-        for (std::size_t k = nm.size(); k-- > 0;) p.x.push_back(xs[k]), p.y.push_back(base[k]);
-        for (std::size_t k = 0; k < nm.size(); ++k) base[k] += top_part[k];
-        p.fill = colour;
-        p.stroke = colour;
-        p.stroke_width = 0.5;
-        p.fill_opacity = 0.85;
-        p.title = label;
-        ov.polygons.push_back(std::move(p));
-        const int y = area.top + 14 + 18 * static_cast<int>(index);
-        legend += fmt::format(R"(<rect x="{}" y="{}" width="12" height="12" fill="{}"/><text x="{}" y="{}" font-size="11">{}</text>)", area.right + 12,
-                              y - 10, colour, area.right + 30, y, xml_escape(label.size() > 26 ? label.substr(0, 25) + "…" : label));
-    };
-    for (std::size_t i = 0; i < parts.size(); ++i) {
-        for (double& v : parts[i]) v *= scale;
-        add_band(parts[i], kStackColours[i % kStackColours.size()], in.components[i].label, i);
+    const double y_max = 1.15 * *std::max_element(phosphors.begin(), phosphors.end());
+    std::vector<double> rest(total.size());
+    for (std::size_t k = 0; k < total.size(); ++k) rest[k] = std::max(0.0, total[k] - phosphors[k]);
+    const bool any_rest = std::any_of(rest.begin(), rest.end(), [&](double v) { return v > 1e-6 * y_max; });
+    if (any_rest) {
+        parts.push_back(rest);
+        labels.push_back(in.excitation.kind == Excitation::Kind::mercury ? "mercury lines" : "leaked pump");
     }
-    std::vector<double> rest(nm.size());
-    for (std::size_t k = 0; k < nm.size(); ++k) rest[k] = std::max(0.0, total[k] - base[k]);
-    if (std::any_of(rest.begin(), rest.end(), [&](double v) { return v > 1e-6 * y_max; }))
-        add_band(rest, kLinesColour, in.excitation.kind == Excitation::Kind::mercury ? "mercury lines" : "leaked pump", parts.size());
-    ov.pixel_svg = legend;
-    SvgAxes axes{"Spectrum by component", "wavelength (nm)", "spectral power (W/nm per W absorbed)", static_cast<double>(kChartFirstNm),
-                 static_cast<double>(kChartLastNm), 0.0, y_max, 700 + ov.legend_width, 340};
-    return svg_chart(axes, {SvgSeries{"", xs, total, "#000000", false}}, ov);
+    return stacked_spectrum_svg(labels, parts, total, y_max, any_rest, "spectral power (W/nm per W absorbed)");
+}
+
+std::string layer_stack_svg(const LayerEvaluation& e) {
+    // The layer model gives the converted light as a whole and the leaked pump (led/layer.hpp).
+    const LayerResult& r = e.operating;
+    const std::vector<double> total = on_chart_grid(r.spectrum);
+    const std::vector<std::vector<double>> parts{on_chart_grid(r.converted_spectrum), on_chart_grid(r.leaked_pump_spectrum)};
+    const double y_max = 1.1 * *std::max_element(total.begin(), total.end());
+    return stacked_spectrum_svg({"converted light", "leaked pump"}, parts, total, y_max, true,
+                                fmt::format("spectral power (W/nm at {:g} W pump)", e.design.pump_power_W));
 }
 
 std::string target_uv_svg(const Target& t, double tolerance_uv_prime, const Assessment& blend) {
@@ -197,6 +227,16 @@ nlohmann::ordered_json targets_catalogue_json() {
     // The keys of fit --maximize (parse_fit_objective), "change" the default.
     for (const char* key : {"change", "ra", "r9", "ra-r9", "ler", "efficacy", "rf"})
         obj.push_back({{"key", key}, {"label", fit_objective_name(parse_fit_objective(key))}});
+    return j;
+}
+
+nlohmann::ordered_json serve_layer_evaluation_json(const LayerEvaluation& e, const Target& t, double tolerance_uv_prime) {
+    nlohmann::ordered_json j;
+    j["layer"] = layer_document_json(e);
+    j["target"] = target_json(t, tolerance_uv_prime, e.operating.assessment);
+    j["charts"] = {{"spectrum_svg", layer_stack_svg(e)},
+                   {"uv_svg", target_uv_svg(t, tolerance_uv_prime, e.operating.assessment)},
+                   {"cvg_svg", colour_vector_graphic_svg(e.operating.assessment, "cvg-chart")}};
     return j;
 }
 

@@ -6,6 +6,7 @@
 // the page chooses from. Every number shown on the page comes from here; the page computes none.
 #include "lampwright/design/optimiser.hpp"
 #include "lampwright/design/targets.hpp"
+#include "lampwright/led/layer.hpp"
 #include "lampwright/phosphor/blend.hpp"
 #include "lampwright/phosphor/phosphor.hpp"
 
@@ -19,6 +20,8 @@ namespace lampwright {
 // The light of a blend split by component (each phosphor's part of the spectrum) plus the mercury
 // lines or the leaked pump, stacked, with the total as a line: an SVG chart in W/nm per W absorbed.
 std::string blend_stack_svg(const BlendInput& in, const BlendResult& r);
+// The same for an LED layer at its operating temperature: converted light and leaked pump (W/nm).
+std::string layer_stack_svg(const LayerEvaluation& e);
 
 // The CIE 1976 u'v' diagram around the target: spectrum and Planckian locus with CCT ticks,
 // isotherms (Duv -0.02 to +0.02) at round temperatures, the target's tolerance region (the MacAdam
@@ -37,5 +40,8 @@ nlohmann::ordered_json targets_catalogue_json();
 // One evaluation of the page: {"blend": blend_document_json, "target": target_json,
 // "charts": {"spectrum_svg", "uv_svg", "cvg_svg"}}.
 nlohmann::ordered_json serve_evaluation_json(const BlendInput& in, const BlendResult& r, const Target& t, double tolerance_uv_prime);
+// An LED layer design: {"layer": layer_document_json (as `layer --format json`), "target" (at the
+// operating temperature), "charts"}.
+nlohmann::ordered_json serve_layer_evaluation_json(const LayerEvaluation& e, const Target& t, double tolerance_uv_prime);
 
 }  // namespace lampwright
