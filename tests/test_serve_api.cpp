@@ -7,6 +7,9 @@
 #include "cli/serve_server.hpp"
 #include "lampwright/design/optimiser.hpp"
 #include "lampwright/io/toml_access.hpp"
+#include "lampwright/led/layer_design.hpp"
+#include "lampwright/led/layer_fit.hpp"
+#include "lampwright/report/layer_report.hpp"
 #include "lampwright/phosphor/recipe.hpp"
 #include "lampwright/report/blend_report.hpp"
 
@@ -240,4 +243,53 @@ TEST_CASE("optimiser: the progress callback sees every start and can stop the fi
     };
     CHECK_THROWS_AS(solve(p, stop), FitCancelled);
     CHECK(seen == 3);
+}
+
+TEST_CASE("serve API: an LED layer design is evaluated as layer --format json, exported as a design file") {
+    serve::ServerConfig cfg;
+    const std::string path = std::string(LAMPWRIGHT_SOURCE_DIR) + "/examples/layers/module395_150um.toml";
+    cfg.design = load_layer_design(path);
+    RunningServer s(std::move(cfg));
+    auto c = s.client();
+    const json st = json::parse(c.Get("/api/state")->body);
+    CHECK(st["recipe"]["kind"] == "layer");
+    CHECK(st["recipe"]["thickness_um"] == 150);
+    json comps = json::array();
+    for (const auto& k : st["recipe"]["components"]) comps.push_back({{"id", k["id"]}, {"loading", k["loading"]}});
+    comps[0]["loading"] = 0.1;  // a slider moved
+    const json body{{"components", comps}, {"thickness_um", 120}, {"target", {{"kind", "cct"}, {"cct_K", 4000}}}};
+    int status = 0;
+    const json answer = post(c, "/api/evaluate", body, &status);
+    REQUIRE(status == 200);
+    LayerDesign d = load_layer_design(path);
+    d.components[0].loading = 0.1;
+    d.thickness_um = 120;
+    CHECK(answer["layer"] == layer_document_json(evaluate_layer_design(d)));
+    const json exported = post(c, "/api/recipe/export", body, &status);
+    REQUIRE(status == 200);
+    const LayerDesign back = layer_design_from_toml(TomlDoc(exported["toml"].get<std::string>(), "exported"));
+    CHECK(back.thickness_um == 120);
+    CHECK(back.components[0].loading == 0.1);
+    // Blend-only constraints are refused for a layer fit.
+    json fit = body;
+    fit["min_rf"] = 80;
+    const json refused = post(c, "/api/fit", fit, &status);
+    CHECK(status == 400);
+    CHECK(refused["error"].get<std::string>().find("min_rf") != std::string::npos);
+}
+
+TEST_CASE("layer fit: the progress callback is asked before the first start and can stop the fit") {
+    LayerFitProblem p;
+    p.design = load_layer_design(std::string(LAMPWRIGHT_SOURCE_DIR) + "/examples/layers/module395_150um.toml");
+    p.target = target_cct(4000);
+    // Three loadings: the start and each loading halved and doubled, 1 + 2 x 3 = 7 starts (layer_fit.cpp).
+    std::vector<std::pair<int, int>> calls;
+    CHECK_THROWS_AS(fit_layer(p, 3000,
+                              [&](int done, int total) {
+                                  calls.emplace_back(done, total);
+                                  return false;
+                              }),
+                    FitCancelled);
+    REQUIRE(calls.size() == 1);
+    CHECK(calls.front() == std::pair{0, 7});
 }

@@ -230,6 +230,6 @@ def main():
 if __name__ == "__main__":
     try:
         sys.exit(main())
-    except (AssertionError, TimeoutError) as e:
-        print("FAIL: %s" % e)
+    except Exception as e:  # an assertion, the deadline, or selenium's own timeout or error
+        print("FAIL: %s: %s" % (type(e).__name__, e))
         sys.exit(1)

@@ -54,7 +54,8 @@ namespace {
 // The parts of a light stacked as filled bands (Okabe-Ito colours in order, the last part grey
 // when `last_grey`), the total as a black line; y scaled to `y_max` (a mercury line above it is clipped).
 std::string stacked_spectrum_svg(const std::vector<std::string>& labels, const std::vector<std::vector<double>>& parts,
-                                 const std::vector<double>& total, double y_max, bool last_grey, const std::string& y_label) {
+                                 const std::vector<double>& total, double y_max, bool last_grey, const std::string& title,
+                                 const std::string& y_label) {
     std::vector<double> xs, base(total.size(), 0.0);
     for (int l = kChartFirstNm; l <= kChartLastNm; l += kChartStepNm) xs.push_back(l);
     SvgOverlay ov;
@@ -81,7 +82,7 @@ std::string stacked_spectrum_svg(const std::vector<std::string>& labels, const s
                               y - 10, colour, area.right + 30, y, xml_escape(label.size() > 26 ? label.substr(0, 25) + "…" : label));
     }
     ov.pixel_svg = legend;
-    SvgAxes axes{"Spectrum by component", "wavelength (nm)", y_label, static_cast<double>(kChartFirstNm), static_cast<double>(kChartLastNm), 0.0,
+    SvgAxes axes{title, "wavelength (nm)", y_label, static_cast<double>(kChartFirstNm), static_cast<double>(kChartLastNm), 0.0,
                  y_max > 0 ? y_max : 1.0, kWidth + ov.legend_width, kHeight};
     return svg_chart(axes, {SvgSeries{"", xs, total, "#000000", false}}, ov);
 }
@@ -122,7 +123,7 @@ std::string blend_stack_svg(const BlendInput& in, const BlendResult& r) {
         parts.push_back(rest);
         labels.push_back(in.excitation.kind == Excitation::Kind::mercury ? "mercury lines" : "leaked pump");
     }
-    return stacked_spectrum_svg(labels, parts, total, y_max, any_rest, "spectral power (W/nm per W absorbed)");
+    return stacked_spectrum_svg(labels, parts, total, y_max, any_rest, "Spectrum by component", "spectral power (W/nm per W absorbed)");
 }
 
 std::string layer_stack_svg(const LayerEvaluation& e) {
@@ -131,7 +132,7 @@ std::string layer_stack_svg(const LayerEvaluation& e) {
     const std::vector<double> total = on_chart_grid(r.spectrum);
     const std::vector<std::vector<double>> parts{on_chart_grid(r.converted_spectrum), on_chart_grid(r.leaked_pump_spectrum)};
     const double y_max = 1.1 * *std::max_element(total.begin(), total.end());
-    return stacked_spectrum_svg({"converted light", "leaked pump"}, parts, total, y_max, true,
+    return stacked_spectrum_svg({"converted light", "leaked pump"}, parts, total, y_max, true, "Spectrum at the operating temperature",
                                 fmt::format("spectral power (W/nm at {:g} W pump)", e.design.pump_power_W));
 }
 
