@@ -48,6 +48,10 @@ formulation page"; the API in docs/serve-api.md). Ctrl-C stops the server.
     if (host.empty() || host.size() > 64 || host.find_first_not_of("0123456789abcdefABCDEF.:") != std::string::npos)
         throw UsageError{fmt::format("serve: --host must be a numeric IPv4 or IPv6 address of this machine, not '{}'", host)};
 
+    // Every request's Host header must name the address listened on (DNS rebinding), so a
+    // wildcard address, which no browser puts in a Host header, would refuse every request.
+    if (host == "0.0.0.0" || host == "::" || host == "[::]")
+        throw UsageError{"serve: --host takes one address of this machine (the page answers to http://ADDRESS:PORT/ only), not the wildcard " + host};
     serve::ServerConfig config;
     config.host = host;
     config.port = port;

@@ -177,45 +177,52 @@ struct Server::Impl {
         return ++window_count <= config.max_requests_per_second;
     }
 
-    // The components of a request, [{"id", "mass_fraction"}], as a blend on the base recipe: a
-    // component the recipe has keeps its data (overrides, limits, grain data); any other id is a
-    // library phosphor. Components at zero are left out (the model needs positive fractions), or
-    // with `keep_zero` kept at `zero_as` (a fit's starting point).
-    BlendInput blend_of(const json& body, std::vector<std::string>* ids = nullptr, double zero_as = 0) {
+    // The components of a request, [{"id", <amount_key>}], as the model's components: one the
+    // recipe or design has keeps its data (overrides, limits, grain data); any other id is a
+    // library phosphor. Components at zero are left out (the models need positive amounts), or
+    // kept at `zero_as` when it is above zero (a fit's starting point).
+    template <class Component>
+    std::vector<Component> components_of(const json& body, const char* amount_key, double max_amount, double Component::*amount,
+                                         const std::vector<Component>& known, std::vector<std::string>* ids, double zero_as) {
         const json& comps = member(body, "components");
-        if (!comps.is_array()) throw ApiError{400, "'components' must be an array of {\"id\", \"mass_fraction\"}"};
+        if (!comps.is_array()) throw ApiError{400, fmt::format("'components' must be an array of {{\"id\", \"{}\"}}", amount_key)};
         if (comps.size() > kMaxComponents) throw ApiError{400, fmt::format("at most {} components", kMaxComponents)};
-        BlendInput b;
-        {
-            std::lock_guard lock(state_mutex);
-            b = base;
-        }
-        const std::vector<BlendComponent> known = b.components;
-        b.components.clear();
+        std::vector<Component> out;
         for (const auto& c : comps) {
             const std::string id = text(c, "id", kMaxIdLength);
-            double w = number(c, "mass_fraction", 0, 1e6);
+            double w = number(c, amount_key, 0, max_amount);
             if (ids) ids->push_back(id);
             if (!(w > 0)) {
                 if (!(zero_as > 0)) continue;
                 w = zero_as;
             }
-            BlendComponent bc;
-            const auto it = std::find_if(known.begin(), known.end(), [&](const BlendComponent& k) { return k.label == id; });
+            Component k;
+            const auto it = std::find_if(known.begin(), known.end(), [&](const Component& x) { return x.label == id; });
             if (it != known.end()) {
-                bc = *it;
+                k = *it;
             } else if (const Phosphor* p = library.try_find(id)) {
-                bc.phosphor = *p;
-                bc.label = p->id;
+                k.phosphor = *p;
+                k.label = p->id;
             } else {
                 throw ApiError{400, fmt::format("unknown phosphor '{}' (GET /api/state lists the library)", id)};
             }
-            for (const auto& other : b.components)
-                if (other.label == bc.label) throw ApiError{400, fmt::format("'{}' is listed twice", id)};
-            bc.mass_fraction = w;
-            b.components.push_back(std::move(bc));
+            for (const auto& other : out)
+                if (other.label == k.label) throw ApiError{400, fmt::format("'{}' is listed twice", id)};
+            k.*amount = w;
+            out.push_back(std::move(k));
         }
-        if (b.components.empty()) throw ApiError{422, "no component has a mass fraction above zero"};
+        if (out.empty()) throw ApiError{422, fmt::format("no component has a {} above zero", amount_key)};
+        return out;
+    }
+
+    // A blend recipe: [{"id", "mass_fraction"}] (any positive scale) on the base recipe.
+    BlendInput blend_of(const json& body, std::vector<std::string>* ids = nullptr, double zero_as = 0) {
+        BlendInput b;
+        {
+            std::lock_guard lock(state_mutex);
+            b = base;
+        }
+        b.components = components_of(body, "mass_fraction", 1e6, &BlendComponent::mass_fraction, b.components, ids, zero_as);
         return b;
     }
 
@@ -224,39 +231,12 @@ struct Server::Impl {
         return layer;
     }
 
-    // The same for an LED layer: [{"id", "loading"}] (phosphor mass fraction of the layer, 0-0.95)
-    // and "thickness_um" (default: the design's).
+    // An LED layer: [{"id", "loading"}] (phosphor mass fraction of the layer, 0-0.95) and
+    // "thickness_um" (default: the design's).
     LayerDesign layer_of(const json& body, const LayerDesign& start, std::vector<std::string>* ids = nullptr, double zero_as = 0) {
-        const json& comps = member(body, "components");
-        if (!comps.is_array()) throw ApiError{400, "'components' must be an array of {\"id\", \"loading\"}"};
-        if (comps.size() > kMaxComponents) throw ApiError{400, fmt::format("at most {} components", kMaxComponents)};
         LayerDesign d = start;
         d.thickness_um = number(body, "thickness_um", 1, 5000, start.thickness_um);
-        d.components.clear();
-        for (const auto& c : comps) {
-            const std::string id = text(c, "id", kMaxIdLength);
-            double w = number(c, "loading", 0, 0.95);
-            if (ids) ids->push_back(id);
-            if (!(w > 0)) {
-                if (!(zero_as > 0)) continue;
-                w = zero_as;
-            }
-            LayerComponent lc;
-            const auto it = std::find_if(start.components.begin(), start.components.end(), [&](const LayerComponent& k) { return k.label == id; });
-            if (it != start.components.end()) {
-                lc = *it;
-            } else if (const Phosphor* p = library.try_find(id)) {
-                lc.phosphor = *p;
-                lc.label = p->id;
-            } else {
-                throw ApiError{400, fmt::format("unknown phosphor '{}' (GET /api/state lists the library)", id)};
-            }
-            for (const auto& other : d.components)
-                if (other.label == lc.label) throw ApiError{400, fmt::format("'{}' is listed twice", id)};
-            lc.loading = w;
-            d.components.push_back(std::move(lc));
-        }
-        if (d.components.empty()) throw ApiError{422, "no component has a loading above zero"};
+        d.components = components_of(body, "loading", 0.95, &LayerComponent::loading, start.components, ids, zero_as);
         return d;
     }
 
