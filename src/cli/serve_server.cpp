@@ -565,7 +565,7 @@ struct Server::Impl {
                            "frame-ancestors 'none'; form-action 'none'");
             return httplib::Server::HandlerResponse::Unhandled;
         });
-        auto file = [this](const char* name, const char* type) {
+        auto file = [](const char* name, const char* type) {
             return [name, type](const httplib::Request&, httplib::Response& res) {
                 const EmbeddedFile* f = asset(name);
                 if (!f) {

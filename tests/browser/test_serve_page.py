@@ -3,7 +3,8 @@
 python3-selenium): move a slider, check that the u'v' readout and Ra are what `lampwright blend`
 gives for the same fractions, fit, save the recipe, run `lampwright blend` on the saved file and
 compare, take a screenshot and check it is not blank, and print the slider-to-redraw time measured
-in the browser (performance.now() from the input event to the drawn answer).
+in the browser (performance.now() from the input event to the drawn answer); then an LED layer
+design: move its thickness slider and check the readouts against `lampwright layer`.
 
 Usage: test_serve_page.py LAMPWRIGHT_BINARY SOURCE_DIR [SCREENSHOT.png]
 Exit 0 pass, 1 fail, 77 skipped (a browser piece is missing). Loopback only, bounded in time.
@@ -79,14 +80,34 @@ def png_colours(data):
     return len(colours)
 
 
-def blend_json(binary, recipe_text, folder):
+def blend_json(binary, recipe_text, folder, command="blend"):
+    """`lampwright blend` (or `layer`) --format json on the text written to a file."""
     path = os.path.join(folder, "recipe_%d.toml" % time.monotonic_ns())
     with open(path, "w") as f:
         f.write(recipe_text)
-    out = subprocess.run([binary, "blend", path, "--format", "json"], capture_output=True, text=True, timeout=30)
+    out = subprocess.run([binary, command, path, "--format", "json"], capture_output=True, text=True, timeout=30)
     if out.returncode != 0:
-        raise AssertionError("lampwright blend failed on %s: %s" % (path, out.stderr))
+        raise AssertionError("lampwright %s failed on %s: %s" % (command, path, out.stderr))
     return json.loads(out.stdout)
+
+
+def start_server(binary, path):
+    """`lampwright serve PATH --port 0`, and the address it prints."""
+    server = subprocess.Popen([binary, "serve", path, "--port", "0"], stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+    line = server.stdout.readline()
+    m = re.search(r"http://127\.0\.0\.1:(\d+)/", line)
+    if not m:
+        server.kill()
+        raise AssertionError("serve printed no address: %r %s" % (line, server.stderr.read()))
+    return server, m.group(0)
+
+
+def stop_server(server):
+    server.send_signal(signal.SIGTERM)
+    try:
+        server.wait(timeout=10)
+    except subprocess.TimeoutExpired:
+        server.kill()
 
 
 def main():
@@ -112,14 +133,10 @@ def main():
     signal.alarm(DEADLINE_S)
     work = tempfile.mkdtemp(prefix="lampwright-browser-")
     recipe = os.path.join(source, "examples", "recipes", "triband_4000K.toml")
-    server = subprocess.Popen([binary, "serve", recipe, "--port", "0"], stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
-    driver = None
+    servers, driver = [], None
     try:
-        line = server.stdout.readline()
-        m = re.search(r"http://127\.0\.0\.1:(\d+)/", line)
-        if not m:
-            raise AssertionError("serve printed no address: %r %s" % (line, server.stderr.read() if server.poll() is not None else ""))
-        url = m.group(0)
+        server, url = start_server(binary, recipe)
+        servers.append(server)
         options = webdriver.ChromeOptions()
         options.binary_location = chromium
         for a in ("--headless=new", "--no-sandbox", "--disable-gpu", "--disable-dev-shm-usage", "--window-size=1400,1600",
@@ -213,17 +230,29 @@ def main():
         print("screenshot: %d bytes, %d distinct colours" % (len(png), n))
         logs = [l for l in driver.get_log("browser") if l["level"] == "SEVERE"]
         assert not logs, "browser errors: %s" % logs
+
+        # An LED layer design: the thickness slider, checked against `lampwright layer`.
+        design = os.path.join(source, "examples", "layers", "module395_150um.toml")
+        server, url = start_server(binary, design)
+        servers.append(server)
+        driver.get(url)
+        wait.until(lambda d: evaluations() >= 1 and not d.execute_script("return page.inFlight || page.pending"))
+        layer = move("thickness", 120, True)
+        with open(design) as f:
+            text = f.read()
+        assert "thickness_um = 150" in text
+        cli = blend_json(binary, text.replace("thickness_um = 150", "thickness_um = 120"), work, "layer")
+        assert (layer["u"], layer["v"], layer["ra"], layer["r9"]) == (cli["u_prime"], cli["v_prime"], cli["Ra"], cli["R9"]), (layer, cli)
+        print("layer thickness 120 um: u' %.5f v' %.5f Ra %.2f, as lampwright layer gives (redraw %.1f ms)"
+              % (layer["u"], layer["v"], layer["ra"], layer["redraw"]))
         print("PASS")
         return 0
     finally:
         signal.alarm(0)
         if driver is not None:
             driver.quit()
-        server.send_signal(signal.SIGTERM)
-        try:
-            server.wait(timeout=10)
-        except subprocess.TimeoutExpired:
-            server.kill()
+        for server in servers:
+            stop_server(server)
         shutil.rmtree(work, ignore_errors=True)
 
 
