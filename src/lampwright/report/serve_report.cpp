@@ -146,9 +146,8 @@ std::string target_uv_svg(const Target& t, double tolerance_uv_prime, const Asse
     const UV b = blend.uv_prime;
     if (std::isfinite(b.u) && std::isfinite(b.v)) r = std::max(r, std::min(0.03, 1.2 * std::max(std::abs(b.u - aim.u), std::abs(b.v - aim.v))));
     constexpr int kWidth = 460, kHeight = 460;
-    const SvgPlotArea area = svg_plot_area(kWidth, kHeight);
-    const double pw = area.right - area.left, ph = area.bottom - area.top, per_px = 2 * r / std::min(pw, ph);
-    const double u_min = aim.u - pw * per_px / 2, u_max = aim.u + pw * per_px / 2, v_min = aim.v - ph * per_px / 2, v_max = aim.v + ph * per_px / 2;
+    const SvgWindow w = svg_square_window(aim.u, aim.v, r, kWidth, kHeight);
+    const double u_min = w.x_min, u_max = w.x_max, v_min = w.y_min, v_max = w.y_max;
 
     SvgOverlay ov;
     ov.id = "uv-chart";

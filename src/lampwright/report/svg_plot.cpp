@@ -249,6 +249,12 @@ Frame frame_for(const SvgAxes& axes, const std::vector<SvgSeries>& series, const
 
 }  // namespace
 
+SvgWindow svg_square_window(double x, double y, double half, int width, int height, int legend_width) {
+    const SvgPlotArea area = svg_plot_area(width, height, legend_width);
+    const double pw = area.right - area.left, ph = area.bottom - area.top, per_px = 2 * half / std::min(pw, ph);
+    return {x - pw * per_px / 2, x + pw * per_px / 2, y - ph * per_px / 2, y + ph * per_px / 2, per_px};
+}
+
 std::string series_colour(std::size_t i) {
     static constexpr std::array<const char*, 8> c{"#1f77b4", "#d62728", "#2ca02c", "#9467bd", "#ff7f0e", "#17becf", "#8c564b", "#e377c2"};
     return c[i % c.size()];
