@@ -404,7 +404,7 @@ async function pollFit(job) {
   finishFit();
   const msg = $("fit-message");
   if (s.state === "cancelled") {
-    msg.textContent = "fit cancelled; the recipe is unchanged";
+    msg.textContent = "fit cancelled; the sliders are unchanged";
     return;
   }
   if (s.state === "failed") {
