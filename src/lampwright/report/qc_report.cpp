@@ -228,9 +228,8 @@ std::string uv_diagram_svg(const QcRun& run) {
     if (std::isfinite(cen.u)) far = std::max({far, std::abs(cen.u - centre.u), std::abs(cen.v - centre.v)});
     const double r = std::max(r0, std::min(far * 1.12, 3 * r0));
     const SvgPlotArea area = svg_plot_area(kWidth, kHeight, kLegend);
-    const double pw = area.right - area.left, ph = area.bottom - area.top, per_px = 2 * r / std::min(pw, ph);
-    const double u_min = centre.u - pw * per_px / 2, u_max = centre.u + pw * per_px / 2;
-    const double v_min = centre.v - ph * per_px / 2, v_max = centre.v + ph * per_px / 2;
+    const SvgWindow w = svg_square_window(centre.u, centre.v, r, kWidth, kHeight, kLegend);
+    const double per_px = w.per_pixel, u_min = w.x_min, u_max = w.x_max, v_min = w.y_min, v_max = w.y_max;
 
     SvgOverlay ov;
     ov.id = "uv-diagram";
