@@ -395,6 +395,38 @@ TEST_CASE("optimiser: infeasible targets are reported plainly, with the nearest 
     }
 }
 
+TEST_CASE("optimiser: a target outside the chromaticities the components can reach is refused at once, with the closest reachable point") {
+    // X, Y, Z of a blend are linear in the photon shares (README "Blend physics"), so its
+    // chromaticity lies in the convex hull of the components' own chromaticities (Grassmann's
+    // laws of additive colour mixture; common practice, no source). A target well outside needs
+    // no search; the closest reachable point is on the hull, no farther than any component's own
+    // colour, and the blend reported reaches it.
+    FitProblem p = fit_problem("multiband_5000K.toml", target_xy(0.12, 0.75), FitObjective::ra);
+    const FitResult r = solve(p);
+    CHECK_FALSE(r.feasible);
+    CHECK(r.method.find("reach test") != std::string::npos);
+    CHECK(r.starts == 0);
+    REQUIRE(r.nearest_reachable);
+    // (the reported fractions are rounded to 6 decimals: the blend lands within 1e-4 of the point)
+    CHECK(r.result.assessment.xy.x == doctest::Approx(r.nearest_reachable->x).epsilon(1e-4));
+    CHECK(r.result.assessment.xy.y == doctest::Approx(r.nearest_reachable->y).epsilon(1e-4));
+    const UV t = uv_1976_from_xy(p.target.xy), nu = uv_1976_from_xy(*r.nearest_reachable);
+    const double d_nearest = std::hypot(nu.u - t.u, nu.v - t.v);
+    for (const auto& c : p.blend.components) {
+        BlendInput one = p.blend;
+        one.components = {c};
+        one.components.front().mass_fraction = 1;
+        const UV cu = evaluate_blend(one).assessment.uv_prime;
+        CHECK(d_nearest <= std::hypot(cu.u - t.u, cu.v - t.v) + 1e-9);
+    }
+    // A saturated green far beyond the components (a point near the 520 nm end of the spectrum
+    // locus); a target the blend can reach is searched as before.
+    FitProblem inside = fit_problem("multiband_5000K.toml", target_cct(4000, 0.0), FitObjective::ra);
+    const FitResult ok = solve(inside);
+    CHECK(ok.feasible);
+    CHECK(ok.method.find("reach test") == std::string::npos);
+}
+
 TEST_CASE("optimiser: results are reproducible run to run") {
     // Deterministic starts and a deterministic solver (common practice, no source).
     FitProblem p = fit_problem("multiband_5000K.toml", target_ansi_c78377(4500), FitObjective::ra);

@@ -195,6 +195,94 @@ std::vector<double> mass_from_shares(const FastBlend& fb, const Eigen::Vector3d&
     return w;
 }
 
+// The chromaticities any blend of the components can reach: X, Y, Z are linear in the photon
+// shares (README "Blend physics"), so a blend's chromaticity lies in the convex hull of the
+// components' own chromaticities, whatever the fractions and limits. When the target is farther
+// from that hull than its tolerance, no blend meets it, and the search need not run (a necessary
+// condition only: inside the hull the limits may still forbid it). The distance is measured in the
+// target's own metric: MacAdam steps of its ellipse (a linear map of x, y, so the hull stays a
+// hull), else u'v' (a projective map of x, y, which keeps segments straight).
+struct Unreachable {
+    double ratio = 0;              // distance / tolerance (> 1)
+    Chromaticity nearest;          // the closest reachable chromaticity
+    std::vector<double> w;         // a blend of two components (or one) there
+};
+std::optional<Unreachable> outside_reach(const FitProblem& p, const FastBlend& fb) {
+    const std::size_t n = fb.size();
+    std::vector<Chromaticity> xy(n);
+    std::vector<double> sum(n);
+    for (std::size_t i = 0; i < n; ++i) {
+        const XYZ c = fb.component_xyz(i);
+        sum[i] = c.X + c.Y + c.Z;
+        if (!(sum[i] > 0)) return std::nullopt;
+        xy[i] = {c.X / sum[i], c.Y / sum[i]};
+    }
+    // Into the metric space: Cholesky of the ellipse's form (steps), or u'v' (tolerance).
+    double limit = p.tolerance_uv_prime;
+    auto to_metric = [&](const Chromaticity& c) -> std::array<double, 2> {
+        if (p.target.ellipse) {
+            const auto& e = *p.target.ellipse;
+            const double dx = c.x - e.centre.x, dy = c.y - e.centre.y;
+            const double l11 = std::sqrt(e.g11), l21 = e.g12 / l11, l22 = std::sqrt(std::max(0.0, e.g22 - l21 * l21));
+            return {l11 * dx + l21 * dy, l22 * dy};
+        }
+        const UV u = uv_1976_from_xy(c);
+        return {u.u, u.v};
+    };
+    if (p.target.ellipse) limit = p.target.ellipse_steps;
+    const auto t = to_metric(p.target.xy);
+    std::vector<std::array<double, 2>> m(n);
+    for (std::size_t i = 0; i < n; ++i) m[i] = to_metric(xy[i]);
+    auto cross = [](const std::array<double, 2>& a, const std::array<double, 2>& b, const std::array<double, 2>& c) {
+        return (b[0] - a[0]) * (c[1] - a[1]) - (b[1] - a[1]) * (c[0] - a[0]);
+    };
+    // Inside (or on) some triangle of vertices: inside the hull.
+    for (std::size_t i = 0; i < n; ++i)
+        for (std::size_t j = i + 1; j < n; ++j)
+            for (std::size_t k = j + 1; k < n; ++k) {
+                const double a = cross(m[i], m[j], t), b = cross(m[j], m[k], t), c = cross(m[k], m[i], t);
+                if ((a >= 0 && b >= 0 && c >= 0) || (a <= 0 && b <= 0 && c <= 0)) return std::nullopt;
+            }
+    // Outside: the nearest point of every segment (and vertex).
+    double best = std::numeric_limits<double>::infinity();
+    std::size_t bi = 0, bj = 0;
+    double btau = 0;
+    for (std::size_t i = 0; i < n; ++i)
+        for (std::size_t j = i; j < n; ++j) {
+            const double ex = m[j][0] - m[i][0], ey = m[j][1] - m[i][1], len2 = ex * ex + ey * ey;
+            const double tau = len2 > 0 ? std::clamp(((t[0] - m[i][0]) * ex + (t[1] - m[i][1]) * ey) / len2, 0.0, 1.0) : 0.0;
+            const double d = std::hypot(m[i][0] + tau * ex - t[0], m[i][1] + tau * ey - t[1]);
+            if (d < best) best = d, bi = i, bj = j, btau = tau;
+        }
+    // Well outside only: the search's own margins decide the edge cases.
+    if (!(best > 1.02 * limit)) return std::nullopt;
+    Unreachable u;
+    u.ratio = best / limit;
+    // The point at tau along the segment in the metric space lies at some tau' along it in x, y
+    // (a projective map keeps the segment); find it on the x, y segment by bisection on the metric
+    // distance along, then the shares that mix the two components' light there.
+    auto point = [&](double s) { return Chromaticity{xy[bi].x + s * (xy[bj].x - xy[bi].x), xy[bi].y + s * (xy[bj].y - xy[bi].y)}; };
+    double lo = 0, hi = 1;
+    const auto mi = m[bi], mj = m[bj];
+    const double len = std::hypot(mj[0] - mi[0], mj[1] - mi[1]);
+    for (int it = 0; it < 60 && len > 0; ++it) {
+        const double mid = (lo + hi) / 2;
+        const auto q = to_metric(point(mid));
+        (std::hypot(q[0] - mi[0], q[1] - mi[1]) / len < btau ? lo : hi) = mid;
+    }
+    const double tx = len > 0 ? (lo + hi) / 2 : 0.0;
+    u.nearest = point(tx);
+    // Chromaticity at x, y fraction tx between the two: shares s_i S_i : s_j S_j = (1 - tx) : tx.
+    std::vector<double> shares(n, 0.0);
+    shares[bi] += (1 - tx) / sum[bi];
+    shares[bj] += tx / sum[bj];
+    u.w.assign(n, 0.0);
+    double total = 0;
+    for (std::size_t i = 0; i < n; ++i) total += u.w[i] = shares[i] / fb.basis().share_weight[i];
+    for (double& v : u.w) v /= total;
+    return u;
+}
+
 struct Candidate {
     std::vector<double> w;
     bool feasible = false;
@@ -670,6 +758,18 @@ FitResult solve(const FitProblem& p, const FitOptions& opt) {
         throw Error(fmt::format("the Rcs,h1 range is empty: {:g} % above {:g} %", *p.min_rcs_h1_percent, *p.max_rcs_h1_percent));
     const FastBlend fb(p.blend, p.needs_fidelity());
     FitResult r;
+    // (Three components: the exact solve below says the same, with the triangle's words.)
+    if (const auto u = n == 3 && opt.method != FitMethod::nlopt ? std::nullopt : outside_reach(p, fb)) {
+        r.method = "reach test (convex hull of the components' chromaticities)";
+        finish(p, r, u->w);
+        r.feasible = false;
+        r.nearest_reachable = u->nearest;
+        r.message = fmt::format("no feasible blend: the target lies {:.1f} times its tolerance outside every chromaticity these components "
+                                "can reach (the closest is x = {:.4f}, y = {:.4f})",
+                                u->ratio, u->nearest.x, u->nearest.y);
+        r.evaluations = fb.evaluations;
+        return r;
+    }
 
     std::vector<std::vector<double>> starts;
     std::optional<ExactSolution> exact_failed;  // the exact solve's answer when it has no blend within the limits
