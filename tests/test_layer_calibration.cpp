@@ -231,3 +231,80 @@ TEST_CASE("layer calibration file: errors name the file, the line and the key") 
         CHECK(std::string(e.what()).find("m.toml:") != std::string::npos);
     }
 }
+
+TEST_CASE("calibrate CLI on modules: the demo trials give back the scales they were made with, and the file serves a design") {
+    // The demo spectra were made by tools/make_demo_modules.py with kappa x 1.5, scattering x 0.75
+    // and the nitride's QE x 0.9 (its header and the file headers say so).
+    const TempDir dir;
+    const std::string cal = dir.file("module_line.toml");
+    const auto run = run_cli_args({"calibrate", example("calibration/modules.toml"), "--format", "json", "--out", cal});
+    INFO(run.err);
+    REQUIRE(run.exit_code == 0);
+    const auto j = nlohmann::json::parse(run.out);
+    CHECK(j["model"] == "layer");
+    CHECK(j["trials"].size() == 3);
+    for (const auto& q : j["parameters"]) {
+        const double v = q["value"].get<double>();
+        if (q["kind"] == "mass_absorption_scale") CHECK(v == doctest::Approx(1.5).epsilon(0.03));
+        if (q["kind"] == "scattering_scale") CHECK(v == doctest::Approx(0.75).epsilon(0.05));
+        if (q["kind"] == "brightness_factor") CHECK(v == doctest::Approx(0.9).epsilon(0.03));
+    }
+    // The manifest's three thicknesses still trade kappa against scattering strongly: said.
+    CHECK(run.err.find("hardly separate the mass absorption scale and the scattering scale") != std::string::npos);
+    CHECK(lwtest::slurp(cal).find("format = \"lampwright layer calibration 1\"") != std::string::npos);
+    std::string text = lwtest::slurp(example("calibration/module2.toml"));
+    text.insert(text.find("[pump]"), "calibration = " + lwtest::quote(cal) + "\n\n");
+    const auto layer = run_cli_args({"layer", dir.write("m2.toml", text)});
+    INFO(layer.err);
+    REQUIRE(layer.exit_code == 0);
+    CHECK(layer.out.find("calibrated model: " + cal) != std::string::npos);
+}
+
+TEST_CASE("calibrate CLI on modules: bad manifests are refused at their file and line") {
+    const TempDir dir;
+    const std::string cal_dir = example("calibration/");
+    auto manifest = [&](const std::string& body) { return dir.write("trials.toml", body); };
+    auto trial = [&](const std::string& kind, const std::string& file, const std::string& spectrum, const std::string& extra = "") {
+        return "[[trial]]\n" + kind + " = " + lwtest::quote(cal_dir + file) + "\nspectrum = " + lwtest::quote(spectrum) + "\n" + extra;
+    };
+    // A blend recipe among module trials: line 7 is the recipe's [[trial]].
+    {
+        const std::string m = manifest(trial("design", "module1.toml", cal_dir + "module1.csv") + trial("design", "module2.toml", cal_dir + "module2.csv") +
+                                       trial("recipe", "trial1.toml", cal_dir + "trial1.csv"));
+        const auto run = run_cli_args({"calibrate", m});
+        CHECK(run.exit_code != 0);
+        CHECK(run.err.find(m + ":7:") != std::string::npos);
+        CHECK(run.err.find("is a blend recipe, but trial 'module1'") != std::string::npos);
+        CHECK(run.err.find("one model at a time") != std::string::npos);
+    }
+    // A missing spectrum file: its key and line.
+    {
+        const std::string m = manifest(trial("design", "module1.toml", cal_dir + "module1.csv") + trial("design", "module2.toml", dir.file("nowhere.csv")));
+        const auto run = run_cli_args({"calibrate", m});
+        CHECK(run.exit_code != 0);
+        CHECK(run.err.find(m + ":6: 'trial[2].spectrum'") != std::string::npos);
+        CHECK(run.err.find("does not exist") != std::string::npos);
+    }
+    // An unknown key in a trial, and absolute that is not true or false.
+    {
+        const std::string m = manifest(trial("design", "module1.toml", cal_dir + "module1.csv", "colour = 1\n"));
+        const auto run = run_cli_args({"calibrate", m});
+        CHECK(run.exit_code != 0);
+        CHECK(run.err.find(m + ":4:") != std::string::npos);
+        CHECK(run.err.find("colour") != std::string::npos);
+        const std::string m2 = manifest(trial("design", "module1.toml", cal_dir + "module1.csv", "absolute = \"yes\"\n"));
+        const auto run2 = run_cli_args({"calibrate", m2});
+        CHECK(run2.exit_code != 0);
+        CHECK(run2.err.find(m2 + ":4: 'trial[1].absolute'") != std::string::npos);
+    }
+    // A design naming a calibration file that does not exist.
+    {
+        std::string text = lwtest::slurp(example("calibration/module1.toml"));
+        text.insert(text.find("[pump]"), "calibration = \"missing_cal.toml\"\n\n");
+        const std::string d = dir.write("m.toml", text);
+        const auto run = run_cli_args({"layer", d});
+        CHECK(run.exit_code != 0);
+        CHECK(run.err.find(d + ":") != std::string::npos);
+        CHECK(run.err.find("'calibration'") != std::string::npos);
+    }
+}
