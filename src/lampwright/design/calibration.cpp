@@ -207,15 +207,21 @@ std::vector<double> CalibrationProblem::residuals(const std::vector<double>& p) 
     return r;
 }
 
-std::vector<double> CalibrationProblem::trial_residuals(const std::vector<double>& p) const {
-    const std::vector<double> r = residuals(p);
+std::vector<double> block_norms(const std::vector<double>& r, const std::vector<std::size_t>& sizes) {
     std::vector<double> out;
-    for (const auto& tr : trials_) {
+    std::size_t row = 0;
+    for (std::size_t n : sizes) {
         double s = 0;
-        for (std::size_t i = 0; i < tr.grid_nm.size(); ++i) s += r[tr.first_row + i] * r[tr.first_row + i];
+        for (std::size_t i = 0; i < n; ++i, ++row) s += r.at(row) * r.at(row);
         out.push_back(std::sqrt(s));
     }
     return out;
+}
+
+std::vector<double> CalibrationProblem::trial_residuals(const std::vector<double>& p) const {
+    std::vector<std::size_t> sizes;
+    for (const auto& tr : trials_) sizes.push_back(tr.grid_nm.size());
+    return block_norms(residuals(p), sizes);
 }
 
 ModelCalibration CalibrationProblem::calibration(const std::vector<double>& p, const std::vector<double>& sd) const {

@@ -56,6 +56,9 @@ struct CalibrationGrid {
 };
 CalibrationGrid measurement_grid(const SampledSpectrum& measured, const std::string& label);
 
+// The L2 norm of each consecutive block of `sizes` rows of r (a trial's residual).
+std::vector<double> block_norms(const std::vector<double>& r, const std::vector<std::size_t>& sizes);
+
 // A least-squares problem for the solver (fit_least_squares): bounded parameters and a residual
 // vector. The lamp problem (CalibrationProblem) and the LED layer problem (LayerCalibrationProblem,
 // led/layer_calibration.hpp) both are one.

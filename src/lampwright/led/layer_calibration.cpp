@@ -2,6 +2,7 @@
 
 #include "lampwright/core/bandpass.hpp"
 #include "lampwright/core/error.hpp"
+#include "lampwright/phosphor/calibration_file.hpp"
 
 #include <fmt/format.h>
 
@@ -36,13 +37,6 @@ double positive_key(const TomlDoc& doc, const toml::table& t, const std::string&
     return v;
 }
 
-double sd_key(const TomlDoc& doc, const toml::table& t, const std::string& key, const std::string& where) {
-    const auto v = doc.number(t, key, where);
-    if (!v) return 0;
-    if (*v < 0) doc.fail(t.get(key), key_path(where, key), fmt::format("a standard deviation must not be negative, not {:g}", *v));
-    return *v;
-}
-
 }  // namespace
 
 const LayerCalibratedPhosphor* LayerModelCalibration::phosphor(const std::string& id) const {
@@ -61,22 +55,22 @@ LayerModelCalibration layer_calibration_from_toml(const TomlDoc& doc) {
     LayerModelCalibration cal;
     cal.path = doc.source();
     cal.mass_absorption_scale = positive_key(doc, r, "mass_absorption_scale", "", kScaleUpper);
-    cal.mass_absorption_scale_sd = sd_key(doc, r, "mass_absorption_scale_sd", "");
+    cal.mass_absorption_scale_sd = calibration_sd(doc, r, "mass_absorption_scale_sd", "");
     cal.scattering_scale = positive_key(doc, r, "scattering_scale", "", kScaleUpper);
-    cal.scattering_scale_sd = sd_key(doc, r, "scattering_scale_sd", "");
+    cal.scattering_scale_sd = calibration_sd(doc, r, "scattering_scale_sd", "");
     cal.reference = doc.string(r, "reference", "").value_or("");
-    if (const toml::array* a = doc.array(r, "phosphor", "")) {
-        for (std::size_t i = 0; i < a->size(); ++i) {
+    {
+        const auto tables = calibration_tables(doc, r, "phosphor");
+        for (std::size_t i = 0; i < tables.size(); ++i) {
             const std::string where = fmt::format("phosphor[{}]", i + 1);
-            const toml::table* t = a->get(i)->as_table();
-            if (!t) doc.fail(a->get(i), where, "must be a table: write [[phosphor]] sections");
+            const toml::table* t = tables[i];
             doc.only_keys(*t, {"id", "brightness_factor", "brightness_factor_sd"}, where);
             LayerCalibratedPhosphor p;
             p.id = doc.require_string(*t, "id", where);
             if (p.id.empty()) doc.fail(t->get("id"), key_path(where, "id"), "must name a phosphor");
             if (cal.phosphor(p.id)) doc.fail(t->get("id"), key_path(where, "id"), fmt::format("'{}' is listed twice", p.id));
             p.brightness_factor = positive_key(doc, *t, "brightness_factor", where, 1.0 / kBrightnessLower);
-            p.sd = sd_key(doc, *t, "brightness_factor_sd", where);
+            p.sd = calibration_sd(doc, *t, "brightness_factor_sd", where);
             cal.phosphors.push_back(p);
         }
     }
@@ -212,14 +206,9 @@ std::vector<double> LayerCalibrationProblem::residuals(const std::vector<double>
 }
 
 std::vector<double> LayerCalibrationProblem::trial_residuals(const std::vector<double>& p) const {
-    const std::vector<double> r = residuals(p);
-    std::vector<double> out;
-    for (const auto& tr : trials_) {
-        double s = 0;
-        for (std::size_t i = 0; i < tr.grid_nm.size(); ++i) s += r[tr.first_row + i] * r[tr.first_row + i];
-        out.push_back(std::sqrt(s));
-    }
-    return out;
+    std::vector<std::size_t> sizes;
+    for (const auto& tr : trials_) sizes.push_back(tr.grid_nm.size());
+    return block_norms(residuals(p), sizes);
 }
 
 LayerModelCalibration LayerCalibrationProblem::calibration(const std::vector<double>& p, const std::vector<double>& sd) const {
