@@ -308,3 +308,21 @@ TEST_CASE("calibrate CLI on modules: bad manifests are refused at their file and
         CHECK(run.err.find("'calibration'") != std::string::npos);
     }
 }
+
+TEST_CASE("calibrate CLI on modules: --trial DESIGN=SPECTRUM gives the manifest's result; --absolute is refused for lamp trials") {
+    // The same three demo modules as the manifest (examples/calibration/modules.toml): the same fit.
+    const std::string c = example("calibration/");
+    const auto run = run_cli_args({"calibrate", "--format", "json", "--trial", c + "module1.toml=" + c + "module1.csv", "--trial",
+                                   c + "module2.toml=" + c + "module2.csv", "--trial", c + "module3.toml=" + c + "module3.csv"});
+    INFO(run.err);
+    REQUIRE(run.exit_code == 0);
+    const auto manifest = run_cli_args({"calibrate", "--format", "json", c + "modules.toml"});
+    REQUIRE(manifest.exit_code == 0);
+    const auto a = nlohmann::json::parse(run.out), b = nlohmann::json::parse(manifest.out);
+    REQUIRE(a["parameters"].size() == b["parameters"].size());
+    CHECK(a["parameters"][0]["value"].get<double>() == doctest::Approx(b["parameters"][0]["value"].get<double>()).epsilon(1e-9));
+    CHECK(a["parameters"][1]["value"].get<double>() == doctest::Approx(b["parameters"][1]["value"].get<double>()).epsilon(1e-9));
+    const auto lamp = run_cli_args({"calibrate", "--absolute", "--trial", c + "trial1.toml=" + c + "trial1.csv"});
+    CHECK(lamp.exit_code != 0);
+    CHECK(lamp.err.find("--absolute and --no-brightness are for LED module trials") != std::string::npos);
+}
