@@ -9,6 +9,7 @@
 #include <cmath>
 #include <limits>
 #include <functional>
+#include <utility>
 #include <vector>
 
 using namespace lampwright;
@@ -251,4 +252,40 @@ TEST_CASE("resample_to_1nm: a spectrum already on the whole-nm grid comes back u
     const Spectrum shifted = resample_to_1nm(s);
     CHECK(shifted.first_nm == 381);
     CHECK(shifted.values.size() == 400);
+}
+
+TEST_CASE("resample_to_1nm on a whole-number step (the weights computed once per position) reproduces a quartic to 1e-12") {
+    // CIE 167:2005: the Sprague quintic reproduces polynomials up to degree 4 in the interior;
+    // with 5 nm and 10 nm steps every 1 nm output goes through the per-position weights.
+    for (double step : {5.0, 10.0}) {
+        SampledSpectrum s;
+        s.name = "quartic";
+        const auto f = [](double nm) { const double t = (nm - 550) / 100; return 1 + t + 0.5 * t * t - 0.3 * t * t * t + 0.2 * t * t * t * t; };
+        for (double nm = 380; nm <= 780 + 1e-9; nm += step) s.wavelengths_nm.push_back(nm), s.values.push_back(f(nm));
+        const Spectrum r = resample_to_1nm(s);
+        REQUIRE(r.first_nm == 380);
+        REQUIRE(r.values.size() == 401);
+        double worst = 0;
+        for (int nm = 380 + 2 * static_cast<int>(step); nm <= 780 - 2 * static_cast<int>(step); ++nm)
+            worst = std::max(worst, std::abs(r.values[static_cast<std::size_t>(nm - 380)] - f(nm)));
+        CHECK(worst < 1e-12);
+    }
+}
+
+TEST_CASE("resample_to_1nm of a spectrum taken over (&&): 1 nm values moved, not copied; others resampled as by the copying one") {
+    // Common practice, no source: interpolants pass through their data points.
+    SampledSpectrum s;
+    s.name = "on grid";
+    for (int nm = 400; nm <= 700; ++nm) s.wavelengths_nm.push_back(nm), s.values.push_back(std::sin(nm / 37.0) + 2);
+    const std::vector<double> expected = s.values;
+    const double* data = s.values.data();
+    const Spectrum r = resample_to_1nm(std::move(s));
+    CHECK(r.first_nm == 400);
+    CHECK(r.values == expected);
+    CHECK(r.values.data() == data);  // the same buffer
+    CHECK(r.name == "on grid");
+    SampledSpectrum coarse;
+    for (int nm = 400; nm <= 700; nm += 5) coarse.wavelengths_nm.push_back(nm), coarse.values.push_back(std::sin(nm / 37.0) + 2);
+    SampledSpectrum moved = coarse;
+    CHECK(resample_to_1nm(std::move(moved)).values == resample_to_1nm(coarse).values);
 }

@@ -43,7 +43,12 @@ while i < len(lines):
         body.append(lines[i])
         i += 1
     if line == "```" and body and body[0].startswith("$ lampwright ") and not any("(excerpt)" in b for b in body):
-        body = [body[0]] + [l.rstrip() for l in run(body[0])]
+        # The command may go on over lines ending in a backslash.
+        n = 1
+        while n < len(body) and body[n - 1].endswith("\\"):
+            n += 1
+        command = " ".join(b.rstrip("\\").strip() for b in body[:n])
+        body = body[:n] + [l.rstrip() for l in run(command)]
     result.extend(body)
     if i < len(lines):
         result.append(lines[i])

@@ -88,10 +88,10 @@ int run_assess(int argc, char** argv) {
             continue;
         }
         for (const auto& w : parsed.warnings) print_warning(w);
-        for (const auto& sampled : parsed.spectra) {
+        for (auto& sampled : parsed.spectra) {
             Assessment a;
             try {
-                a = assess_sampled(sampled, options);
+                a = assess_sampled(std::move(sampled), options);  // no copy of 1 nm values; the name stays
             } catch (const Error& e) {
                 print_error(fmt::format("{}: spectrum '{}': {}", file == "-" ? "stdin" : file, sampled.name, e.what()));
                 status = kExitBadInput;

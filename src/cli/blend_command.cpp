@@ -68,9 +68,7 @@ efficiency, radiant efficiency and efficacy per W of absorbed excitation. See RE
             break;
         }
         case Format::json: {
-            auto j = blend_json(result, recipe.blend);
-            add_fidelity_summary_json(j, result.assessment);
-            std::cout << dump_json(j) << '\n';
+            std::cout << dump_json(blend_document_json(result, recipe.blend)) << '\n';
             break;
         }
     }

@@ -159,5 +159,6 @@ int run_history(int argc, char** argv);
 int run_compare(int argc, char** argv);
 int run_unmix(int argc, char** argv);
 int run_calibrate(int argc, char** argv);
+int run_serve(int argc, char** argv);
 
 }  // namespace lampwright::cli

@@ -84,10 +84,7 @@ local codes and licensed practice.
             break;
         }
         case Format::json: {
-            auto j = layer_json(rep);
-            add_fidelity_summary_json(j, rep.operating.assessment);
-            add_layer_package_json(j, rep);
-            std::cout << dump_json(j) << '\n';
+            std::cout << dump_json(layer_document_json(rep)) << '\n';
             break;
         }
     }

@@ -31,6 +31,7 @@ Commands:
   compare    layer designs, recipes and spectra side by side
   qc         judge a lot of measured lamps against a specification
   history    recorded lots, their statistics and control charts
+  serve      the interactive formulation page on this machine (a local web server)
 
 Run 'lampwright COMMAND --help' (or 'lampwright help COMMAND') for the options of a command;
 'lampwright --version' prints the version.
@@ -51,6 +52,7 @@ int run_command(const std::string& command, int argc, char** argv) {
         if (command == "qc") return run_qc_command(argc, argv);
         if (command == "history") return run_history(argc, argv);
         if (command == "calibrate") return run_calibrate(argc, argv);
+        if (command == "serve") return run_serve(argc, argv);
         print_error("unknown command '" + command + "'");
         std::cerr << kUsage;
         return kExitUsage;

@@ -33,12 +33,7 @@ Emission spectra are models built from published peak positions and widths, not 
             std::cout << csv_line(phosphor_columns()) << '\n';
             for (const auto& p : lib.all()) std::cout << csv_line(phosphor_values(p)) << '\n';
             break;
-        case Format::json: {
-            nlohmann::ordered_json j = nlohmann::ordered_json::array();
-            for (const auto& p : lib.all()) j.push_back(phosphor_json(p));
-            std::cout << dump_json(j) << '\n';
-            break;
-        }
+        case Format::json: std::cout << dump_json(phosphors_json(lib.all())) << '\n'; break;
     }
     return kExitOk;
 }

@@ -9,6 +9,7 @@
 #include <algorithm>
 #include <array>
 #include <cmath>
+#include <limits>
 #include <string>
 #include <vector>
 
@@ -127,11 +128,23 @@ void add_efficacy(Assessment& a, const Spectrum& s) {
 }  // namespace
 
 Assessment assess(const Spectrum& s, const AssessOptions& options) {
-    double largest = 0;
-    for (double v : s.values) {
-        if (!std::isfinite(v)) throw Error("values too large: the spectrum holds a value that is not a finite number on the 1 nm grid (resampling overflowed)");
-        largest = std::max(largest, std::fabs(v));
-    }
+    // The largest |value| in four independent running maxima (max is exact in any order), and
+    // whether any value is not finite (NaN fails every comparison): a loop without a branch or a
+    // dependence chain through memory, which took a third of a CIE 13.3 assessment.
+    double m0 = 0, m1 = 0, m2 = 0, m3 = 0;
+    bool finite = true;
+    const auto step = [&finite](double& m, double v) {
+        const double a = std::fabs(v);
+        finite &= a <= std::numeric_limits<double>::max();
+        m = a > m ? a : m;
+    };
+    const std::size_t n = s.values.size();
+    const double* v = s.values.data();
+    std::size_t i = 0;
+    for (; i + 4 <= n; i += 4) step(m0, v[i]), step(m1, v[i + 1]), step(m2, v[i + 2]), step(m3, v[i + 3]);
+    for (; i < n; ++i) step(m0, v[i]);
+    if (!finite) throw Error("values too large: the spectrum holds a value that is not a finite number on the 1 nm grid (resampling overflowed)");
+    const double largest = std::max(std::max(m0, m1), std::max(m2, m3));
     if (largest <= kRescaleAbove) {
         Assessment a = assess_finite(s, options);
         add_efficacy(a, s);
@@ -152,6 +165,11 @@ Assessment assess(const Spectrum& s, const AssessOptions& options) {
 Assessment assess_sampled(const SampledSpectrum& s, AssessOptions options) {
     options.cie224_interval_nm = cie224_interval_for(s.wavelengths_nm);
     return assess(resample_to_1nm(s), options);
+}
+
+Assessment assess_sampled(SampledSpectrum&& s, AssessOptions options) {
+    options.cie224_interval_nm = cie224_interval_for(s.wavelengths_nm);
+    return assess(resample_to_1nm(std::move(s)), options);
 }
 
 }  // namespace lampwright

@@ -54,6 +54,8 @@ Assessment assess(const Spectrum& s, const AssessOptions& options = {});
 // A measured spectrum on its own wavelengths: resampled to 1 nm (resample_to_1nm) and assessed,
 // CIE 224 at the data's own interval (cie224_interval_for: 5 nm data at 5 nm with the 5 nm CES).
 Assessment assess_sampled(const SampledSpectrum& s, AssessOptions options = {});
+// The same, taking the values over without a copy when they are on the 1 nm grid (the name stays).
+Assessment assess_sampled(SampledSpectrum&& s, AssessOptions options = {});
 
 // The figures that follow from the CIE 13.3 sample tristimuli (cie133_tristimuli) and the radiant
 // integral alone: colorimetry with the 2-degree observer, CCT, Duv, colour rendering and LER; no

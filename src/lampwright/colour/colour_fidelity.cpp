@@ -1,6 +1,7 @@
 #include "lampwright/colour/colour_fidelity.hpp"
 
 #include "lampwright/colour/illuminants.hpp"
+#include "lampwright/colour/precomputed_tables.hpp"
 #include "lampwright/colour/temperature.hpp"
 #include "lampwright/core/error.hpp"
 #include "lampwright/core/spectral_weights.hpp"
@@ -10,6 +11,7 @@
 #include <algorithm>
 #include <cmath>
 #include <numbers>
+#include <span>
 #include <vector>
 
 namespace lampwright {
@@ -130,20 +132,18 @@ JabSet reference_jab_direct(double cct_K, int step = kCie224IntervalNm) { return
 // They are smooth in mired except at 4000 K (250 mired) and 5000 K (200 mired), where the
 // reference changes kind; both are nodes, and the 4-point Lagrange stencil stays on one side.
 constexpr int kMiredFirst = 10, kMiredLast = 1000;
-const std::vector<JabSet>& reference_table() {
-    static const std::vector<JabSet> t = [] {
-        std::vector<JabSet> out;
-        out.reserve(kMiredLast - kMiredFirst + 1);
-        for (int m = kMiredFirst; m <= kMiredLast; ++m) out.push_back(reference_jab_direct(1e6 / m));
-        return out;
-    }();
+constexpr std::size_t kJabRow = 3 * kCesCount;  // J', a', b' of each sample, a mired
+std::span<const double> reference_table() {
+    static std::vector<double> store;
+    static const std::span<const double> t =
+        precomputed::computed_unless_generated(precomputed::cie224_reference_jab(), store, compute_cie224_reference_jab_table);
     return t;
 }
 
 JabSet reference_jab_tabulated(double cct_K) {
-    const auto& table = reference_table();
+    const auto table = reference_table();
     const double pos = 1e6 / cct_K - kMiredFirst;
-    const int last = static_cast<int>(table.size()) - 1;
+    const int last = static_cast<int>(table.size() / kJabRow) - 1;
     const int i = std::clamp(static_cast<int>(std::floor(pos)), 0, last - 1);
     // The smooth segment [lo, hi] that holds [i, i + 1] (kinks at 200 and 250 mired).
     const int k1 = static_cast<int>(1e6 / kCie224DaylightAboveK) - kMiredFirst, k2 = static_cast<int>(1e6 / kCie224PlanckianBelowK) - kMiredFirst;
@@ -160,10 +160,10 @@ JabSet reference_jab_tabulated(double cct_K) {
     for (std::size_t s = 0; s < r.size(); ++s) {
         Jab v;
         for (int a = 0; a < 4; ++a) {
-            const Jab& n = table[static_cast<std::size_t>(start + a)][s];
-            v.j += w[a] * n.j;
-            v.a += w[a] * n.a;
-            v.b += w[a] * n.b;
+            const double* n = table.data() + static_cast<std::size_t>(start + a) * kJabRow + 3 * s;
+            v.j += w[a] * n[0];
+            v.a += w[a] * n[1];
+            v.b += w[a] * n[2];
         }
         r[s] = v;
     }
@@ -184,6 +184,14 @@ CesTristimuli cie224_tristimuli(const double* colour_range_values, int interval_
     std::array<double, kCesCoarseSize> nodes;
     for (int j = 0; j < kCesCoarseSize; ++j) nodes[static_cast<std::size_t>(j)] = colour_range_values[kCesOffset + j * interval_nm];
     weighted_sums_48_blocks(weights(interval_nm).data(), nodes.data(), kCesCoarseSize, kBlocks, out.data());
+    return out;
+}
+
+std::vector<double> compute_cie224_reference_jab_table() {
+    std::vector<double> out;
+    out.reserve(static_cast<std::size_t>(kMiredLast - kMiredFirst + 1) * kJabRow);
+    for (int m = kMiredFirst; m <= kMiredLast; ++m)
+        for (const Jab& v : reference_jab_direct(1e6 / m)) out.insert(out.end(), {v.j, v.a, v.b});
     return out;
 }
 

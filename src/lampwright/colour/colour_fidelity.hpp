@@ -70,6 +70,9 @@ struct ColourFidelity {
 // At interval_nm = 5 the reference is computed directly at 5 nm (no table).
 ColourFidelity colour_fidelity_from_tristimuli(const CesTristimuli& test, double cct_K, bool tabulated_reference = true,
                                               int interval_nm = kCie224IntervalNm);
+// That table: the reference's J', a', b' of the 99 samples (297 values) on every whole mired from
+// 10 (100000 K) to 1000 (1000 K); computed at build time (precomputed_tables.hpp).
+std::vector<double> compute_cie224_reference_jab_table();
 ColourFidelity colour_fidelity(const Spectrum& s, double cct_K, int interval_nm = kCie224IntervalNm);
 
 // The CIE 224 reference illuminant at cct_K on 360-830 nm at 1 nm, scaled to Y10 = 100 over 380-780 nm.

@@ -8,6 +8,7 @@
 #include "lampwright/core/spectrum.hpp"
 
 #include <array>
+#include <vector>
 
 namespace lampwright {
 
@@ -32,6 +33,13 @@ struct ColourRendering {
 // white X, Y, Z in [0..2], sample i in [3 + 3i .. 5 + 3i]; padded to 48.
 using SampleTristimuli = std::array<double, 48>;
 SampleTristimuli cie133_tristimuli(const double* colour_range_values);
+
+// The Planckian references on every whole mired from 1e6/5000 - 2 to 1002, 46 values each: the
+// white's CIE 1960 u, v and von Kries c, d (CIE 13.3 eq. 3), then W*, U*, V* of TCS01..TCS14
+// (eq. 5; U* = 13 W* (u_i - u_white), V* likewise), from the sample tristimuli with the white at
+// Y = 1; interpolated by colour rendering with 4-point Lagrange polynomials (error < 1e-7
+// relative); computed at build time (precomputed_tables.hpp).
+std::vector<double> compute_cie133_planck_reference_table();
 
 // Colour rendering of a source from its sample tristimuli and its CCT.
 ColourRendering colour_rendering_from_tristimuli(const SampleTristimuli& test, double cct_K);

@@ -1,12 +1,14 @@
 #include "lampwright/colour/temperature.hpp"
 
 #include "lampwright/colour/illuminants.hpp"
+#include "lampwright/colour/precomputed_tables.hpp"
 
 #include <fmt/format.h>
 
 #include <algorithm>
 #include <array>
 #include <cmath>
+#include <span>
 #include <vector>
 
 namespace lampwright {
@@ -27,22 +29,21 @@ UV planck_uv_mired(double mired) {
     return uv_of_values(v);
 }
 
+// The Ohno table: T, u, v as three runs of equal length in one flat array (generated at build
+// time, see precomputed_tables.hpp).
 struct PlanckTable {
-    std::vector<double> t, u, v;
+    std::span<const double> t, u, v;
 };
 
 constexpr double kTableRatio = 1.001;
+constexpr double kTableFirstK = kCctMinK / (kTableRatio * kTableRatio);
 
 const PlanckTable& ohno_table() {
+    static std::vector<double> store;
     static const PlanckTable table = [] {
-        PlanckTable tab;
-        for (double t = kCctMinK / (kTableRatio * kTableRatio); t <= kCctMaxK * kTableRatio * kTableRatio; t *= kTableRatio) {
-            const UV p = planck_uv(t);
-            tab.t.push_back(t);
-            tab.u.push_back(p.u);
-            tab.v.push_back(p.v);
-        }
-        return tab;
+        const auto flat = precomputed::computed_unless_generated(precomputed::ohno_planck_table(), store, compute_ohno_planck_table);
+        const std::size_t n = flat.size() / 3;
+        return PlanckTable{flat.subspan(0, n), flat.subspan(n, n), flat.subspan(2 * n, n)};
     }();
     return table;
 }
@@ -118,20 +119,10 @@ struct IsotemperatureLine {
 
 const std::vector<IsotemperatureLine>& robertson_lines() {
     static const std::vector<IsotemperatureLine> lines = [] {
-        std::vector<double> mireds;
-        for (int m = 0; m <= 100; m += 10) mireds.push_back(m);
-        for (int m = 125; m <= 1000; m += 25) mireds.push_back(m);
+        std::vector<double> store;
+        const auto flat = precomputed::computed_unless_generated(precomputed::robertson_lines(), store, compute_robertson_lines);
         std::vector<IsotemperatureLine> out;
-        for (double m : mireds) {
-            const UV p = planck_uv_mired(m);
-            const double h = 0.01;
-            const UV a = planck_uv_mired(m > 0 ? m - h : m), b = planck_uv_mired(m + h);
-            // Isotemperature lines are normal to the locus in CIE 1960 uv. Robertson's slope -du/dv
-            // becomes infinite where v peaks (about 617 mired) and its sign convention flips there,
-            // so the line is kept as the locus tangent, oriented towards higher mired.
-            const double len = std::hypot(b.u - a.u, b.v - a.v);
-            out.push_back({m, p.u, p.v, (b.u - a.u) / len, (b.v - a.v) / len});
-        }
+        for (std::size_t i = 0; i + 5 <= flat.size(); i += 5) out.push_back({flat[i], flat[i + 1], flat[i + 2], flat[i + 3], flat[i + 4]});
         return out;
     }();
     return lines;
@@ -149,7 +140,7 @@ CctResult robertson(const UV& p) {
             const double mired = P.mired + (L.mired - P.mired) * d_prev / (d_prev - d);
             if (mired <= 0) return finish(2 * kCctMaxK, 0);
             const double t = 1e6 / mired;
-            const UV on = planck_uv(t);
+            const UV on = planck_uv_tabulated(t);
             const double duv = std::hypot(p.u - on.u, p.v - on.v) * (p.v >= on.v ? 1.0 : -1.0);
             return finish(t, duv);
         }
@@ -163,6 +154,54 @@ CctResult robertson(const UV& p) {
 }  // namespace
 
 UV planck_uv(double temperature_K) { return planck_uv_mired(1e6 / temperature_K); }
+
+UV planck_uv_tabulated(double temperature_K) {
+    const auto& tab = ohno_table();
+    const int n = static_cast<int>(tab.t.size());
+    // The table is geometric in T: point k lies at kTableFirstK x 1.001^k.
+    const double pos = std::log(temperature_K / kTableFirstK) / std::log(kTableRatio);
+    if (!(pos >= 1 && pos <= n - 2)) return planck_uv(temperature_K);
+    const int i = std::clamp(static_cast<int>(std::floor(pos)), 1, n - 3);
+    // 4-point Lagrange in T over points i-1..i+2 (error about 1e-13 in uv at a 0.1 % step).
+    const double x0 = tab.t[i - 1], x1 = tab.t[i], x2 = tab.t[i + 1], x3 = tab.t[i + 2], x = temperature_K;
+    const double w0 = (x - x1) * (x - x2) * (x - x3) / ((x0 - x1) * (x0 - x2) * (x0 - x3));
+    const double w1 = (x - x0) * (x - x2) * (x - x3) / ((x1 - x0) * (x1 - x2) * (x1 - x3));
+    const double w2 = (x - x0) * (x - x1) * (x - x3) / ((x2 - x0) * (x2 - x1) * (x2 - x3));
+    const double w3 = (x - x0) * (x - x1) * (x - x2) / ((x3 - x0) * (x3 - x1) * (x3 - x2));
+    const auto at = [&](std::span<const double> c) { return w0 * c[i - 1] + w1 * c[i] + w2 * c[i + 1] + w3 * c[i + 2]; };
+    return {at(tab.u), at(tab.v)};
+}
+
+std::vector<double> compute_ohno_planck_table() {
+    std::vector<double> t, u, v;
+    for (double k = kTableFirstK; k <= kCctMaxK * kTableRatio * kTableRatio; k *= kTableRatio) {
+        const UV p = planck_uv(k);
+        t.push_back(k);
+        u.push_back(p.u);
+        v.push_back(p.v);
+    }
+    t.insert(t.end(), u.begin(), u.end());
+    t.insert(t.end(), v.begin(), v.end());
+    return t;
+}
+
+std::vector<double> compute_robertson_lines() {
+    std::vector<double> mireds;
+    for (int m = 0; m <= 100; m += 10) mireds.push_back(m);
+    for (int m = 125; m <= 1000; m += 25) mireds.push_back(m);
+    std::vector<double> out;
+    for (double m : mireds) {
+        const UV p = planck_uv_mired(m);
+        const double h = 0.01;
+        const UV a = planck_uv_mired(m > 0 ? m - h : m), b = planck_uv_mired(m + h);
+        // Isotemperature lines are normal to the locus in CIE 1960 uv. Robertson's slope -du/dv
+        // becomes infinite where v peaks (about 617 mired) and its sign convention flips there,
+        // so the line is kept as the locus tangent, oriented towards higher mired.
+        const double len = std::hypot(b.u - a.u, b.v - a.v);
+        out.insert(out.end(), {m, p.u, p.v, (b.u - a.u) / len, (b.v - a.v) / len});
+    }
+    return out;
+}
 
 CctResult correlated_colour_temperature(const UV& uv1960, CctMethod method) {
     if (!std::isfinite(uv1960.u) || !std::isfinite(uv1960.v)) {

@@ -12,6 +12,7 @@
 #include "lampwright/colour/colorimetry.hpp"
 
 #include <string>
+#include <vector>
 
 namespace lampwright {
 
@@ -33,5 +34,14 @@ CctResult correlated_colour_temperature(const UV& uv1960, CctMethod method = Cct
 
 // The Planckian locus point at T (CIE 1960 uv, CIE 1931 observer, 360-830 nm at 1 nm).
 UV planck_uv(double temperature_K);
+// The same from the Ohno table (4-point Lagrange in T, within about 1e-13 of planck_uv) inside
+// its range (999-100200 K), planck_uv outside it: for curves that need many locus points.
+UV planck_uv_tabulated(double temperature_K);
+
+// The tables behind the two methods, computed at build time (precomputed_tables.hpp): the Ohno
+// table (every T from 1000/1.001^2 K up, 0.1 % a step, to 100000 x 1.001^2 K; all T, then all
+// u, then all v) and Robertson's isotemperature lines (mired, u, v and the unit tangent tu, tv).
+std::vector<double> compute_ohno_planck_table();
+std::vector<double> compute_robertson_lines();
 
 }  // namespace lampwright

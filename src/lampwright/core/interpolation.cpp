@@ -5,6 +5,7 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <array>
 #include <cmath>
 
 namespace lampwright {
@@ -58,6 +59,29 @@ std::vector<double> sprague_interpolate(double x0, double step, const std::vecto
     if (y.size() < 6) throw Error("Sprague interpolation needs at least 6 points");
     const auto e = sprague_extended(y);
     const std::size_t last_segment = y.size() - 2;
+    // A whole-number step s (5 nm data onto 1 nm): the positions inside a segment repeat as
+    // r / s, so the quintic's weights on its six points are computed once per r (from
+    // sprague_segment on unit vectors: it is linear in the points) instead of per output.
+    const bool whole_step = step >= 2 && step <= 50 && step == std::floor(step);
+    const int s = whole_step ? static_cast<int>(step) : 0;
+    std::vector<std::array<double, 6>> weights(static_cast<std::size_t>(s));
+    for (int r = 1; r < s; ++r)
+        for (int m = 0; m < 6; ++m) {
+            double unit[6] = {0, 0, 0, 0, 0, 0};
+            unit[m] = 1;
+            weights[static_cast<std::size_t>(r)][static_cast<std::size_t>(m)] = sprague_segment(unit, static_cast<double>(r) / s);
+        }
+    const auto segment = [&](std::size_t i, double frac) {
+        if (whole_step) {
+            const double rs = std::round(frac * s);
+            if (rs >= 1 && rs < s && std::abs(frac - rs / s) < 1e-12) {
+                const auto& w = weights[static_cast<std::size_t>(rs)];
+                const double* f = &e[i];
+                return w[0] * f[0] + w[1] * f[1] + w[2] * f[2] + w[3] * f[3] + w[4] * f[4] + w[5] * f[5];
+            }
+        }
+        return sprague_segment(&e[i], frac);
+    };
     std::vector<double> out(x_out.size());
     for (std::size_t k = 0; k < x_out.size(); ++k) {
         const double t = (x_out[k] - x0) / step;
@@ -65,7 +89,7 @@ std::vector<double> sprague_interpolate(double x0, double step, const std::vecto
         const double seg = std::floor(t + 1e-9);
         std::size_t i = static_cast<std::size_t>(std::clamp(seg, 0.0, static_cast<double>(last_segment)));
         const double frac = std::clamp(t - static_cast<double>(i), 0.0, 1.0);
-        out[k] = (std::abs(frac) < 1e-12) ? y[i] : (std::abs(frac - 1) < 1e-12 ? y[i + 1] : sprague_segment(&e[i], frac));
+        out[k] = (std::abs(frac) < 1e-12) ? y[i] : (std::abs(frac - 1) < 1e-12 ? y[i + 1] : segment(i, frac));
     }
     return out;
 }
@@ -110,6 +134,33 @@ std::vector<double> pchip_interpolate(const std::vector<double>& x, const std::v
     return out;
 }
 
+namespace {
+
+// Whether the wavelengths are the whole numbers first, first + 1, ..., last.
+bool on_1nm_grid(const std::vector<double>& x, int first, int last) {
+    bool on_grid = static_cast<double>(last - first + 1) == static_cast<double>(x.size());
+    for (std::size_t i = 0; on_grid && i < x.size(); ++i) on_grid = x[i] == static_cast<double>(first) + static_cast<double>(i);
+    return on_grid;
+}
+
+}  // namespace
+
+Spectrum resample_to_1nm(SampledSpectrum&& s) {
+    const auto& x = s.wavelengths_nm;
+    if (x.size() >= 2 && x.front() >= kMinGridNm && x.back() <= kMaxGridNm && x.front() < x.back()) {
+        const int first = static_cast<int>(std::ceil(x.front() - 1e-9));
+        const int last = static_cast<int>(std::floor(x.back() + 1e-9));
+        if (on_1nm_grid(x, first, last)) {
+            // Every interpolant passes through the data points: the values are the answer.
+            Spectrum out{s.name, first, std::move(s.values)};
+            out.absolute = s.absolute;
+            out.electrical_power_W = s.electrical_power_W;
+            return out;
+        }
+    }
+    return resample_to_1nm(static_cast<const SampledSpectrum&>(s));
+}
+
 Spectrum resample_to_1nm(const SampledSpectrum& s) {
     const auto& x = s.wavelengths_nm;
     if (x.size() < 2) throw Error("spectrum '" + s.name + "' has fewer than two points");
@@ -121,19 +172,17 @@ Spectrum resample_to_1nm(const SampledSpectrum& s) {
                                 kMinGridNm, kMaxGridNm));
     const int first = static_cast<int>(std::ceil(x.front() - 1e-9));
     const int last = static_cast<int>(std::floor(x.back() + 1e-9));
-    std::vector<double> grid;
-    for (int nm = first; nm <= last; ++nm) grid.push_back(nm);
     Spectrum out{s.name, first, {}};
     out.absolute = s.absolute;
     out.electrical_power_W = s.electrical_power_W;
     // Already on the 1 nm grid: every interpolant here passes through the data points, so the
-    // values are the answer (a copy, no arithmetic).
-    bool on_grid = static_cast<double>(last - first + 1) == static_cast<double>(x.size());
-    for (std::size_t i = 0; on_grid && i < x.size(); ++i) on_grid = x[i] == static_cast<double>(first) + static_cast<double>(i);
-    if (on_grid) {
+    // values are the answer (a copy, no arithmetic; the && overload takes them over instead).
+    if (on_1nm_grid(x, first, last)) {
         out.values = s.values;
         return out;
     }
+    std::vector<double> grid;
+    for (int nm = first; nm <= last; ++nm) grid.push_back(nm);
     // Huge finite values (a file in odd units, 1e306 and up) would overflow inside the
     // interpolation: Sprague's end extension multiplies them by up to 3033/209 (CIE 167:2005,
     // Table 2) and pchip divides differences by steps under 1 nm. Both are linear in the values,

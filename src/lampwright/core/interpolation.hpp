@@ -28,6 +28,9 @@ inline constexpr double kMaxGridNm = 100000.0;
 // Resample onto integer wavelengths ceil(first) .. floor(last); method chosen by spacing.
 // Error when the wavelengths lie outside kMinGridNm..kMaxGridNm (or are not finite).
 Spectrum resample_to_1nm(const SampledSpectrum& s);
+// The same, taking the values over without a copy when they already lie on the 1 nm grid (the
+// wavelengths and name of `s` stay; its values are then left empty).
+Spectrum resample_to_1nm(SampledSpectrum&& s);
 
 // Linear interpolation in a table (x strictly increasing); clamps to the end values outside.
 double interpolate_linear(const std::vector<double>& x, const std::vector<double>& y, double at);

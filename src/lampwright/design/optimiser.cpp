@@ -652,6 +652,13 @@ std::vector<ConstraintReport> check_constraints(const FitProblem& p, const std::
     return out;
 }
 
+namespace {
+// The progress callback between starts: a stop request ends the fit here, never mid-start.
+void ask_to_go_on(const FitOptions& opt, std::size_t done, std::size_t total) {
+    if (opt.progress && !opt.progress(static_cast<int>(done), static_cast<int>(total))) throw FitCancelled();
+}
+}  // namespace
+
 FitResult solve(const FitProblem& p, const FitOptions& opt) {
     const std::size_t n = p.blend.components.size();
     if (n == 0) throw Error(fmt::format("blend '{}' has no components", p.blend.name));
@@ -726,8 +733,9 @@ FitResult solve(const FitProblem& p, const FitOptions& opt) {
     // best within the tolerance.
     if (const auto set = on_target_set(p, fb); set && opt.method != FitMethod::exact) {
         r.method = "NLopt COBYLA (on the target, then within the tolerance)";
-        for (const auto& s0 : starts) {
-            consider(run_on_target(p, fb, lim, *set, s0, opt));
+        for (std::size_t k = 0; k < starts.size(); ++k) {
+            ask_to_go_on(opt, k, starts.size());
+            consider(run_on_target(p, fb, lim, *set, starts[k], opt));
             ++r.starts;
         }
         if (best && p.objective != FitObjective::closest_to_start) {  // the default stays on the target centre
@@ -739,8 +747,9 @@ FitResult solve(const FitProblem& p, const FitOptions& opt) {
     // Otherwise (and when nothing on the target meets the limits): onto the target from each start,
     // then the objective within the tolerance.
     if (!best) {
-        for (const auto& s0 : starts) {
-            const auto [w1, w2] = run_start(p, fb, lim, s0, opt);
+        for (std::size_t k = 0; k < starts.size(); ++k) {
+            ask_to_go_on(opt, k, starts.size());
+            const auto [w1, w2] = run_start(p, fb, lim, starts[k], opt);
             ++r.starts;
             const auto e = fb.evaluate(w1);
             const double d = chromaticity_ratio2(p, e.a);

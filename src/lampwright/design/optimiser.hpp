@@ -18,8 +18,10 @@
 // Every returned answer is re-checked with evaluate_blend, on the fractions as written to a
 // recipe (6 decimals); the report lists each constraint, its value and whether it is active.
 #include "lampwright/phosphor/blend.hpp"
+#include "lampwright/core/error.hpp"
 #include "lampwright/design/targets.hpp"
 
+#include <functional>
 #include <optional>
 #include <string>
 #include <vector>
@@ -70,9 +72,21 @@ struct FitProblem {
 
 enum class FitMethod { automatic, exact, nlopt };
 
+// Called by solve before each search start with the starts done and the starts of that search;
+// returning false stops the fit (solve then throws FitCancelled). For a caller that shows progress
+// and lets the user stop a long fit (lampwright serve); empty = never asked.
+using FitProgress = std::function<bool(int done, int total)>;
+
 struct FitOptions {
     FitMethod method = FitMethod::automatic;
     int max_evaluations = 4000;  // per start and phase
+    FitProgress progress{};
+};
+
+// A fit stopped by its FitOptions::progress callback.
+class FitCancelled : public Error {
+public:
+    FitCancelled() : Error("the fit was cancelled") {}
 };
 
 struct ConstraintReport {

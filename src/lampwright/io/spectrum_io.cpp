@@ -439,10 +439,10 @@ SpectrumFile read_spectrum_file(const std::string& path, const SpectrumReadOptio
 Spectrum read_single_spectrum(const std::string& path) {
     SpectrumReadOptions opt;
     opt.check_range = false;
-    const SpectrumFile f = read_spectrum_file(path, opt);
+    SpectrumFile f = read_spectrum_file(path, opt);
     if (f.spectra.size() != 1)
         throw InputError(path, 0, fmt::format("must hold one spectrum (two columns), not {}", f.spectra.size()));
-    return resample_to_1nm(f.spectra.front());
+    return resample_to_1nm(std::move(f.spectra.front()));
 }
 
 void write_spectrum_csv(std::ostream& out, const Spectrum& s, const std::string& column) {

@@ -84,7 +84,7 @@ double constraint_fn(unsigned n, const double* z, double*, void* data) {
 
 }  // namespace
 
-LayerFitResult fit_layer(const LayerFitProblem& p, int max_evaluations) {
+LayerFitResult fit_layer(const LayerFitProblem& p, int max_evaluations, const FitProgress& progress) {
     const std::size_t n = p.design.components.size();
     if (n == 0) throw Error("the design has no components to fit");
     Context ctx{&p};
@@ -117,7 +117,9 @@ LayerFitResult fit_layer(const LayerFitProblem& p, int max_evaluations) {
     double best_value = std::numeric_limits<double>::infinity();
     std::vector<std::vector<double>> on_target;  // phase-1 end points inside the tolerance
     Constraint loading_c{&ctx, 1};
-    for (const auto& s0 : starts) {
+    for (std::size_t k = 0; k < starts.size(); ++k) {
+        if (progress && !progress(static_cast<int>(k), static_cast<int>(starts.size()))) throw FitCancelled();
+        const auto& s0 = starts[k];
         nlopt::opt o(nlopt::LN_COBYLA, m);
         o.set_lower_bounds(lower);
         o.set_upper_bounds(upper);

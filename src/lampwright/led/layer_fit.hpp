@@ -39,7 +39,9 @@ struct LayerFitResult {
     int evaluations = 0;
 };
 
-LayerFitResult fit_layer(const LayerFitProblem& problem, int max_evaluations = 3000);
+// `progress` (optimiser.hpp) is asked before each start of the search onto the target; false stops
+// the fit with FitCancelled.
+LayerFitResult fit_layer(const LayerFitProblem& problem, int max_evaluations = 3000, const FitProgress& progress = {});
 
 // Best k of the design's n components (n <= 8): every k-subset fitted (fit_layer), the feasible
 // one with the largest objective kept (for the default objective: the smallest change of the

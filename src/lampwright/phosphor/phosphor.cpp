@@ -297,9 +297,21 @@ const PhosphorLibrary& PhosphorLibrary::builtin() {
         for (const auto& f : embedded_files())
             if (f.path.starts_with("phosphors/") && f.path.ends_with(".toml"))
                 l.add(parse_phosphor(std::string(f.content), "data/" + std::string(f.path)));
-        std::sort(l.phosphors_.begin(), l.phosphors_.end(), [](const Phosphor& a, const Phosphor& b) {
-            return emission_summary(a).peak_nm < emission_summary(b).peak_nm;
-        });
+        // Sorted by emission peak, each peak computed once (not in every comparison); the same
+        // std::sort over the same keys, so the order of equal peaks is as before.
+        struct Keyed {
+            double peak_nm;
+            Phosphor p;
+        };
+        std::vector<Keyed> keyed;
+        keyed.reserve(l.phosphors_.size());
+        for (auto& p : l.phosphors_) {
+            const double peak = emission_summary(p).peak_nm;
+            keyed.push_back({peak, std::move(p)});
+        }
+        std::sort(keyed.begin(), keyed.end(), [](const Keyed& a, const Keyed& b) { return a.peak_nm < b.peak_nm; });
+        l.phosphors_.clear();
+        for (auto& k : keyed) l.phosphors_.push_back(std::move(k.p));
         return l;
     }();
     return lib;

@@ -419,11 +419,12 @@ QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigne
         for (std::size_t i = next++; i < files.size(); i = next++) {
             try {
                 const std::string bytes = read_text_file(files[i]);
-                const SpectrumFile f = parse_spectrum_bytes(bytes, files[i], read);
+                SpectrumFile f = parse_spectrum_bytes(bytes, files[i], read);
                 const std::string hash = content_hash(bytes);
                 CentroidSum file_sum;
-                for (const auto& s : f.spectra) {
-                    const Spectrum one_nm = resample_to_1nm(s);
+                for (auto& s : f.spectra) {
+                    // 1 nm values are taken over, not copied, unless the spectrum is kept.
+                    const Spectrum one_nm = keep_spectra ? resample_to_1nm(s) : resample_to_1nm(std::move(s));
                     file_sum.add(one_nm);
                     AssessOptions lamp_options = options;
                     lamp_options.cie224_interval_nm = cie224_interval_for(s.wavelengths_nm);  // 5 nm data at 5 nm (CIE 224:2017, 4.1)

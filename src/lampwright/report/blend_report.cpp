@@ -112,6 +112,12 @@ nlohmann::ordered_json blend_json(const BlendResult& r, const BlendInput& in) {
     return j;
 }
 
+nlohmann::ordered_json blend_document_json(const BlendResult& r, const BlendInput& in) {
+    auto j = blend_json(r, in);
+    add_fidelity_summary_json(j, r.assessment);
+    return j;
+}
+
 std::string blend_assumptions_text(const BlendResult& r, const BlendInput& in) {
     std::string o;
     if (in.excitation.kind == Excitation::Kind::mercury) {
@@ -210,6 +216,12 @@ nlohmann::ordered_json phosphor_json(const Phosphor& p) {
     }
     j["model_note"] = p.model_note;
     j["origin"] = p.origin;
+    return j;
+}
+
+nlohmann::ordered_json phosphors_json(const std::vector<Phosphor>& phosphors) {
+    nlohmann::ordered_json j = nlohmann::ordered_json::array();
+    for (const auto& p : phosphors) j.push_back(phosphor_json(p));
     return j;
 }
 

@@ -14,6 +14,9 @@ namespace lampwright {
 std::vector<std::string> blend_columns(const BlendResult& r);
 std::vector<std::string> blend_values(const BlendResult& r);
 nlohmann::ordered_json blend_json(const BlendResult& r, const BlendInput& in);
+// The whole document of `blend --format json`: blend_json with Rf and Rg at the end (also the
+// "blend" object of lampwright serve's evaluations, so both have one schema).
+nlohmann::ordered_json blend_document_json(const BlendResult& r, const BlendInput& in);
 // The model's assumptions for a discharge lamp: the mercury lines applied (fraction, ratios,
 // lamp type, source) and how the 254 nm shares were taken (grain area or mass x absorption).
 // Empty for an LED pump. Used by blend and fit.
@@ -25,6 +28,8 @@ std::string coating_sweep_csv(const std::vector<BlendResult>& sweep);
 std::vector<std::string> phosphor_columns();
 std::vector<std::string> phosphor_values(const Phosphor& p);
 nlohmann::ordered_json phosphor_json(const Phosphor& p);
+// The library as a JSON array of phosphor_json (phosphors --format json, lampwright serve).
+nlohmann::ordered_json phosphors_json(const std::vector<Phosphor>& phosphors);
 std::string phosphor_table_text(const std::vector<Phosphor>& phosphors);
 
 }  // namespace lampwright

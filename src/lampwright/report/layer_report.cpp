@@ -80,6 +80,13 @@ void add_layer_package_json(nlohmann::ordered_json& j, const LayerEvaluation& re
     }
 }
 
+nlohmann::ordered_json layer_document_json(const LayerEvaluation& rep) {
+    auto j = layer_json(rep);
+    add_fidelity_summary_json(j, rep.operating.assessment);
+    add_layer_package_json(j, rep);
+    return j;
+}
+
 std::string layer_text(const LayerEvaluation& rep) {
     const auto& d = rep.design;
     const auto& r = rep.operating;

@@ -18,6 +18,9 @@ nlohmann::ordered_json layer_json(const LayerEvaluation& r);
 std::vector<std::string> layer_package_columns();
 std::vector<std::string> layer_package_values(const LayerEvaluation& r);
 void add_layer_package_json(nlohmann::ordered_json& j, const LayerEvaluation& r);
+// The whole document of `layer --format json`: layer_json with Rf and Rg, then the package fields (issue 14), at the end (also the
+// "layer" object of lampwright serve's evaluations).
+nlohmann::ordered_json layer_document_json(const LayerEvaluation& r);
 std::string layer_text(const LayerEvaluation& r);
 // The photobiological caution, or "" when the leak is negligible or the pump is not UV/violet.
 std::string layer_caution(const LayerEvaluation& r);

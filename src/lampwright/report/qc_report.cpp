@@ -151,6 +151,66 @@ std::string lamp_tooltip(const LampResult& l) {
                        l.pass() ? "" : " (" + join(l.failures, "; ") + ")");
 }
 
+// The density view of a large lot: every lamp counted in square cells of kCellPx pixels over
+// the window (lamps beyond it in the edge cells), a cell's colour by its count on a log scale
+// (each class twice to four times the one below), its tooltip the count with passed and failed.
+// Returns the legend of the classes (SVG in pixels, below the main legend).
+// The cells go under the tolerance region (first in ov.polygons), which stays visible over them.
+std::string add_density_cells(const QcRun& run, SvgOverlay& ov, double u_min, double u_max, double v_min, double v_max, double per_px, double inset,
+                              int lx, int ly) {
+    constexpr double kCellPx = 8;
+    const double cell = kCellPx * per_px;
+    const int nu = std::max(1, static_cast<int>(std::ceil((u_max - u_min) / cell))), nv = std::max(1, static_cast<int>(std::ceil((v_max - v_min) / cell)));
+    std::vector<std::size_t> count(static_cast<std::size_t>(nu) * nv, 0), failed(count.size(), 0);
+    for (const auto& l : run.lamps) {
+        const double u = std::clamp(l.assessment.uv_prime.u, u_min + inset, u_max - inset), v = std::clamp(l.assessment.uv_prime.v, v_min + inset, v_max - inset);
+        if (!std::isfinite(u) || !std::isfinite(v)) continue;
+        const int i = std::clamp(static_cast<int>((u - u_min) / cell), 0, nu - 1), j = std::clamp(static_cast<int>((v - v_min) / cell), 0, nv - 1);
+        const std::size_t k = static_cast<std::size_t>(j) * nu + i;
+        ++count[k];
+        if (!l.pass()) ++failed[k];
+    }
+    // Class upper bounds 1, 4, 16, 64, 256, 1024, more; light to dark blue-grey (away from the
+    // pass and fail colours).
+    static constexpr std::array<const char*, 7> kRamp{"#dbe4ee", "#b7c9dc", "#8fa9c6", "#6a8bb0", "#47699a", "#2b4d7e", "#15305a"};
+    static constexpr std::array<std::size_t, 6> kUpper{1, 4, 16, 64, 256, 1024};
+    const auto class_of = [](std::size_t n) {
+        std::size_t c = 0;
+        while (c < kUpper.size() && n > kUpper[c]) ++c;
+        return c;
+    };
+    std::size_t top = 0;
+    std::vector<SvgPolygon> cells;
+    for (int j = 0; j < nv; ++j)
+        for (int i = 0; i < nu; ++i) {
+            const std::size_t k = static_cast<std::size_t>(j) * nu + i;
+            if (count[k] == 0) continue;
+            SvgPolygon c;
+            const double u0 = u_min + i * cell, v0 = v_min + j * cell;
+            c.x = {u0, u0 + cell, u0 + cell, u0};
+            c.y = {v0, v0, v0 + cell, v0 + cell};
+            c.css_class = "density";
+            const std::size_t cls = class_of(count[k]);
+            top = std::max(top, cls);
+            c.fill = kRamp[cls];
+            c.stroke = "none";
+            c.stroke_width = 0;
+            c.title = fmt::format("{} lamp{} ({} passed, {} failed)", count[k], count[k] == 1 ? "" : "s", count[k] - failed[k], failed[k]);
+            cells.push_back(std::move(c));
+        }
+    ov.polygons.insert(ov.polygons.begin(), cells.begin(), cells.end());
+    std::string o = fmt::format(R"(<g class="legend density-legend" font-size="11"><rect x="{}" y="{}" width="196" height="{}" fill="white" fill-opacity="0.9" stroke="#999"/>)",
+                                lx, ly, 22 + 14 * (top + 1));
+    o += fmt::format(R"(<text x="{}" y="{}">lamps per cell ({:g}×{:g} px)</text>)", lx + 6, ly + 14, kCellPx, kCellPx);
+    for (std::size_t c = 0; c <= top; ++c) {
+        const std::size_t lo = c == 0 ? 1 : kUpper[c - 1] + 1;
+        const std::string range = c == kUpper.size() ? fmt::format("more than {}", kUpper.back()) : lo == kUpper[c] ? fmt::format("{}", lo) : fmt::format("{}-{}", lo, kUpper[c]);
+        const int y = ly + 20 + 14 * static_cast<int>(c);
+        o += fmt::format(R"(<rect x="{}" y="{}" width="12" height="10" fill="{}"/><text x="{}" y="{}">{}</text>)", lx + 6, y, kRamp[c], lx + 24, y + 9, range);
+    }
+    return o + "</g>";
+}
+
 std::string uv_diagram_svg(const QcRun& run) {
     // The legend has its own column right of the plot area (it never hides a lamp).
     constexpr int kLegend = 206, kWidth = 600 + kLegend, kHeight = 600;
@@ -168,9 +228,8 @@ std::string uv_diagram_svg(const QcRun& run) {
     if (std::isfinite(cen.u)) far = std::max({far, std::abs(cen.u - centre.u), std::abs(cen.v - centre.v)});
     const double r = std::max(r0, std::min(far * 1.12, 3 * r0));
     const SvgPlotArea area = svg_plot_area(kWidth, kHeight, kLegend);
-    const double pw = area.right - area.left, ph = area.bottom - area.top, per_px = 2 * r / std::min(pw, ph);
-    const double u_min = centre.u - pw * per_px / 2, u_max = centre.u + pw * per_px / 2;
-    const double v_min = centre.v - ph * per_px / 2, v_max = centre.v + ph * per_px / 2;
+    const SvgWindow w = svg_square_window(centre.u, centre.v, r, kWidth, kHeight, kLegend);
+    const double per_px = w.per_pixel, u_min = w.x_min, u_max = w.x_max, v_min = w.y_min, v_max = w.y_max;
 
     SvgOverlay ov;
     ov.id = "uv-diagram";
@@ -197,11 +256,17 @@ std::string uv_diagram_svg(const QcRun& run) {
     target.colour = "#1f5fa8";
     target.title = "target centre: " + spec.target_description;
 
-    // Failed lamps last, so they are drawn over the passing ones.
+    // Failed lamps last, so they are drawn over the passing ones. In a large lot every lamp is
+    // counted in the density cells and only failing and outlying lamps are drawn one by one.
+    const bool density = run.lamps.size() > kQcReportDensityAbove;
     std::vector<const LampResult*> order;
-    for (const auto& l : run.lamps) order.push_back(&l);
+    for (const auto& l : run.lamps)
+        if (!density || !l.pass() || l.outlier) order.push_back(&l);
     std::stable_partition(order.begin(), order.end(), [](const LampResult* l) { return l->pass(); });
+    if (order.size() > kQcReportDensityAbove) order.erase(order.begin(), order.end() - static_cast<std::ptrdiff_t>(kQcReportDensityAbove));
     const double inset = 6 * per_px;
+    std::string density_legend;
+    if (density) density_legend = add_density_cells(run, ov, u_min, u_max, v_min, v_max, per_px, inset, area.right + 10, area.top + 100);
     for (const LampResult* l : order) {
         SvgMarker m;
         const double u = l->assessment.uv_prime.u, v = l->assessment.uv_prime.v;
@@ -247,6 +312,7 @@ std::string uv_diagram_svg(const QcRun& run) {
                                 lx + 6, ly + 74, lx + 24, ly + 82,
                                 xml_escape(spec.region == QcSpec::Region::ellipse ? fmt::format("{:g}-step ellipse", spec.max_steps)
                                            : spec.region == QcSpec::Region::circle ? "u'v' circle" : "ANSI quadrangle"));
+    ov.pixel_svg += density_legend;
     return svg_uv_diagram("CIE 1976 u'v' chromaticity (2° observer), zoomed on the target", {}, u_min, u_max, v_min, v_max, kWidth, kHeight, ov);
 }
 
@@ -620,6 +686,10 @@ std::string qc_html_report(const QcRun& run, const std::string& extra_html) {
     for (const auto& l : run.lamps) ra.push_back(ra_of(l)), r9.push_back(r9_of(l));
     o += "<div class=\"histograms\">" + histogram_svg("hist-ra", "Ra", ra, s.ra_min) + histogram_svg("hist-r9", "R9", r9, s.r9_min) + "</div>\n";
     o += "</div>\n";
+    if (run.lamps.size() > kQcReportDensityAbove)
+        o += fmt::format("<p class=\"note\">Density: more than {} lamps, so the lamps are counted in square cells (the legend gives the "
+                         "counts; a cell's tooltip its passed and failed lamps); failing and outlying lamps are drawn as points over them.</p>\n",
+                         kQcReportDensityAbove);
     o += "<p class=\"note\">Points: each lamp at its CIE 1976 u', v' (green: passed every limit; red: failed at least one; "
          "an open ring: beyond the plotted window, shown at its edge). The black diamond is the lot centroid (mean x, y); the "
          "cross is the target centre. Ticks on the Planckian locus mark CCT. Histogram bars below a spec minimum are red.</p>\n";
@@ -640,9 +710,15 @@ std::string qc_html_report(const QcRun& run, const std::string& extra_html) {
     o += "<h2>Lamps</h2>\n<table id=\"lamp-table\">\n<thead><tr><th>#</th><th class=\"text\">lamp</th><th class=\"text\">file</th><th>x</th><th>y</th>"
          "<th>u'</th><th>v'</th><th>CCT (K)</th><th>Duv</th><th>Ra</th><th>R9</th><th>Rf</th><th>Rg</th><th>LER (lm/W)</th><th>steps</th><th class=\"text\">result</th>"
          "<th class=\"text\">failed limits, notes</th></tr></thead>\n<tbody>\n";
+    const bool only_exceptions = run.lamps.size() > kQcReportDensityAbove;
+    std::size_t not_listed = 0;
     for (std::size_t i = 0; i < run.lamps.size(); ++i) {
         const auto& l = run.lamps[i];
         const auto& a = l.assessment;
+        if (only_exceptions && l.pass() && !l.outlier) {
+            ++not_listed;
+            continue;
+        }
         std::string notes = join(l.failures, "; ");
         if (l.outlier) notes += (notes.empty() ? "" : "; ") + std::string("outlier: ") + l.outlier_note;
         o += fmt::format("<tr class=\"{}{}\"><td>{}</td><td class=\"text name\">{}</td><td class=\"text\">{}</td><td>{:.4f}</td><td>{:.4f}</td><td>{:.4f}</td>"
@@ -653,6 +729,10 @@ std::string qc_html_report(const QcRun& run, const std::string& extra_html) {
                          format_fixed(rf_of(l), 1, "-"), format_fixed(rg_of(l), 1, "-"), format_fixed(a.ler_lm_per_W, 1, "-"), l.steps, l.pass() ? "PASS" : "FAIL", e(notes));
     }
     o += "</tbody>\n</table>\n";
+    if (only_exceptions)
+        o += fmt::format("<p class=\"note\" id=\"lamps-not-listed\">{} passing lamps that are not outliers are not listed (a lot of more than {} lamps); "
+                         "<code>lampwright qc --format csv</code> or <code>--format json</code> lists every lamp.</p>\n",
+                         not_listed, kQcReportDensityAbove);
 
     o += "<h2>Lot statistics</h2>\n<table id=\"lot-statistics\">\n<thead><tr><th class=\"text\">quantity</th><th>mean</th><th>sd</th><th>min</th>"
          "<th>max</th><th>lower limit</th><th>upper limit</th><th>Ppk</th><th>Ppk 95 % interval</th><th>Ppk without outliers</th></tr></thead>\n<tbody>\n";

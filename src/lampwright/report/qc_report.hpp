@@ -3,7 +3,8 @@
 // network): u'v' diagram zoomed on the target (Planckian locus with CCT ticks, the tolerance
 // region, each lamp coloured pass/fail, the centroid), histograms of Ra and R9, the TM-30-20 colour
 // vector graphic of the lot's centroid spectrum (id "cvg-centroid") with histograms of Rf and Rg
-// ("hist-rf", "hist-rg"), a table of every lamp, the lot statistics.
+// ("hist-rf", "hist-rg"), a table of every lamp (of the failing and outlying ones in a lot of
+// more than kQcReportDensityAbove lamps), the lot statistics.
 #include "lampwright/phosphor/blend.hpp"
 #include "lampwright/production/lot_correction.hpp"
 #include "lampwright/production/lot_diagnosis.hpp"
@@ -20,6 +21,11 @@ std::string qc_text(const QcRun& run);
 std::vector<std::string> qc_lamp_columns();          // assess columns + file, steps, inside, pass, failures, outlier
 std::vector<std::string> qc_lamp_values(const LampResult& l);
 nlohmann::ordered_json qc_json(const QcRun& run);
+// Above this many lamps the HTML report draws the u'v' diagram as a density plot (lamps counted
+// in square cells, a legend of counts) with only failing and outlying lamps as single points, and
+// its lamp table lists only those lamps (the CSV and JSON outputs still hold every lamp): one
+// point and one row per lamp made a 50,000-lamp report 27 MB (common practice, no source).
+inline constexpr std::size_t kQcReportDensityAbove = 2000;
 std::string qc_html_report(const QcRun& run, const std::string& extra_html = "");
 
 // The boundary of the spec's tolerance region as CIE 1976 u'v' points (closed polygon).

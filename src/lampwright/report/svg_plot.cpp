@@ -249,6 +249,12 @@ Frame frame_for(const SvgAxes& axes, const std::vector<SvgSeries>& series, const
 
 }  // namespace
 
+SvgWindow svg_square_window(double x, double y, double half, int width, int height, int legend_width) {
+    const SvgPlotArea area = svg_plot_area(width, height, legend_width);
+    const double pw = area.right - area.left, ph = area.bottom - area.top, per_px = 2 * half / std::min(pw, ph);
+    return {x - pw * per_px / 2, x + pw * per_px / 2, y - ph * per_px / 2, y + ph * per_px / 2, per_px};
+}
+
 std::string series_colour(std::size_t i) {
     static constexpr std::array<const char*, 8> c{"#1f77b4", "#d62728", "#2ca02c", "#9467bd", "#ff7f0e", "#17becf", "#8c564b", "#e377c2"};
     return c[i % c.size()];
@@ -313,28 +319,44 @@ std::string svg_uv_diagram(const std::string& title, const std::vector<SvgSeries
         lv.push_back(p.v);
     }
     o += polyline(f, lu, lv, "#888", 1.0);
-    // Planckian locus with CCT ticks (CIE 1960 v = 2/3 v').
+    // Planckian locus with CCT ticks (CIE 1960 v = 2/3 v'), from the Ohno table and computed once: every diagram draws
+    // the same curve, and the page of lampwright serve redraws one for each slider move.
+    struct LocusPoint {
+        double t;
+        UV uv;
+    };
+    static const std::vector<LocusPoint> locus = [] {
+        std::vector<LocusPoint> l;
+        for (double t = 1000; t <= 25000; t *= 1.005) l.push_back({t, planck_uv_tabulated(t)});
+        return l;
+    }();
+    // The candidate tick temperatures, every 50 K (the finest tick step below), also once.
+    static const std::vector<LocusPoint> tick_points = [] {
+        std::vector<LocusPoint> l;
+        for (double t = 1000; t <= 20000; t += 50) l.push_back({t, planck_uv_tabulated(t)});
+        return l;
+    }();
     std::vector<double> pu, pv;
-    for (double t = 1000; t <= 25000; t *= 1.005) {
-        const UV p = planck_uv(t);
-        pu.push_back(p.u);
-        pv.push_back(1.5 * p.v);
+    for (const auto& q : locus) {
+        pu.push_back(q.uv.u);
+        pv.push_back(1.5 * q.uv.v);
     }
     o += "<g class=\"planckian-locus\">" + polyline(f, pu, pv, "#000", 1.2) + "</g>";
     // CCT ticks across the locus (along its normal on the page). A zoomed window that holds
     // fewer than three of the usual temperatures gets ticks every 100 K (or 50 K) instead.
+    auto inside = [&](double t) {
+        const auto it = std::find_if(tick_points.begin(), tick_points.end(), [&](const LocusPoint& q) { return q.t == t; });
+        const UV p = it != tick_points.end() ? it->uv : planck_uv_tabulated(t);
+        return f.inside(p.u, 1.5 * p.v);
+    };
     std::vector<double> ticks;
-    for (double t : {2000.0, 2500.0, 2700.0, 3000.0, 3500.0, 4000.0, 4500.0, 5000.0, 5700.0, 6500.0, 8000.0, 10000.0}) {
-        const UV p = planck_uv(t);
-        if (f.inside(p.u, 1.5 * p.v)) ticks.push_back(t);
-    }
+    for (double t : {2000.0, 2500.0, 2700.0, 3000.0, 3500.0, 4000.0, 4500.0, 5000.0, 5700.0, 6500.0, 8000.0, 10000.0})
+        if (inside(t)) ticks.push_back(t);
     if (ticks.size() < 3) {
         for (double step : {500.0, 200.0, 100.0, 50.0}) {
             ticks.clear();
-            for (double t = 1000; t <= 20000; t += step) {
-                const UV p = planck_uv(t);
-                if (f.inside(p.u, 1.5 * p.v)) ticks.push_back(t);
-            }
+            for (const auto& q : tick_points)
+                if (std::fmod(q.t, step) == 0 && f.inside(q.uv.u, 1.5 * q.uv.v)) ticks.push_back(q.t);
             if (ticks.size() >= 3) break;
         }
         while (ticks.size() > 9) {  // thin to at most 9 labels
@@ -345,7 +367,7 @@ std::string svg_uv_diagram(const std::string& title, const std::vector<SvgSeries
     }
     o += "<g class=\"cct-ticks\">";
     for (double t : ticks) {
-        const UV p = planck_uv(t), p0 = planck_uv(t * 0.999), p1 = planck_uv(t * 1.001);
+        const UV p = planck_uv_tabulated(t), p0 = planck_uv_tabulated(t * 0.999), p1 = planck_uv_tabulated(t * 1.001);
         const double x = f.px(p.u), y = f.py(1.5 * p.v);
         double tx = f.px(p1.u) - f.px(p0.u), ty = f.py(1.5 * p1.v) - f.py(1.5 * p0.v);
         const double len = std::hypot(tx, ty);

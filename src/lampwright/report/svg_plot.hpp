@@ -73,6 +73,13 @@ struct SvgPlotArea {
     int left = 0, top = 0, right = 0, bottom = 0;
 };
 SvgPlotArea svg_plot_area(int width, int height, int legend_width = 0);
+// A window of equal scales in x and y centred on (x, y), `half` data units from the centre to the
+// nearer edges of a chart of the given size (the u'v' diagrams of qc and serve, zoomed on a target).
+struct SvgWindow {
+    double x_min = 0, x_max = 1, y_min = 0, y_max = 1;
+    double per_pixel = 0;  // data units per pixel
+};
+SvgWindow svg_square_window(double x, double y, double half, int width, int height, int legend_width = 0);
 // The width of the legend column that the labelled series need (0 when none is labelled): a chart
 // keeps its plot area when it is made this much wider.
 int svg_legend_width(const std::vector<SvgSeries>& series);
