@@ -1,8 +1,9 @@
-// libFuzzer harness: every TOML reader (recipe, LED layer design, phosphor file, QC
-// specification) on the same bytes. Any exception other than lampwright::Error, any sanitizer
+// libFuzzer harness: every TOML reader (recipe, LED layer design, layer calibration, phosphor
+// file, QC specification) on the same bytes. Any exception other than lampwright::Error, any sanitizer
 // report, a crash or a hang is a defect.
 #include "lampwright/core/error.hpp"
 #include "lampwright/io/toml_access.hpp"
+#include "lampwright/led/layer_calibration.hpp"
 #include "lampwright/led/layer_design.hpp"
 #include "lampwright/phosphor/phosphor.hpp"
 #include "lampwright/phosphor/recipe.hpp"
@@ -41,6 +42,7 @@ extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size
             if (lampwright::is_layer_design(doc)) (void)lampwright::layer_design_from_toml(doc);
         });
         expecting_only_input_errors([&] { (void)lampwright::recipe_from_toml(doc, {}); });
+        expecting_only_input_errors([&] { (void)lampwright::layer_calibration_from_toml(doc); });
     });
     expecting_only_input_errors([&] { (void)lampwright::parse_phosphor(text, "fuzz"); });
     expecting_only_input_errors([&] {

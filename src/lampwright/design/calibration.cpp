@@ -42,13 +42,10 @@ double to_internal(const CalibrationParameter& q, double x) {
     return std::log(t / (1 - t));
 }
 
-struct Grid {
-    std::vector<int> nm;
-    int step = 0;
-};
+}  // namespace
 
-Grid measurement_grid(const SampledSpectrum& m, const std::string& label) {
-    Grid g;
+CalibrationGrid measurement_grid(const SampledSpectrum& m, const std::string& label) {
+    CalibrationGrid g;
     for (double w : m.wavelengths_nm) {
         if (std::abs(w - std::round(w)) > 1e-9 || w < kEmissionFirstNm || w > kEmissionLastNm)
             throw Error(fmt::format("trial '{}': calibration needs whole-nm wavelengths within {}-{} nm ({:g} nm is not)", label,
@@ -62,6 +59,8 @@ Grid measurement_grid(const SampledSpectrum& m, const std::string& label) {
     return g;
 }
 
+namespace {
+
 std::string lamp_type_of(const BlendInput& b) { return b.lamp_type ? *b.lamp_type : infer_lamp_type(b.components); }
 
 }  // namespace
@@ -71,6 +70,9 @@ std::string CalibrationParameter::describe() const {
         case CalibrationParameterKind::absorption_factor: return "absorption factor of " + name;
         case CalibrationParameterKind::line_fraction: return "mercury-line fraction (" + name + ")";
         case CalibrationParameterKind::scale: return "scale of trial " + name;
+        case CalibrationParameterKind::mass_absorption_scale: return "mass absorption scale";
+        case CalibrationParameterKind::scattering_scale: return "scattering scale";
+        case CalibrationParameterKind::brightness_factor: return "brightness factor of " + name;
     }
     return name;
 }
@@ -144,7 +146,7 @@ CalibrationProblem::CalibrationProblem(const std::vector<CalibrationTrial>& tria
         tr.line_index = line_of[lamp_type_of(t.blend)];
         tr.scale_index = static_cast<int>(parameters_.size());
         parameters_.push_back({CalibrationParameterKind::scale, t.label, kScaleLower, kScaleUpper, 1.0});
-        const Grid g = measurement_grid(t.measured, t.label);
+        const CalibrationGrid g = measurement_grid(t.measured, t.label);
         tr.bandwidth = o.bandwidth_nm > 0 ? o.bandwidth_nm : g.step;
         double norm = 0;
         for (std::size_t i = 0; i < g.nm.size(); ++i) {
@@ -205,15 +207,21 @@ std::vector<double> CalibrationProblem::residuals(const std::vector<double>& p) 
     return r;
 }
 
-std::vector<double> CalibrationProblem::trial_residuals(const std::vector<double>& p) const {
-    const std::vector<double> r = residuals(p);
+std::vector<double> block_norms(const std::vector<double>& r, const std::vector<std::size_t>& sizes) {
     std::vector<double> out;
-    for (const auto& tr : trials_) {
+    std::size_t row = 0;
+    for (std::size_t n : sizes) {
         double s = 0;
-        for (std::size_t i = 0; i < tr.grid_nm.size(); ++i) s += r[tr.first_row + i] * r[tr.first_row + i];
+        for (std::size_t i = 0; i < n; ++i, ++row) s += r.at(row) * r.at(row);
         out.push_back(std::sqrt(s));
     }
     return out;
+}
+
+std::vector<double> CalibrationProblem::trial_residuals(const std::vector<double>& p) const {
+    std::vector<std::size_t> sizes;
+    for (const auto& tr : trials_) sizes.push_back(tr.grid_nm.size());
+    return block_norms(residuals(p), sizes);
 }
 
 ModelCalibration CalibrationProblem::calibration(const std::vector<double>& p, const std::vector<double>& sd) const {
@@ -232,9 +240,9 @@ namespace {
 
 // Eigen's Levenberg-Marquardt (unsupported module; More 1978) on the internal variables u.
 struct LmFunctor : Eigen::DenseFunctor<double> {
-    const CalibrationProblem& problem;
+    const ResidualProblem& problem;
     int* evaluations;
-    LmFunctor(const CalibrationProblem& pr, int* ev)
+    LmFunctor(const ResidualProblem& pr, int* ev)
         : Eigen::DenseFunctor<double>(static_cast<int>(pr.parameters().size()), static_cast<int>(pr.residual_count())), problem(pr), evaluations(ev) {}
     std::vector<double> values_of(const InputType& u) const {
         std::vector<double> p(problem.parameters().size());
@@ -265,7 +273,7 @@ struct LmFunctor : Eigen::DenseFunctor<double> {
 
 // The Jacobian of the residuals in the parameters themselves (for the covariance), by central
 // differences, one-sided where a bound is near.
-Eigen::MatrixXd value_jacobian(const CalibrationProblem& pr, const std::vector<double>& p) {
+Eigen::MatrixXd value_jacobian(const ResidualProblem& pr, const std::vector<double>& p) {
     const auto& qs = pr.parameters();
     Eigen::MatrixXd j(static_cast<Eigen::Index>(pr.residual_count()), static_cast<Eigen::Index>(qs.size()));
     for (std::size_t c = 0; c < qs.size(); ++c) {
@@ -295,17 +303,12 @@ std::string lm_status(Eigen::LevenbergMarquardtSpace::Status s) {
 
 }  // namespace
 
-CalibrationResult calibrate_model(const std::vector<CalibrationTrial>& trials, const CalibrationOptions& o) {
-    const CalibrationProblem problem(trials, o);
+LeastSquaresFit fit_least_squares(const ResidualProblem& problem, const CalibrationOptions& o) {
     const auto& qs = problem.parameters();
     const std::size_t np = qs.size();
-    CalibrationResult res;
-    res.reference = problem.reference();
-    res.reference_reason = problem.reference_reason();
-    res.warnings = problem.notes();
+    LeastSquaresFit res;
     res.n = problem.residual_count();
     res.p = np;
-
     LmFunctor functor(problem, &res.evaluations);
     Eigen::VectorXd u(static_cast<Eigen::Index>(np));
     for (std::size_t j = 0; j < np; ++j) u(static_cast<Eigen::Index>(j)) = to_internal(qs[j], qs[j].start);
@@ -396,6 +399,29 @@ CalibrationResult calibrate_model(const std::vector<CalibrationTrial>& trials, c
             res.warnings.push_back(fmt::format("the {} ended at its bound ({:g}): the model cannot fit these trials with a value inside", q.describe(), q.value));
         res.parameters.push_back(q);
     }
+    res.values = p;
+    res.sd = sd;
+    return res;
+}
+
+CalibrationResult calibrate_model(const std::vector<CalibrationTrial>& trials, const CalibrationOptions& o) {
+    const CalibrationProblem problem(trials, o);
+    LeastSquaresFit fit = fit_least_squares(problem, o);
+    CalibrationResult res;
+    res.reference = problem.reference();
+    res.reference_reason = problem.reference_reason();
+    res.warnings = problem.notes();
+    res.warnings.insert(res.warnings.end(), fit.warnings.begin(), fit.warnings.end());
+    res.n = fit.n;
+    res.p = fit.p;
+    res.rss = fit.rss;
+    res.s2 = fit.s2;
+    res.evaluations = fit.evaluations;
+    res.solver = fit.solver;
+    res.parameters = fit.parameters;
+    res.correlation = fit.correlation;
+    const std::vector<double>& p = fit.values;
+    const std::vector<double>& sd = fit.sd;
     res.calibration = problem.calibration(p, sd);
     const std::vector<double> per_trial = problem.trial_residuals(p);
     for (std::size_t t = 0; t < trials.size(); ++t) {

@@ -35,7 +35,10 @@ struct CalibrationOptions {
     int bandwidth_nm = 0;             // 0: each measurement's grid step
 };
 
-enum class CalibrationParameterKind { absorption_factor, line_fraction, scale };
+// The last three are the LED layer model's (led/layer_calibration.hpp): a scale on the mass
+// absorption coefficient kappa, a scale on the grains' scattering coefficient, and per phosphor a
+// brightness (quantum-efficiency) factor.
+enum class CalibrationParameterKind { absorption_factor, line_fraction, scale, mass_absorption_scale, scattering_scale, brightness_factor };
 
 struct CalibrationParameter {
     CalibrationParameterKind kind;
@@ -45,21 +48,63 @@ struct CalibrationParameter {
     std::string describe() const;  // "absorption factor of LaPO4:Ce3+,Tb3+", "mercury-line fraction (tri-band)", "scale of trial T1"
 };
 
+// A measured spectrum's wavelengths as whole nm within the emission grid, with their uniform
+// step; throws Error (naming the trial) otherwise.
+struct CalibrationGrid {
+    std::vector<int> nm;
+    int step = 0;
+};
+CalibrationGrid measurement_grid(const SampledSpectrum& measured, const std::string& label);
+
+// The L2 norm of each consecutive block of `sizes` rows of r (a trial's residual).
+std::vector<double> block_norms(const std::vector<double>& r, const std::vector<std::size_t>& sizes);
+
+// A least-squares problem for the solver (fit_least_squares): bounded parameters and a residual
+// vector. The lamp problem (CalibrationProblem) and the LED layer problem (LayerCalibrationProblem,
+// led/layer_calibration.hpp) both are one.
+class ResidualProblem {
+public:
+    virtual ~ResidualProblem() = default;
+    virtual const std::vector<CalibrationParameter>& parameters() const = 0;
+    virtual std::size_t residual_count() const = 0;
+    // Residuals (length residual_count) at parameter values p (length parameters().size()).
+    virtual std::vector<double> residuals(const std::vector<double>& p) const = 0;
+};
+
+// What the solver gives: the parameters with value and sd (NaN when undetermined), their
+// correlations, the sums and the warnings about inseparable or undetermined parameters.
+struct LeastSquaresFit {
+    std::vector<CalibrationParameter> parameters;
+    std::vector<double> values, sd;
+    std::vector<std::vector<double>> correlation;  // NaN where undetermined
+    double rss = 0;
+    std::size_t n = 0, p = 0;
+    double s2 = 0;
+    int evaluations = 0;
+    std::string solver;
+    std::vector<std::string> warnings;
+};
+
+// Levenberg-Marquardt (Eigen's unsupported module, More 1978) with bounds by a change of variable,
+// from the parameters' start values; then cov = s^2 (J^T J)^-1 at the optimum, inverted on the
+// eigenbasis of the scaled information matrix so that near-singular directions are named.
+LeastSquaresFit fit_least_squares(const ResidualProblem& problem, const CalibrationOptions& options = {});
+
 // The least-squares problem: parameters with bounds, and the residual function. Kept apart from
 // the solver (calibrate_model), so that tests can evaluate it at known parameters.
-class CalibrationProblem {
+class CalibrationProblem : public ResidualProblem {
 public:
     // Throws Error for trials it cannot use (no trial, LED pump, bad grid, nothing absorbs).
     CalibrationProblem(const std::vector<CalibrationTrial>& trials, const CalibrationOptions& options = {});
 
-    const std::vector<CalibrationParameter>& parameters() const { return parameters_; }
-    std::size_t residual_count() const { return residual_count_; }
+    const std::vector<CalibrationParameter>& parameters() const override { return parameters_; }
+    std::size_t residual_count() const override { return residual_count_; }
     const std::string& reference() const { return reference_; }
     const std::string& reference_reason() const { return reference_reason_; }
     const std::vector<std::string>& notes() const { return notes_; }  // set up: parameters the trials cannot determine, ...
 
     // Residuals (length residual_count) at parameter values p (length parameters().size()).
-    std::vector<double> residuals(const std::vector<double>& p) const;
+    std::vector<double> residuals(const std::vector<double>& p) const override;
     // Relative L2 residual of each trial (its rows' norm; the measurement has norm 1).
     std::vector<double> trial_residuals(const std::vector<double>& p) const;
     // The 1 nm model spectrum of trial t (before bandpass and scale).

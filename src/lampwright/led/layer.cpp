@@ -185,7 +185,7 @@ LayerMedium layer_medium(const LayerDesign& d, double t_C, std::vector<std::stri
             add_warning(warnings, fmt::format("{} has quantum efficiency data for 365-405 nm excitation only: {:g} used for the {:g} nm pump "
                                               "(give quantum_efficiency in the component to set it)",
                                               p.id, qe25, d.pump.peak_nm));
-        a.quantum_efficiency = std::min(1.0, qe25 * thermal_factor(p, t_C) / thermal_factor(p, kRoomTemperatureC));
+        a.quantum_efficiency = std::min(1.0, c.brightness_factor * qe25 * thermal_factor(p, t_C) / thermal_factor(p, kRoomTemperatureC));
         m.components.push_back(std::move(a));
         // Scattering by the grains at their volume fraction f = loading x rho_layer / rho_grain.
         const double density = p.density_g_per_cm3 > 0 ? p.density_g_per_cm3 : kAssumedDensity_g_per_cm3;
@@ -195,7 +195,7 @@ LayerMedium layer_medium(const LayerDesign& d, double t_C, std::vector<std::stri
         if (!(p.d50_um > 0)) add_warning(warnings, fmt::format("no grain size (d50) for {}: {:g} um assumed", p.id, kAssumedD50_um));
         if (!(p.refractive_index > 0)) add_warning(warnings, fmt::format("no refractive index for {}: {:g} assumed", p.id, kAssumedGrainIndex));
         const double f = c.loading * rho / density;
-        for (std::size_t k = 0; k < kGridSize; ++k) m.scattering[k] += grain_scattering_per_cm(f, d50, n, d.binder_index, grid_nm(k));
+        for (std::size_t k = 0; k < kGridSize; ++k) m.scattering[k] += d.scattering_scale * grain_scattering_per_cm(f, d50, n, d.binder_index, grid_nm(k));
     }
     return m;
 }

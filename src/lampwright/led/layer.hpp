@@ -61,6 +61,9 @@ struct LayerComponent {
     Phosphor phosphor;
     double loading = 0;  // mass fraction of this phosphor in the layer (phosphor + binder)
     std::optional<double> quantum_efficiency;  // overrides the phosphor's QE under the pump
+    // Multiplies the QE at 25 degC (the result capped at 1): a calibration's brightness factor
+    // (led/layer_calibration.hpp) or the design key brightness_factor.
+    double brightness_factor = 1.0;
     // Limits on the fitted loading (design keys min_loading, max_loading; fit_layer honours them,
     // evaluate_layer ignores them).
     std::optional<double> min_loading{}, max_loading{};
@@ -77,6 +80,9 @@ struct LayerDesign {
     double binder_index = kSiliconeIndex;
     double outside_index = kOutsideIndex;
     double scattering_asymmetry = kGrainAsymmetry;
+    // Multiplies the grains' scattering coefficient mu_s from anomalous diffraction ([layer]
+    // scattering_scale; a calibration's scattering scale multiplies it further).
+    double scattering_scale = 1.0;
     double reflector_reflectance = kReflectorReflectance;
     double temperature_C = kRoomTemperatureC;
     std::vector<LayerComponent> components;
@@ -96,6 +102,10 @@ struct LayerDesign {
     // dome_index (default: the binder's) around it, which the light meets at normal incidence.
     enum class Top { flat, dome } top = Top::flat;
     std::optional<double> dome_index;
+    // The layer calibration applied (design key calibration, led/layer_calibration.hpp): its path
+    // ("" when none), and what of it was not applied.
+    std::string calibration;
+    std::vector<std::string> calibration_notes;
 };
 
 // The junction temperature when the layer is at `temperature_C`: the design's junction

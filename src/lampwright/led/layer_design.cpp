@@ -1,5 +1,7 @@
 #include "lampwright/led/layer_design.hpp"
 
+#include "lampwright/led/layer_calibration.hpp"
+
 #include "lampwright/phosphor/blend.hpp"
 #include "lampwright/phosphor/component_table.hpp"
 #include "lampwright/core/interpolation.hpp"
@@ -30,9 +32,9 @@ Spectrum read_one_spectrum(const TomlDoc& doc, const toml::node* node, const std
 bool is_layer_design(const TomlDoc& doc) { return doc.root().get("layer") != nullptr; }
 
 LayerDesign layer_design_from_toml(const TomlDoc& doc, const std::vector<std::string>& extra_folders,
-                                   const std::vector<std::string>& extra_root_keys) {
+                                   const std::vector<std::string>& extra_root_keys, bool apply_calibration) {
     const auto& r = doc.root();
-    std::vector<std::string> known{"name", "pump", "layer", "operating", "package", "phosphor_folders", "component"};
+    std::vector<std::string> known{"name", "pump", "layer", "operating", "package", "phosphor_folders", "component", "calibration"};
     known.insert(known.end(), extra_root_keys.begin(), extra_root_keys.end());
     doc.only_keys(r, known, "");
     LayerDesign d;
@@ -82,7 +84,7 @@ LayerDesign layer_design_from_toml(const TomlDoc& doc, const std::vector<std::st
             doc.fail(layer->get(gone), key_path("layer", gone),
                      "is no longer used: the layer model now computes the light paths from the grains' scattering (README \"LED layer physics\"); remove it");
     doc.only_keys(*layer, {"thickness_um", "binder_density_g_per_cm3", "mass_absorption_cm2_per_g", "binder_index", "outside_index",
-                           "scattering_asymmetry", "reflector_reflectance"}, "layer");
+                           "scattering_asymmetry", "reflector_reflectance", "scattering_scale"}, "layer");
     d.thickness_um = doc.require_number(*layer, "thickness_um", "layer");
     if (d.thickness_um < 0) doc.fail(layer->get("thickness_um"), "layer.thickness_um", "must not be negative");
     if (d.thickness_um > 10000) doc.fail(layer->get("thickness_um"), "layer.thickness_um", fmt::format("{:g} um is over 1 cm: micrometres expected", d.thickness_um));
@@ -94,6 +96,12 @@ LayerDesign layer_design_from_toml(const TomlDoc& doc, const std::vector<std::st
     };
     positive("binder_density_g_per_cm3", d.binder_density_g_per_cm3);
     positive("mass_absorption_cm2_per_g", d.mass_absorption_cm2_per_g);
+    if (auto v = doc.number(*layer, "scattering_scale", "layer")) {
+        // Zero is allowed: a layer without scattering (the Beer-Lambert limit).
+        if (!(*v >= 0 && *v <= 100))
+            doc.fail(layer->get("scattering_scale"), "layer.scattering_scale", fmt::format("must lie in [0, 100] (a factor on the grains' scattering), not {:g}", *v));
+        d.scattering_scale = *v;
+    }
     auto in_range = [&](const char* key, double lo, double hi, double& out, const char* what) {
         if (auto v = doc.number(*layer, key, "layer")) {
             if (!(*v >= lo && *v <= hi)) doc.fail(layer->get(key), key_path("layer", key), fmt::format("must lie in [{:g}, {:g}] ({}), not {:g}", lo, hi, what, *v));
@@ -147,7 +155,8 @@ LayerDesign layer_design_from_toml(const TomlDoc& doc, const std::vector<std::st
     for (std::size_t i = 0; i < comps->size(); ++i) {
         std::string where;
         const toml::table* c = &component_table(doc, components, i, where);
-        doc.only_keys(*c, {"phosphor", "spectrum", "absorption_spectrum", "quantum_efficiency", "loading", "label", "min_loading", "max_loading"}, where);
+        doc.only_keys(*c, {"phosphor", "spectrum", "absorption_spectrum", "quantum_efficiency", "loading", "label", "min_loading", "max_loading",
+                           "brightness_factor"}, where);
         LayerComponent lc;
         lc.loading = doc.require_number(*c, "loading", where);
         if (!(lc.loading > 0) || lc.loading >= 1)
@@ -168,6 +177,11 @@ LayerDesign layer_design_from_toml(const TomlDoc& doc, const std::vector<std::st
         }
         if (auto q = component_quantum_efficiency(doc, *c, where)) lc.quantum_efficiency = *q;
         lc.label = doc.string(*c, "label", where).value_or(lc.phosphor.id);
+        if (auto v = doc.number(*c, "brightness_factor", where)) {
+            if (!(*v > 0) || *v > 20)
+                doc.fail(c->get("brightness_factor"), key_path(where, "brightness_factor"), fmt::format("must be a factor above 0 and at most 20, not {:g}", *v));
+            lc.brightness_factor = *v;
+        }
         // Limits for the fit, as mass fractions of the layer like the loading itself.
         if (auto v = doc.number(*c, "min_loading", where)) {
             if (*v < 0 || *v >= 1)
@@ -194,6 +208,18 @@ LayerDesign layer_design_from_toml(const TomlDoc& doc, const std::vector<std::st
         d.components.push_back(std::move(lc));
     }
     if (total >= 1) doc.fail(comps, "component", fmt::format("loadings add up to {:g}; they must sum below 1 (the rest is binder)", total));
+    if (auto file = doc.string(r, "calibration", "")) {
+        const std::string path = path_relative_to(doc.source(), *file);
+        if (!std::filesystem::exists(path))
+            doc.fail(r.get("calibration"), "calibration", fmt::format("the layer calibration file {} does not exist", path));
+        // Errors inside the calibration file name that file, its line and key.
+        const LayerModelCalibration cal = load_layer_calibration(path);
+        if (apply_calibration) {
+            d.calibration_notes = apply_layer_calibration(cal, d);
+        } else {
+            d.calibration_notes.push_back(fmt::format("the design's calibration {} is not applied here", path));
+        }
+    }
     return d;
 }
 
@@ -210,6 +236,10 @@ std::string layer_design_to_toml(const LayerDesign& d) {
                      "binder_index = {:g}\noutside_index = {:g}\nscattering_asymmetry = {:g}\nreflector_reflectance = {:g}\n",
                      d.thickness_um, d.binder_density_g_per_cm3, d.mass_absorption_cm2_per_g, d.binder_index, d.outside_index,
                      d.scattering_asymmetry, d.reflector_reflectance);
+    // A calibrated design is written with the calibration folded in (kappa, scattering_scale,
+    // brightness_factor), so the file stands alone; the calibration's path goes in a comment.
+    if (d.scattering_scale != 1.0) o += fmt::format("scattering_scale = {}\n", d.scattering_scale);
+    if (!d.calibration.empty()) o += fmt::format("# calibrated with {} (applied in the values above)\n", d.calibration);
     o += fmt::format("\n[operating]\ntemperature_C = {:g}\n", d.temperature_C);
     if (d.junction_temperature_C) o += fmt::format("junction_temperature_C = {:g}\n", *d.junction_temperature_C);
     o += fmt::format("\n[package]\ntop = \"{}\"\n", d.top == LayerDesign::Top::dome ? "dome" : "flat");
@@ -221,6 +251,7 @@ std::string layer_design_to_toml(const LayerDesign& d) {
         if (c.label != c.phosphor.id) o += fmt::format("label = {}\n", toml_quote(c.label));
         o += fmt::format("loading = {:.6f}\n", c.loading);
         if (c.quantum_efficiency) o += fmt::format("quantum_efficiency = {:g}\n", *c.quantum_efficiency);
+        if (c.brightness_factor != 1.0) o += fmt::format("brightness_factor = {}\n", c.brightness_factor);
         if (c.min_loading) o += fmt::format("min_loading = {:g}\n", *c.min_loading);
         if (c.max_loading) o += fmt::format("max_loading = {:g}\n", *c.max_loading);
     }

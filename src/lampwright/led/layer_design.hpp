@@ -8,6 +8,8 @@
 //                mass_absorption_cm2_per_g = 1000                  # optional: kappa for relative absorption 1
 //                binder_index = 1.41   outside_index = 1.0              # optional: silicone, air
 //                scattering_asymmetry = 0.85   reflector_reflectance = 0.9 # optional: grains' g, package
+//                scattering_scale = 1                              # optional: x the grains' scattering coefficient
+//   calibration = "cal.toml"                                        # optional: a layer calibration (lampwright calibrate), relative to the design
 //   [operating]  temperature_C = 85                                # optional
 //   phosphor_folders = ["mine"]                                     # optional
 //   [[component]]
@@ -22,8 +24,10 @@ namespace lampwright {
 
 // True when the document is a layer design (it has a [layer] table).
 bool is_layer_design(const TomlDoc& doc);
+// With apply_calibration false the design's `calibration` is read but not applied (noted in
+// calibration_notes): calibrate fits the uncalibrated model.
 LayerDesign layer_design_from_toml(const TomlDoc& doc, const std::vector<std::string>& extra_folders = {},
-                                   const std::vector<std::string>& extra_root_keys = {});
+                                   const std::vector<std::string>& extra_root_keys = {}, bool apply_calibration = true);
 LayerDesign load_layer_design(const std::string& path, const std::vector<std::string>& extra_folders = {});
 
 // Writes a design back as TOML, loadable by load_layer_design.

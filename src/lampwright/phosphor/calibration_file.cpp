@@ -21,10 +21,7 @@ const CalibratedLampType* ModelCalibration::lamp_type(const std::string& name) c
     return nullptr;
 }
 
-namespace {
-
-// The array of tables `key` ([[key]]), each element checked to be a table.
-std::vector<const toml::table*> tables_of(const TomlDoc& doc, const toml::table& root, const std::string& key) {
+std::vector<const toml::table*> calibration_tables(const TomlDoc& doc, const toml::table& root, const std::string& key) {
     std::vector<const toml::table*> out;
     const toml::array* a = doc.array(root, key, "");
     if (!a) return out;
@@ -36,14 +33,12 @@ std::vector<const toml::table*> tables_of(const TomlDoc& doc, const toml::table&
     return out;
 }
 
-double standard_deviation(const TomlDoc& doc, const toml::table& t, const std::string& key, const std::string& where) {
+double calibration_sd(const TomlDoc& doc, const toml::table& t, const std::string& key, const std::string& where) {
     const auto v = doc.number(t, key, where);
     if (!v) return 0;
     if (*v < 0) doc.fail(t.get(key), key_path(where, key), fmt::format("a standard deviation must not be negative, not {:g}", *v));
     return *v;
 }
-
-}  // namespace
 
 ModelCalibration calibration_from_toml(const TomlDoc& doc) {
     const auto& r = doc.root();
@@ -57,7 +52,7 @@ ModelCalibration calibration_from_toml(const TomlDoc& doc) {
     ModelCalibration cal;
     cal.path = doc.source();
     cal.reference = doc.require_string(r, "reference", "");
-    const auto phosphors = tables_of(doc, r, "phosphor");
+    const auto phosphors = calibration_tables(doc, r, "phosphor");
     for (std::size_t i = 0; i < phosphors.size(); ++i) {
         const toml::table& t = *phosphors[i];
         const std::string where = fmt::format("phosphor[{}]", i + 1);
@@ -70,12 +65,12 @@ ModelCalibration calibration_from_toml(const TomlDoc& doc) {
         if (!(p.absorption_factor > 0) || p.absorption_factor > 1000)
             doc.fail(t.get("absorption_factor"), key_path(where, "absorption_factor"),
                      fmt::format("must be a factor above 0 and at most 1000, not {:g}", p.absorption_factor));
-        p.sd = standard_deviation(doc, t, "absorption_factor_sd", where);
+        p.sd = calibration_sd(doc, t, "absorption_factor_sd", where);
         cal.phosphors.push_back(p);
     }
     if (!cal.phosphor(cal.reference))
         doc.fail(r.get("reference"), "reference", fmt::format("'{}' is not one of the [[phosphor]] ids", cal.reference));
-    const auto types = tables_of(doc, r, "lamp_type");
+    const auto types = calibration_tables(doc, r, "lamp_type");
     for (std::size_t i = 0; i < types.size(); ++i) {
         const toml::table& t = *types[i];
         const std::string where = fmt::format("lamp_type[{}]", i + 1);
@@ -89,7 +84,7 @@ ModelCalibration calibration_from_toml(const TomlDoc& doc) {
         if (lt.mercury_line_fraction < 0 || lt.mercury_line_fraction >= 0.5)
             doc.fail(t.get("mercury_lines"), key_path(where, "mercury_lines"),
                      fmt::format("must be a fraction in [0, 0.5), not {:g} (percent?)", lt.mercury_line_fraction));
-        lt.sd = standard_deviation(doc, t, "mercury_lines_sd", where);
+        lt.sd = calibration_sd(doc, t, "mercury_lines_sd", where);
         cal.lamp_types.push_back(lt);
     }
     return cal;

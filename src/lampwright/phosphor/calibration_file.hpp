@@ -47,6 +47,11 @@ struct ModelCalibration {
     const CalibratedLampType* lamp_type(const std::string& name) const;
 };
 
+// Helpers of the calibration file readers (this one and the layer calibration's): the array of
+// tables `key` ([[key]]), each checked to be a table; an optional standard deviation (>= 0; 0 when absent).
+std::vector<const toml::table*> calibration_tables(const TomlDoc& doc, const toml::table& root, const std::string& key);
+double calibration_sd(const TomlDoc& doc, const toml::table& t, const std::string& key, const std::string& where);
+
 // Reads a calibration file; errors (InputError) name the file, the line and the key.
 ModelCalibration load_calibration(const std::string& path);
 ModelCalibration calibration_from_toml(const TomlDoc& doc);

@@ -22,6 +22,9 @@ const char* kind_name(CalibrationParameterKind k) {
         case CalibrationParameterKind::absorption_factor: return "absorption_factor";
         case CalibrationParameterKind::line_fraction: return "mercury_line_fraction";
         case CalibrationParameterKind::scale: return "scale";
+        case CalibrationParameterKind::mass_absorption_scale: return "mass_absorption_scale";
+        case CalibrationParameterKind::scattering_scale: return "scattering_scale";
+        case CalibrationParameterKind::brightness_factor: return "brightness_factor";
     }
     return "";
 }
@@ -98,6 +101,114 @@ std::string calibration_toml(const CalibrationResult& r, const RunProvenance& pv
         o += fmt::format("\n[[lamp_type]]\nname = {}\nmercury_lines = {}\n", toml_quote(t.name), t.mercury_line_fraction);
         if (std::isfinite(t.sd)) o += fmt::format("mercury_lines_sd = {:.3g}\n", t.sd);
         else o += "# mercury_lines_sd: not determined by the trials\n";
+    }
+    return o;
+}
+
+namespace {
+
+nlohmann::ordered_json parameters_json(const std::vector<CalibrationParameter>& qs, const std::vector<std::vector<double>>& correlation) {
+    nlohmann::ordered_json j;
+    auto& ps = j["parameters"] = nlohmann::ordered_json::array();
+    for (const auto& q : qs)
+        ps.push_back({{"kind", kind_name(q.kind)}, {"name", q.name}, {"value", q.value}, {"sd", number_or_null(q.sd)}, {"start", q.start}});
+    auto& c = j["correlation"] = nlohmann::ordered_json::array();
+    for (const auto& row : correlation) {
+        auto jr = nlohmann::ordered_json::array();
+        for (double v : row) jr.push_back(number_or_null(v));
+        c.push_back(jr);
+    }
+    return j;
+}
+
+}  // namespace
+
+std::string layer_calibration_text(const LayerCalibrationResult& r) {
+    const auto& f = r.fit;
+    std::string o = fmt::format("Layer model calibration on {} module{} ({} points, {} parameters; least squares on the spectra)\n", r.trials.size(),
+                                r.trials.size() == 1 ? "" : "s", f.n, f.p);
+    o += "  trial                     residual  spectrum  design / spectrum\n";
+    for (std::size_t t = 0; t < r.trials.size(); ++t) {
+        const auto& tr = r.trials[t];
+        o += fmt::format("  {:<25} {:>8.4f}  {:<8}  {} / {}\n", tr.label, tr.residual, r.absolute[t] ? "absolute" : "relative", tr.recipe_path, tr.spectrum_path);
+    }
+    o += "  (residual: relative L2 over the measured points within 360-830 nm of model through the bandpass minus measurement)\n";
+    for (const auto& q : f.parameters) {
+        if (q.kind == CalibrationParameterKind::mass_absorption_scale)
+            o += fmt::format("  mass absorption scale (x kappa):          {}\n", value_sd(q.value, q.sd, 4));
+        if (q.kind == CalibrationParameterKind::scattering_scale)
+            o += fmt::format("  scattering scale (x the grains' mu_s):    {}\n", value_sd(q.value, q.sd, 4));
+    }
+    if (!r.reference.empty()) o += fmt::format("  reference phosphor: {} ({})\n", r.reference, r.reference_reason);
+    bool any = false;
+    for (const auto& q : f.parameters) any = any || q.kind == CalibrationParameterKind::brightness_factor;
+    if (any || !r.reference.empty()) {
+        o += "  brightness factors (x the phosphor's quantum efficiency):\n";
+        if (!r.reference.empty()) o += fmt::format("    {:<36} {}\n", r.reference, "1 (reference)");
+        for (const auto& q : f.parameters)
+            if (q.kind == CalibrationParameterKind::brightness_factor) o += fmt::format("    {:<36} {}\n", q.name, value_sd(q.value, q.sd, 4));
+    }
+    bool scales = false;
+    for (const auto& q : f.parameters) scales = scales || q.kind == CalibrationParameterKind::scale;
+    if (scales) {
+        o += "  spectrum scales (free, relative spectra):";
+        for (const auto& q : f.parameters)
+            if (q.kind == CalibrationParameterKind::scale) o += fmt::format(" {} {:.4f}", q.name, q.value);
+        o += "\n";
+    }
+    o += fmt::format("  s = {:.3g} (sqrt(RSS / (n - p))); uncertainties: s^2 (J^T J)^-1 at the optimum; {} ({} evaluations)\n", std::sqrt(f.s2),
+                     f.solver, f.evaluations);
+    return o;
+}
+
+nlohmann::ordered_json layer_calibration_json(const LayerCalibrationResult& r) {
+    nlohmann::ordered_json j;
+    j["model"] = "layer";
+    j["reference"] = r.reference.empty() ? nlohmann::ordered_json(nullptr) : nlohmann::ordered_json(r.reference);
+    j["reference_reason"] = r.reference_reason;
+    const auto pj = parameters_json(r.fit.parameters, r.fit.correlation);
+    j["parameters"] = pj["parameters"];
+    j["correlation"] = pj["correlation"];
+    auto& ts = j["trials"] = nlohmann::ordered_json::array();
+    for (std::size_t t = 0; t < r.trials.size(); ++t) {
+        const auto& tr = r.trials[t];
+        ts.push_back({{"label", tr.label}, {"design", tr.recipe_path}, {"spectrum", tr.spectrum_path}, {"absolute", bool(r.absolute[t])},
+                      {"residual", tr.residual}, {"points", tr.points}});
+    }
+    j["rss"] = r.fit.rss;
+    j["n"] = r.fit.n;
+    j["p"] = r.fit.p;
+    j["s2"] = number_or_null(r.fit.s2);
+    j["solver"] = r.fit.solver;
+    j["evaluations"] = r.fit.evaluations;
+    j["warnings"] = r.warnings;
+    return j;
+}
+
+std::string layer_calibration_toml(const LayerCalibrationResult& r, const RunProvenance& pv) {
+    const auto& c = r.calibration;
+    std::string o = "# lampwright layer calibration (lampwright calibrate on LED modules); named by a layer design as calibration = \"this file\"\n";
+    o += fmt::format("# made {} by lampwright {}: {}\n", pv.time_utc, pv.version, pv.command_line);
+    o += "# trials (relative L2 residual over the measured points within 360-830 nm):\n";
+    for (std::size_t t = 0; t < r.trials.size(); ++t) {
+        const auto& tr = r.trials[t];
+        o += fmt::format("#   {}: {:.5f}  {}  design {}  spectrum {}\n", tr.label, tr.residual, r.absolute[t] ? "absolute" : "relative", tr.recipe_path,
+                         tr.spectrum_path);
+    }
+    if (!r.reference.empty()) o += fmt::format("# reference {}: {}\n", r.reference, r.reference_reason);
+    for (const auto& w : r.warnings) o += "# warning: " + w + "\n";
+    o += fmt::format("format = {}\n", toml_quote(kLayerCalibrationFormat));
+    auto value = [&](const char* key, double v, double sd) {
+        o += fmt::format("{} = {}\n", key, v);
+        if (std::isfinite(sd)) o += fmt::format("{}_sd = {:.3g}\n", key, sd);
+        else o += fmt::format("# {}_sd: not determined by the trials\n", key);
+    };
+    value("mass_absorption_scale", c.mass_absorption_scale, c.mass_absorption_scale_sd);
+    value("scattering_scale", c.scattering_scale, c.scattering_scale_sd);
+    if (!c.reference.empty()) o += fmt::format("reference = {}\n", toml_quote(c.reference));
+    for (const auto& p : c.phosphors) {
+        o += fmt::format("\n[[phosphor]]\nid = {}\n", toml_quote(p.id));
+        value("brightness_factor", p.brightness_factor, p.sd);
     }
     return o;
 }

@@ -35,6 +35,7 @@ nlohmann::ordered_json layer_json(const LayerEvaluation& rep) {
     for (std::size_t i = assessment_columns().size(); i < cols.size(); ++i) j[cols[i]] = vals[i].empty() ? nlohmann::ordered_json(nullptr) : nlohmann::ordered_json(std::stod(vals[i]));
     j["thickness_um"] = rep.design.thickness_um;
     j["method"] = rep.operating.method;
+    j["calibration"] = rep.design.calibration.empty() ? nlohmann::ordered_json(nullptr) : nlohmann::ordered_json(rep.design.calibration);
     j["monte_carlo_photons"] = rep.operating.photons > 0 ? nlohmann::ordered_json(rep.operating.photons) : nlohmann::ordered_json(nullptr);
     auto& comps = j["components"] = nlohmann::ordered_json::array();
     for (std::size_t i = 0; i < rep.operating.components.size(); ++i) {
@@ -118,6 +119,10 @@ std::string layer_text(const LayerEvaluation& rep) {
                      rep.room.assessment.xy.x, rep.room.assessment.xy.y, r.temperature_C, r.assessment.xy.x, r.assessment.xy.y, rep.shift_steps);
     const std::string a = assessment_text(r.assessment);
     o += a.substr(a.find('\n') + 1);
+    if (!d.calibration.empty())
+        o += wrap_text(fmt::format("{} (kappa x its mass absorption scale, the grains' scattering x its scattering scale, each listed phosphor's QE x "
+                                   "its brightness factor)", d.calibration), 100, "  calibrated model: ", "    ");
+    for (const auto& n : d.calibration_notes) o += wrap_text(n, 100, "  note: ", "    ");
     const std::string caution = layer_caution(rep);
     // Wrapped at 100 columns: a one-line caution of 300+ characters is not read.
     if (!caution.empty()) o += wrap_text(caution, 100, "  CAUTION: ", "           ");
