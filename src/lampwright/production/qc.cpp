@@ -2,6 +2,7 @@
 
 #include "lampwright/colour/illuminants.hpp"
 #include "lampwright/core/interpolation.hpp"
+#include "lampwright/core/parallel.hpp"
 #include "lampwright/io/spectrum_io.hpp"
 #include "lampwright/core/statistics.hpp"
 #include "lampwright/core/text_encoding.hpp"
@@ -359,12 +360,7 @@ std::string content_hash(const std::string& bytes) {
     return fmt::format("{:016x}", h);
 }
 
-unsigned qc_worker_count(unsigned requested, std::size_t files) {
-    // More threads than cores only add switching; more than files leave threads idle.
-    const unsigned cores = std::max(1u, std::thread::hardware_concurrency());
-    const unsigned wanted = requested == 0 ? cores : std::min(requested, cores);
-    return static_cast<unsigned>(std::min<std::size_t>(wanted, std::max<std::size_t>(1, files)));
-}
+unsigned qc_worker_count(unsigned requested, std::size_t files) { return worker_count(requested, files); }
 
 namespace {
 
