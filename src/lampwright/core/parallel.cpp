@@ -32,21 +32,24 @@ void parallel_for(std::size_t n, unsigned workers, const std::function<void(std:
             }
         }
     };
-    {
-        // jthreads join when they go out of scope, on every path (a joinable std::thread destroyed
-        // would be std::terminate).
-        std::vector<std::jthread> pool;
-        pool.reserve(workers > 0 ? workers - 1 : 0);
-        for (unsigned t = 1; t < workers; ++t) {
-            try {
-                pool.emplace_back(worker);
-            } catch (const std::system_error&) {
-                break;
-            }
-        }
-        worker();
-    }
+    run_workers(workers, worker);
     if (first) std::rethrow_exception(first);
+}
+
+void run_workers(unsigned workers, const std::function<void()>& worker) {
+    // jthreads join when they go out of scope, on every path: a thread that cannot be started
+    // (std::system_error) leaves the work to those that could, never a joinable std::thread
+    // destroyed (which is std::terminate).
+    std::vector<std::jthread> pool;
+    pool.reserve(workers > 0 ? workers - 1 : 0);
+    for (unsigned t = 1; t < workers; ++t) {
+        try {
+            pool.emplace_back(worker);
+        } catch (const std::system_error&) {
+            break;
+        }
+    }
+    worker();
 }
 
 }  // namespace lampwright

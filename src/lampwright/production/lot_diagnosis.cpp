@@ -1,5 +1,7 @@
 #include "lampwright/production/lot_diagnosis.hpp"
 
+#include "lampwright/core/parallel.hpp"
+
 #include "lampwright/colour/assessment.hpp"
 #include "lampwright/core/error.hpp"
 #include "lampwright/core/interpolation.hpp"
@@ -218,20 +220,14 @@ InlierCorrection correct_from_inliers(const QcSpec& spec, const BlendInput& reci
     }
     const std::size_t nc = recipe.components.size();
     std::vector<std::vector<double>> fractions(centres.size());
-    {
-        const unsigned workers = qc_worker_count(threads, centres.size());
-        std::vector<std::jthread> pool;
-        for (unsigned t = 0; t < workers; ++t)
-            pool.emplace_back([&, t] {
-                for (std::size_t b = t; b < centres.size(); b += workers) {
-                    try {
-                        fractions[b] = correct_recipe(recipe, centres[b], spec.centre, spec.step_ellipse).new_fractions;
-                    } catch (const std::exception&) {
-                        fractions[b].clear();
-                    }
-                }
-            });
-    }
+    // Each resample on its own: a thread that cannot be started leaves its share to the others.
+    parallel_for(centres.size(), qc_worker_count(threads, centres.size()), [&](std::size_t b) {
+        try {
+            fractions[b] = correct_recipe(recipe, centres[b], spec.centre, spec.step_ellipse).new_fractions;
+        } catch (const std::exception&) {
+            fractions[b].clear();
+        }
+    });
     std::vector<std::vector<double>> per_component(nc);
     for (const auto& f : fractions) {
         if (f.size() != nc) {

@@ -463,22 +463,7 @@ QcRun run_qc(const QcSpec& spec, const std::vector<std::string>& inputs, unsigne
         std::lock_guard<std::mutex> lock(centroid_mutex);
         centroid.add(local);
     };
-    threads = qc_worker_count(threads, files.size());
-    {
-        // jthreads join when they go out of scope, on every path: a thread that cannot be started
-        // (std::system_error) leaves the work to those that could, never a joinable std::thread
-        // destroyed (which is std::terminate).
-        std::vector<std::jthread> pool;
-        pool.reserve(threads);
-        for (unsigned t = 1; t < threads; ++t) {
-            try {
-                pool.emplace_back(worker);
-            } catch (const std::system_error&) {
-                break;
-            }
-        }
-        worker();
-    }
+    run_workers(qc_worker_count(threads, files.size()), worker);
     if (unexpected) std::rethrow_exception(unexpected);
     for (std::size_t i = 0; i < files.size(); ++i) {
         if (bad[i]) run.bad_files.push_back(*bad[i]);
