@@ -226,18 +226,16 @@ ToleranceDraw ToleranceModel::nominal_draw() const {
     return d;
 }
 
-std::vector<double> ToleranceModel::share_weights(const ToleranceDraw& d) const {
-    const std::size_t n = nominal_.size();
-    auto share_factor = [&](std::size_t i) {
-        const double a = d.absorption_factor.empty() ? 1.0 : d.absorption_factor[i];
-        const double g = d.d50_factor.empty() || !grain_[i] ? 1.0 : d.d50_factor[i];
-        return a / g;  // g ~ a / (rho d50) for the grain model, g = a otherwise
-    };
-    std::vector<double> w(n);
+double ToleranceModel::share_factor(const ToleranceDraw& d, std::size_t i) const {
+    const double a = d.absorption_factor.empty() ? 1.0 : d.absorption_factor[i];
+    const double g = d.d50_factor.empty() || !grain_[i] ? 1.0 : d.d50_factor[i];
+    return d.mass_fractions[i] * absorption_[i] * a / g;  // g ~ a / (rho d50) for the grain model, g = a otherwise
+}
+
+double ToleranceModel::share_total(const ToleranceDraw& d) const {
     double total = 0;
-    for (std::size_t i = 0; i < n; ++i) total += w[i] = d.mass_fractions[i] * absorption_[i] * share_factor(i);
-    for (std::size_t i = 0; i < n; ++i) w[i] = w[i] / total * d.qe_factor[i];
-    return w;
+    for (std::size_t i = 0; i < nominal_.size(); ++i) total += share_factor(d, i);
+    return total;
 }
 
 std::pair<std::size_t, double> ToleranceModel::weight_position(const ToleranceDraw& d) const {
@@ -250,7 +248,7 @@ std::pair<std::size_t, double> ToleranceModel::weight_position(const ToleranceDr
 }
 
 XYZ ToleranceModel::tristimulus(const ToleranceDraw& d) const {
-    const std::vector<double> weight = share_weights(d);
+    const double total = share_total(d);
     // The mercury lines per W of visible phosphor light at this lamp's coating weight.
     std::array<double, 3> m = m_table_.front();
     if (weight_grid_.size() > 1) {
@@ -258,29 +256,31 @@ XYZ ToleranceModel::tristimulus(const ToleranceDraw& d) const {
         for (std::size_t j = 0; j < 3; ++j) m[j] = (1 - f) * m_table_[k][j] + f * m_table_[k + 1][j];
     }
     std::array<double, 3> sum = leak_;
-    for (std::size_t i = 0; i < weight.size(); ++i) {
-        if (weight[i] == 0) continue;
+    for (std::size_t i = 0; i < nominal_.size(); ++i) {
+        const double weight = share_factor(d, i) / total * d.qe_factor[i];
+        if (weight == 0) continue;
         const auto u = interpolate_rows(table_[i], shift_weights(table_[i].size(), (d.shift_nm[i] - grid_lo_[i]) / grid_step_));
-        for (std::size_t j = 0; j < 3; ++j) sum[j] += weight[i] * (u[j] + u[3] * m[j]);
+        for (std::size_t j = 0; j < 3; ++j) sum[j] += weight * (u[j] + u[3] * m[j]);
     }
     return {sum[0], sum[1], sum[2]};
 }
 
 CesTristimuli ToleranceModel::ces_tristimuli(const ToleranceDraw& d) const {
     if (!has_fidelity()) throw Error("the tolerance model was built without the CIE 224 tables");
-    const std::vector<double> weight = share_weights(d);
+    const double total = share_total(d);
     CesTristimuli m = m_ces_table_.front();
     if (weight_grid_.size() > 1) {
         const auto [k, f] = weight_position(d);
         for (std::size_t j = 0; j < m.size(); ++j) m[j] = (1 - f) * m_ces_table_[k][j] + f * m_ces_table_[k + 1][j];
     }
     CesTristimuli sum = ces_leak_;
-    for (std::size_t i = 0; i < weight.size(); ++i) {
-        if (weight[i] == 0) continue;
+    for (std::size_t i = 0; i < nominal_.size(); ++i) {
+        const double weight = share_factor(d, i) / total * d.qe_factor[i];
+        if (weight == 0) continue;
         const ShiftWeights sw = shift_weights(table_[i].size(), (d.shift_nm[i] - grid_lo_[i]) / grid_step_);
         const auto u = interpolate_rows(ces_table_[i], sw);
         const double visible = interpolate_rows(table_[i], sw)[3];
-        for (std::size_t j = 0; j < sum.size(); ++j) sum[j] += weight[i] * (u[j] + visible * m[j]);
+        for (std::size_t j = 0; j < sum.size(); ++j) sum[j] += weight * (u[j] + visible * m[j]);
     }
     return sum;
 }

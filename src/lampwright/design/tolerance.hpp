@@ -188,9 +188,11 @@ private:
     std::vector<std::vector<CesTristimuli>> ces_table_;
     std::vector<CesTristimuli> m_ces_table_;
     CesTristimuli ces_leak_{};
-    // The shares of a draw (weight of each component's table) and where its coating weight falls
-    // in the M(W) table; shared by tristimulus() and ces_tristimuli().
-    std::vector<double> share_weights(const ToleranceDraw& d) const;
+    // A draw's unnormalised share weight of component i and their sum (component i's table weighs
+    // share_factor / share_total x its QE factor), and where its coating weight falls in the M(W)
+    // table; shared by tristimulus() and ces_tristimuli(), with no allocation per draw.
+    double share_factor(const ToleranceDraw& d, std::size_t i) const;
+    double share_total(const ToleranceDraw& d) const;
     std::pair<std::size_t, double> weight_position(const ToleranceDraw& d) const;
 };
 
