@@ -181,6 +181,8 @@ TEST_CASE("layer sensitivity: central differences are linear in the step and the
 }
 
 TEST_CASE("layer choose: the best 2 of 3 components is at least as good as each pair fitted alone, and k = n is the plain fit") {
+    // The best of a set is no worse than any member; a subset of all components is the plain fit
+    // (definitions; common practice, no source).
     LayerFitProblem p;
     p.design = load_layer_design(LAMPWRIGHT_SOURCE_DIR "/examples/layers/module395_150um.toml");
     p.target = target_cct(4000, 0.0);
